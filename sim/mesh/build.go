@@ -1,0 +1,254 @@
+package mesh
+
+import (
+	"math"
+	"sort"
+)
+
+// planeCells describes a doubly periodic planar mesh as polygons: the
+// generators fill it in and build derives every other array from it.
+type planeCells struct {
+	lx, ly    float64
+	cx, cy    []float64 // cell centres
+	vx, vy    []float64 // vertex positions
+	cellVerts [][]int32 // vertices of each cell, anticlockwise
+}
+
+// wrap returns the periodic image of d closest to zero.
+func wrap(d, l float64) float64 {
+	return d - l*math.Round(d/l)
+}
+
+// build turns the polygon description into a Mesh. Vertices of a cell are
+// unwrapped to the periodic image nearest the cell centre, which is valid
+// while cells are small against the domain (n ≥ 4).
+func (p *planeCells) build(kind Kind, n int) *Mesh {
+	nc, nv := len(p.cx), len(p.vx)
+	m := &Mesh{Kind: kind, N: n, Surface: Surface{Lx: p.lx, Ly: p.ly}}
+	t := &m.Topology
+	t.NCells, t.NVertices = nc, nv
+
+	// Edges, in order of discovery; the first cell to meet an edge is c0.
+	type pair struct{ a, b int32 }
+	edgeOf := make(map[pair]int32)
+	t.CellEdgeStart = make([]int32, nc+1)
+	for i, vs := range p.cellVerts {
+		for k := range vs {
+			va, vb := vs[k], vs[(k+1)%len(vs)]
+			key := pair{min(va, vb), max(va, vb)}
+			e, ok := edgeOf[key]
+			sign := int8(-1)
+			if !ok {
+				e = int32(len(t.CellsOnEdge) / 2)
+				edgeOf[key] = e
+				t.CellsOnEdge = append(t.CellsOnEdge, int32(i), -1)
+				t.VerticesOnEdge = append(t.VerticesOnEdge, va, vb)
+				sign = 1
+			} else {
+				t.CellsOnEdge[2*e+1] = int32(i)
+			}
+			t.CellEdges = append(t.CellEdges, e)
+			t.CellEdgeSign = append(t.CellEdgeSign, sign)
+			t.CellVertices = append(t.CellVertices, vb)
+		}
+		t.CellEdgeStart[i+1] = int32(len(t.CellEdges))
+	}
+	t.NEdges = len(t.CellsOnEdge) / 2
+	ne := t.NEdges
+
+	g := &m.Metric
+	c := &m.Coords
+	c.CellX, c.CellY = p.cx, p.cy
+	c.VertexX, c.VertexY = p.vx, p.vy
+	g.EdgeLength = make([]float64, ne)
+	g.DualLength = make([]float64, ne)
+	c.EdgeX, c.EdgeY = make([]float64, ne), make([]float64, ne)
+	c.NormalX, c.NormalY = make([]float64, ne), make([]float64, ne)
+	for e := 0; e < ne; e++ {
+		c0, c1 := t.CellsOnEdge[2*e], t.CellsOnEdge[2*e+1]
+		v0, v1 := t.VerticesOnEdge[2*e], t.VerticesOnEdge[2*e+1]
+		dx := wrap(p.cx[c1]-p.cx[c0], p.lx)
+		dy := wrap(p.cy[c1]-p.cy[c0], p.ly)
+		d := math.Hypot(dx, dy)
+		g.DualLength[e] = d
+		c.NormalX[e], c.NormalY[e] = dx/d, dy/d
+		c.EdgeX[e] = math.Mod(p.cx[c0]+dx/2+p.lx, p.lx)
+		c.EdgeY[e] = math.Mod(p.cy[c0]+dy/2+p.ly, p.ly)
+		g.EdgeLength[e] = math.Hypot(wrap(p.vx[v1]-p.vx[v0], p.lx), wrap(p.vy[v1]-p.vy[v0], p.ly))
+	}
+
+	// Cell areas and kites, with positions relative to the cell centre.
+	g.CellArea = make([]float64, nc)
+	g.CellKiteArea = make([]float64, len(t.CellEdges))
+	for i := 0; i < nc; i++ {
+		lo, hi := t.EdgesOfCell(i)
+		k := hi - lo
+		for j := 0; j < k; j++ {
+			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
+			v := t.CellVertices[lo+j]
+			px, py := p.rel(i, c.EdgeX[e], c.EdgeY[e])
+			vx, vy := p.rel(i, p.vx[v], p.vy[v])
+			qx, qy := p.rel(i, c.EdgeX[en], c.EdgeY[en])
+			a := (px*vy-py*vx)/2 + (vx*qy-vy*qx)/2
+			g.CellKiteArea[lo+j] = a
+			g.CellArea[i] += a
+		}
+	}
+	m.finishVertices(func(v int, e int32) float64 {
+		x, y := wrap(c.EdgeX[e]-p.vx[v], p.lx), wrap(c.EdgeY[e]-p.vy[v], p.ly)
+		return math.Atan2(y, x)
+	})
+	m.computeWeights()
+	return m
+}
+
+func (p *planeCells) rel(i int, x, y float64) (float64, float64) {
+	return wrap(x-p.cx[i], p.lx), wrap(y-p.cy[i], p.ly)
+}
+
+// finishVertices fills the vertex CSR arrays and the vertex areas from the
+// edge and cell arrays. angle(v, e) orders the edges around a vertex.
+func (m *Mesh) finishVertices(angle func(v int, e int32) float64) {
+	t := &m.Topology
+	g := &m.Metric
+	nv := t.NVertices
+	count := make([]int32, nv+1)
+	for e := 0; e < t.NEdges; e++ {
+		count[t.VerticesOnEdge[2*e]+1]++
+		count[t.VerticesOnEdge[2*e+1]+1]++
+	}
+	for v := 0; v < nv; v++ {
+		count[v+1] += count[v]
+	}
+	t.VertexEdgeStart = count
+	t.VertexEdges = make([]int32, count[nv])
+	fill := append([]int32(nil), count[:nv]...)
+	for e := 0; e < t.NEdges; e++ {
+		for s := 0; s < 2; s++ {
+			v := t.VerticesOnEdge[2*e+s]
+			t.VertexEdges[fill[v]] = int32(e)
+			fill[v]++
+		}
+	}
+	// Kite area of (cell, vertex), looked up from the cell side.
+	kite := func(i, v int32) float64 {
+		lo, hi := t.EdgesOfCell(int(i))
+		for k := lo; k < hi; k++ {
+			if t.CellVertices[k] == v {
+				return g.CellKiteArea[k]
+			}
+		}
+		panic("mesh: vertex not on cell")
+	}
+	t.VertexEdgeSign = make([]int8, len(t.VertexEdges))
+	t.VertexCells = make([]int32, len(t.VertexEdges))
+	g.VertexKiteArea = make([]float64, len(t.VertexEdges))
+	g.VertexArea = make([]float64, nv)
+	for v := 0; v < nv; v++ {
+		lo, hi := t.EdgesOfVertex(v)
+		es := t.VertexEdges[lo:hi]
+		sort.Slice(es, func(a, b int) bool { return angle(v, es[a]) < angle(v, es[b]) })
+		for k := lo; k < hi; k++ {
+			e := t.VertexEdges[k]
+			// n_e is anticlockwise about v1; walking anticlockwise past edge
+			// e moves along n_e when the sign is +1, into c1.
+			if t.VerticesOnEdge[2*e+1] == int32(v) {
+				t.VertexEdgeSign[k] = 1
+				t.VertexCells[k] = t.CellsOnEdge[2*e+1]
+			} else {
+				t.VertexEdgeSign[k] = -1
+				t.VertexCells[k] = t.CellsOnEdge[2*e]
+			}
+			g.VertexKiteArea[k] = kite(t.VertexCells[k], int32(v))
+			g.VertexArea[v] += g.VertexKiteArea[k]
+		}
+	}
+}
+
+// computeWeights fills the TRiSK weights from the kite areas
+// (Thuburn et al. 2009, J. Comput. Phys. 228, eq. 33 and §4; Ringler et al.
+// 2010, J. Comput. Phys. 229, eq. 24): for edges e = e_j and e' = e_{j+k} of
+// cell i, counted anticlockwise,
+//
+//	w^i_{e,e'} = 1/2 − Σ_{m=0}^{k−1} R_{i,v_{j+m}},
+//
+// with R_{i,v} the kite area over the cell area, and
+// W_{e,e'} = Σ_i n_{e,i} n_{e',i} w^i_{e,e'} over the cells shared by both.
+// The within-cell w is antisymmetric because Σ_v R_{i,v} = 1, hence so is W.
+func (m *Mesh) computeWeights() {
+	t := &m.Topology
+	g := &m.Metric
+	g.PairStart = make([]int32, t.NEdges+1)
+	g.PairEdges = g.PairEdges[:0]
+	g.PairWeight = g.PairWeight[:0]
+	for e := 0; e < t.NEdges; e++ {
+		start := len(g.PairEdges)
+		for s := 0; s < 2; s++ {
+			i := int(t.CellsOnEdge[2*e+s])
+			lo, hi := t.EdgesOfCell(i)
+			n := hi - lo
+			j := 0
+			for t.CellEdges[lo+j] != int32(e) || t.CellEdgeSign[lo+j] != int8(1-2*s) {
+				j++
+			}
+			ne := float64(t.CellEdgeSign[lo+j])
+			sum := 0.0
+			for k := 1; k < n; k++ {
+				sum += g.CellKiteArea[lo+(j+k-1)%n] / g.CellArea[i]
+				ep := t.CellEdges[lo+(j+k)%n]
+				w := ne * float64(t.CellEdgeSign[lo+(j+k)%n]) * (0.5 - sum)
+				merged := false
+				for q := start; q < len(g.PairEdges); q++ {
+					if g.PairEdges[q] == ep {
+						g.PairWeight[q] += w
+						merged = true
+					}
+				}
+				if !merged {
+					g.PairEdges = append(g.PairEdges, ep)
+					g.PairWeight = append(g.PairWeight, w)
+				}
+			}
+		}
+		g.PairStart[e+1] = int32(len(g.PairEdges))
+	}
+}
+
+// Dual returns the dual mesh: cells and vertices swap, edges keep their
+// index, the new normal is the old tangent. The dual of the hexagonal mesh
+// is the triangular mesh.
+func (m *Mesh) Dual(kind Kind) *Mesh {
+	t, g, c := &m.Topology, &m.Metric, &m.Coords
+	d := &Mesh{Kind: kind, N: m.N, Surface: m.Surface}
+	dt, dg, dc := &d.Topology, &d.Metric, &d.Coords
+	dt.NCells, dt.NEdges, dt.NVertices = t.NVertices, t.NEdges, t.NCells
+	dt.CellsOnEdge = make([]int32, 2*t.NEdges)
+	dt.VerticesOnEdge = make([]int32, 2*t.NEdges)
+	for e := 0; e < t.NEdges; e++ {
+		dt.CellsOnEdge[2*e], dt.CellsOnEdge[2*e+1] = t.VerticesOnEdge[2*e], t.VerticesOnEdge[2*e+1]
+		dt.VerticesOnEdge[2*e], dt.VerticesOnEdge[2*e+1] = t.CellsOnEdge[2*e+1], t.CellsOnEdge[2*e]
+	}
+	dt.CellEdgeStart, dt.CellEdges, dt.CellVertices = t.VertexEdgeStart, t.VertexEdges, t.VertexCells
+	dt.CellEdgeSign = make([]int8, len(t.VertexEdgeSign))
+	for k, s := range t.VertexEdgeSign {
+		dt.CellEdgeSign[k] = -s
+	}
+	dt.VertexEdgeStart, dt.VertexEdges, dt.VertexCells = t.CellEdgeStart, t.CellEdges, t.CellVertices
+	dt.VertexEdgeSign = t.CellEdgeSign
+
+	dg.CellArea, dg.VertexArea = g.VertexArea, g.CellArea
+	dg.EdgeLength, dg.DualLength = g.DualLength, g.EdgeLength
+	dg.CellKiteArea, dg.VertexKiteArea = g.VertexKiteArea, g.CellKiteArea
+
+	dc.CellX, dc.CellY, dc.CellZ = c.VertexX, c.VertexY, c.VertexZ
+	dc.VertexX, dc.VertexY, dc.VertexZ = c.CellX, c.CellY, c.CellZ
+	dc.EdgeX, dc.EdgeY, dc.EdgeZ = c.EdgeX, c.EdgeY, c.EdgeZ
+	// n_new = t_old = k × n_old.
+	dc.NormalX = make([]float64, t.NEdges)
+	dc.NormalY = make([]float64, t.NEdges)
+	for e := range dc.NormalX {
+		dc.NormalX[e], dc.NormalY[e] = -c.NormalY[e], c.NormalX[e]
+	}
+	d.computeWeights()
+	return d
+}

@@ -1,0 +1,237 @@
+// Package mesh holds the C-grid meshes of gyrebench: their topology, their
+// metric and the generators that build them.
+//
+// A Mesh is three separate objects.
+//
+//   - Topology: cells, edges and vertices and their oriented incidence, in
+//     integers only. The discrete exterior derivatives (gradient, curl,
+//     divergence) are the signed incidence relations, so curl·grad = 0 and
+//     div·curlᵀ = 0 hold exactly, whatever the metric.
+//   - Metric: primal and dual edge lengths, cell, vertex and kite areas, and
+//     the TRiSK tangential-flux weights (Thuburn, Ringler, Skamarock & Klemp
+//     2009, J. Comput. Phys. 228, 8321–8335). Schemes see the topology and the
+//     metric, never coordinates.
+//   - Coords: positions and edge normal vectors, used by initial conditions,
+//     output and drawing only.
+//
+// # Conventions
+//
+// Edge e joins cells c0 = CellsOnEdge[2e] and c1 = CellsOnEdge[2e+1]; its
+// unit normal n_e points from c0 to c1. It joins vertices
+// v0 = VerticesOnEdge[2e] and v1 = VerticesOnEdge[2e+1]; its tangent
+// t_e = k × n_e points from v0 to v1. The normal velocity u_e is the
+// component along n_e.
+//
+// Cell i lists its edges anticlockwise in
+// CellEdges[CellEdgeStart[i]:CellEdgeStart[i+1]]; CellEdgeSign is +1 where
+// n_e points out of the cell. CellVertices, in the same index range, holds
+// the vertex that follows each edge anticlockwise (between edge k and edge
+// k+1), and CellKiteArea the area of that vertex's kite inside the cell.
+//
+// Vertex v lists its edges anticlockwise in
+// VertexEdges[VertexEdgeStart[v]:VertexEdgeStart[v+1]]; VertexEdgeSign is +1
+// where n_e points anticlockwise about v (that is, where v = v1 of the
+// edge). VertexCells, in the same range, holds the cell that follows each
+// edge anticlockwise, and VertexKiteArea its kite area.
+//
+// The TRiSK weights are stored per edge in CSR form:
+// PairEdges[PairStart[e]:PairStart[e+1]] are the edges e' of the two cells
+// of e (e itself excluded) and PairWeight the matching W_{e,e'}, so that the
+// tangential mass flux per unit length is
+//
+//	F⊥_e = (1/d_e) Σ_{e'} W_{e,e'} l_{e'} F_{e'},
+//
+// with W antisymmetric (W_{e,e'} = −W_{e',e}), which is what makes the
+// Coriolis term energy-neutral.
+package mesh
+
+import (
+	"fmt"
+	"math"
+)
+
+// Kind names a grid family.
+type Kind string
+
+// Grid families.
+const (
+	Quad        Kind = "quad"
+	Hex         Kind = "hex"
+	Tri         Kind = "tri"
+	Icosahedral Kind = "icosahedral"
+)
+
+// Kinds lists the grid families, in the order a user meets them.
+var Kinds = []Kind{Quad, Hex, Tri, Icosahedral}
+
+// Surface describes the manifold a mesh covers.
+type Surface struct {
+	// Sphere is true for a sphere of radius Radius; otherwise the mesh is a
+	// doubly periodic plane of size Lx × Ly.
+	Sphere bool
+	Lx, Ly float64
+	Radius float64
+}
+
+// Area returns the total area of the surface.
+func (s Surface) Area() float64 {
+	if s.Sphere {
+		return 4 * math.Pi * s.Radius * s.Radius
+	}
+	return s.Lx * s.Ly
+}
+
+// Topology is the oriented incidence of a mesh, in integers only.
+// See the package documentation for the layout.
+type Topology struct {
+	NCells, NEdges, NVertices int
+
+	CellsOnEdge    []int32 // 2 per edge: c0, c1
+	VerticesOnEdge []int32 // 2 per edge: v0, v1
+
+	CellEdgeStart []int32 // NCells+1
+	CellEdges     []int32
+	CellEdgeSign  []int8
+	CellVertices  []int32
+
+	VertexEdgeStart []int32 // NVertices+1
+	VertexEdges     []int32
+	VertexEdgeSign  []int8
+	VertexCells     []int32
+}
+
+// Metric holds lengths, areas and weights: everything a scheme needs that
+// is not incidence. See the package documentation for the layout.
+type Metric struct {
+	CellArea   []float64 // A_i
+	VertexArea []float64 // A_v, the dual cell area (sum of its kites)
+	EdgeLength []float64 // l_e, primal edge (between vertices)
+	DualLength []float64 // d_e, dual edge (between cell centres)
+
+	CellKiteArea   []float64 // parallel to CellVertices
+	VertexKiteArea []float64 // parallel to VertexCells
+
+	PairStart  []int32 // NEdges+1
+	PairEdges  []int32
+	PairWeight []float64 // W_{e,e'}
+}
+
+// Coords holds positions, for initial conditions, output and drawing.
+// On the plane Z is nil and X, Y are metres in [0, Lx) × [0, Ly). On the
+// sphere X, Y, Z are Cartesian metres on the sphere of radius Radius.
+type Coords struct {
+	CellX, CellY, CellZ       []float64
+	VertexX, VertexY, VertexZ []float64
+	EdgeX, EdgeY, EdgeZ       []float64 // where the dual edge crosses the primal edge
+	NormalX, NormalY, NormalZ []float64 // unit n_e
+}
+
+// Mesh is one C-grid: topology, metric and coordinates, and the
+// parameters it was built from.
+type Mesh struct {
+	Kind    Kind
+	N       int // cells per side on the plane; refinement level on the sphere
+	Surface Surface
+	Topology
+	Metric
+	Coords
+}
+
+// MaxCells bounds the size of a mesh so that a mistyped resolution fails
+// with a message instead of exhausting memory. About 1 kB per cell is held
+// by a running model, so this is a few GB.
+const MaxCells = 4 << 20
+
+// Spec says which mesh to build.
+type Spec struct {
+	Kind   Kind
+	N      int
+	Length float64 // plane: side length in x (m)
+	Radius float64 // sphere radius (m)
+}
+
+// Cells returns the number of cells the spec would build, or an error
+// naming the field when the spec is invalid.
+func (s Spec) Cells() (int, error) {
+	switch s.Kind {
+	case Quad, Hex, Tri:
+		if s.N < 4 {
+			return 0, fmt.Errorf("grid.n = %d: the %s grid needs n ≥ 4", s.N, s.Kind)
+		}
+		if s.Kind != Quad && s.N%2 != 0 {
+			return 0, fmt.Errorf("grid.n = %d: the %s grid needs an even n (periodic rows)", s.N, s.Kind)
+		}
+		if s.N > 1<<12 {
+			return 0, fmt.Errorf("grid.n = %d: too large, at most %d cells are allowed", s.N, MaxCells)
+		}
+		if !(s.Length > 0) || math.IsInf(s.Length, 0) {
+			return 0, fmt.Errorf("grid.length = %g: must be a positive number of metres", s.Length)
+		}
+		c := s.N * s.N
+		if s.Kind == Tri {
+			c *= 2
+		}
+		if c > MaxCells {
+			return 0, fmt.Errorf("grid.n = %d: %d cells is too large, at most %d are allowed", s.N, c, MaxCells)
+		}
+		return c, nil
+	case Icosahedral:
+		if s.N < 0 || s.N > 9 {
+			return 0, fmt.Errorf("grid.n = %d: the icosahedral level must be 0 to 9", s.N)
+		}
+		c := 10<<(2*s.N) + 2
+		if c > MaxCells {
+			return 0, fmt.Errorf("grid.n = %d: %d cells is too large, at most %d are allowed", s.N, c, MaxCells)
+		}
+		if !(s.Radius > 0) || math.IsInf(s.Radius, 0) {
+			return 0, fmt.Errorf("physics.radius = %g: must be a positive number of metres", s.Radius)
+		}
+		return c, nil
+	}
+	return 0, fmt.Errorf("grid.kind = %q: unknown; allowed: quad, hex, tri, icosahedral", s.Kind)
+}
+
+// New builds the mesh described by spec.
+func New(spec Spec) (*Mesh, error) {
+	if _, err := spec.Cells(); err != nil {
+		return nil, err
+	}
+	switch spec.Kind {
+	case Quad:
+		return newQuad(spec.N, spec.Length), nil
+	case Hex:
+		return newHex(spec.N, spec.Length), nil
+	case Tri:
+		return newHex(spec.N, spec.Length).Dual(Tri), nil
+	}
+	return nil, fmt.Errorf("grid.kind = %q: not available yet; allowed: quad, hex, tri", spec.Kind)
+}
+
+// EdgesOfCell returns the index range of cell i in the cell CSR arrays.
+func (t *Topology) EdgesOfCell(i int) (lo, hi int) {
+	return int(t.CellEdgeStart[i]), int(t.CellEdgeStart[i+1])
+}
+
+// EdgesOfVertex returns the index range of vertex v in the vertex CSR arrays.
+func (t *Topology) EdgesOfVertex(v int) (lo, hi int) {
+	return int(t.VertexEdgeStart[v]), int(t.VertexEdgeStart[v+1])
+}
+
+// MaxCellEdges returns the largest number of edges of any cell.
+func (t *Topology) MaxCellEdges() int {
+	m := 0
+	for i := 0; i < t.NCells; i++ {
+		lo, hi := t.EdgesOfCell(i)
+		m = max(m, hi-lo)
+	}
+	return m
+}
+
+// Spacing returns the mean distance between neighbouring cell centres.
+func (m *Metric) Spacing() float64 {
+	s := 0.0
+	for _, d := range m.DualLength {
+		s += d
+	}
+	return s / float64(len(m.DualLength))
+}

@@ -1,0 +1,201 @@
+package mesh
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+func planarMeshes(t *testing.T) []*Mesh {
+	t.Helper()
+	var ms []*Mesh
+	for _, k := range []Kind{Quad, Hex, Tri} {
+		for _, n := range []int{4, 6, 12} {
+			m, err := New(Spec{Kind: k, N: n, Length: 1e6})
+			if err != nil {
+				t.Fatal(err)
+			}
+			ms = append(ms, m)
+		}
+	}
+	return ms
+}
+
+func TestCountsAndEuler(t *testing.T) {
+	for _, m := range planarMeshes(t) {
+		n := m.N
+		want := map[Kind][3]int{Quad: {n * n, 2 * n * n, n * n}, Hex: {n * n, 3 * n * n, 2 * n * n}, Tri: {2 * n * n, 3 * n * n, n * n}}[m.Kind]
+		if m.NCells != want[0] || m.NEdges != want[1] || m.NVertices != want[2] {
+			t.Errorf("%s n=%d: cells, edges, vertices = %d, %d, %d; want %v", m.Kind, n, m.NCells, m.NEdges, m.NVertices, want)
+		}
+		// Euler characteristic of the torus is 0.
+		if chi := m.NVertices - m.NEdges + m.NCells; chi != 0 {
+			t.Errorf("%s n=%d: V − E + F = %d, want 0 on the torus", m.Kind, n, chi)
+		}
+	}
+}
+
+func TestAreasAndKites(t *testing.T) {
+	for _, m := range planarMeshes(t) {
+		total := m.Surface.Area()
+		var sc, sv float64
+		for _, a := range m.CellArea {
+			if !(a > 0) {
+				t.Fatalf("%s: non-positive cell area %g", m.Kind, a)
+			}
+			sc += a
+		}
+		for _, a := range m.VertexArea {
+			if !(a > 0) {
+				t.Fatalf("%s: non-positive vertex area %g", m.Kind, a)
+			}
+			sv += a
+		}
+		if math.Abs(sc-total) > 1e-12*total || math.Abs(sv-total) > 1e-12*total {
+			t.Errorf("%s n=%d: Σ cell area %g, Σ vertex area %g, surface %g", m.Kind, m.N, sc, sv, total)
+		}
+		for _, a := range m.CellKiteArea {
+			if !(a > 0) {
+				t.Fatalf("%s: non-positive kite %g", m.Kind, a)
+			}
+		}
+		// Orthogonal C-grid: Σ_e l_e d_e / 2 = total area (diamond areas).
+		s := 0.0
+		for e := range m.EdgeLength {
+			s += m.EdgeLength[e] * m.DualLength[e] / 2
+		}
+		if math.Abs(s-total) > 1e-12*total {
+			t.Errorf("%s n=%d: Σ l d / 2 = %g, want %g", m.Kind, m.N, s, total)
+		}
+	}
+}
+
+// The discrete exterior derivatives are signed incidence: curl·grad = 0 and
+// div·curlᵀ = 0 must hold in integer arithmetic for every field.
+func TestExactSequence(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	for _, m := range planarMeshes(t) {
+		for trial := 0; trial < 3; trial++ {
+			h := make([]int64, m.NCells)
+			for i := range h {
+				h[i] = rng.Int64N(1<<40) - 1<<39
+			}
+			psi := make([]int64, m.NVertices)
+			for i := range psi {
+				psi[i] = rng.Int64N(1<<40) - 1<<39
+			}
+			grad := make([]int64, m.NEdges)
+			skew := make([]int64, m.NEdges)
+			for e := 0; e < m.NEdges; e++ {
+				grad[e] = h[m.CellsOnEdge[2*e+1]] - h[m.CellsOnEdge[2*e]]
+				skew[e] = psi[m.VerticesOnEdge[2*e+1]] - psi[m.VerticesOnEdge[2*e]]
+			}
+			for v := 0; v < m.NVertices; v++ {
+				lo, hi := m.EdgesOfVertex(v)
+				var c int64
+				for k := lo; k < hi; k++ {
+					c += int64(m.VertexEdgeSign[k]) * grad[m.VertexEdges[k]]
+				}
+				if c != 0 {
+					t.Fatalf("%s n=%d: curl·grad = %d at vertex %d", m.Kind, m.N, c, v)
+				}
+			}
+			for i := 0; i < m.NCells; i++ {
+				lo, hi := m.EdgesOfCell(i)
+				var d int64
+				for k := lo; k < hi; k++ {
+					d += int64(m.CellEdgeSign[k]) * skew[m.CellEdges[k]]
+				}
+				if d != 0 {
+					t.Fatalf("%s n=%d: div·curlᵀ = %d at cell %d", m.Kind, m.N, d, i)
+				}
+			}
+		}
+	}
+}
+
+// Thuburn et al. (2009, J. Comput. Phys. 228, §3–4): W antisymmetric, and
+// the tangential flux is compatible with the kite-interpolated vertex
+// thickness: A_v ∂h_v/∂t = Σ_e t_{e,v} d_e F⊥_e when ∂h_i/∂t = −div F.
+func TestTRiSKWeights(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for _, m := range planarMeshes(t) {
+		w := map[[2]int32]float64{}
+		for e := 0; e < m.NEdges; e++ {
+			for q := m.PairStart[e]; q < m.PairStart[e+1]; q++ {
+				w[[2]int32{int32(e), m.PairEdges[q]}] = m.PairWeight[q]
+			}
+		}
+		for k, v := range w {
+			if back := w[[2]int32{k[1], k[0]}]; math.Abs(v+back) > 1e-14 {
+				t.Fatalf("%s n=%d: W[%d,%d] = %g but W[%d,%d] = %g", m.Kind, m.N, k[0], k[1], v, k[1], k[0], back)
+			}
+		}
+		F := make([]float64, m.NEdges)
+		for e := range F {
+			F[e] = rng.NormFloat64()
+		}
+		perp := make([]float64, m.NEdges) // d_e F⊥_e
+		for e := 0; e < m.NEdges; e++ {
+			for q := m.PairStart[e]; q < m.PairStart[e+1]; q++ {
+				ep := m.PairEdges[q]
+				perp[e] += m.PairWeight[q] * m.EdgeLength[ep] * F[ep]
+			}
+		}
+		div := make([]float64, m.NCells)
+		for i := range div {
+			lo, hi := m.EdgesOfCell(i)
+			for k := lo; k < hi; k++ {
+				e := m.CellEdges[k]
+				div[i] += float64(m.CellEdgeSign[k]) * m.EdgeLength[e] * F[e]
+			}
+			div[i] /= m.CellArea[i]
+		}
+		for v := 0; v < m.NVertices; v++ {
+			lo, hi := m.EdgesOfVertex(v)
+			var lhs, rhs float64
+			for k := lo; k < hi; k++ {
+				lhs -= m.VertexKiteArea[k] * div[m.VertexCells[k]]
+				rhs += float64(m.VertexEdgeSign[k]) * perp[m.VertexEdges[k]]
+			}
+			if math.Abs(lhs-rhs) > 1e-9*m.Spacing() {
+				t.Fatalf("%s n=%d vertex %d: A_v ∂h_v/∂t = %g, Σ t d F⊥ = %g", m.Kind, m.N, v, lhs, rhs)
+			}
+		}
+		// A uniform flow is reconstructed exactly on these regular grids:
+		// F⊥_e = F · t_e with t_e = k × n_e.
+		fx, fy := 0.3, -1.1
+		for e := 0; e < m.NEdges; e++ {
+			F[e] = fx*m.NormalX[e] + fy*m.NormalY[e]
+		}
+		for e := 0; e < m.NEdges; e++ {
+			s := 0.0
+			for q := m.PairStart[e]; q < m.PairStart[e+1]; q++ {
+				ep := m.PairEdges[q]
+				s += m.PairWeight[q] * m.EdgeLength[ep] * F[ep]
+			}
+			s /= m.DualLength[e]
+			want := -fx*m.NormalY[e] + fy*m.NormalX[e]
+			if math.Abs(s-want) > 1e-12 {
+				t.Fatalf("%s n=%d edge %d: F⊥ = %g, want %g", m.Kind, m.N, e, s, want)
+			}
+		}
+	}
+}
+
+func TestSpecErrors(t *testing.T) {
+	for _, s := range []Spec{
+		{Kind: Quad, N: 2, Length: 1},
+		{Kind: Hex, N: 5, Length: 1},
+		{Kind: Quad, N: 100000, Length: 1},
+		{Kind: Quad, N: 8, Length: -1},
+		{Kind: "pentagon", N: 8, Length: 1},
+		{Kind: Icosahedral, N: 12, Radius: 1},
+	} {
+		if _, err := New(s); err == nil {
+			t.Errorf("New(%+v) accepted an invalid spec", s)
+		} else if msg := err.Error(); len(msg) < 10 {
+			t.Errorf("New(%+v): unhelpful error %q", s, msg)
+		}
+	}
+}

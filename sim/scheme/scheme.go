@@ -1,0 +1,121 @@
+// Package scheme computes shallow-water tendencies on C-grids.
+//
+// The prognostic state is one flat vector x = [h | u]: the fluid depth h_i
+// on the NCells cells followed by the normal velocity u_e on the NEdges
+// edges. A Scheme sets dst = dx/dt for the vector-invariant equations
+//
+//	∂h/∂t = −∇·(h u)
+//	∂u/∂t = −q (h u)⊥ − ∇(K + g(h + b))
+//
+// with q = (ζ + f)/h the potential vorticity. Schemes differ only in how q
+// is brought to the edges for the PV flux, which decides what they
+// conserve:
+//
+//   - trisk-energy: TRiSK with q_{ee'} = (q_e + q_{e'})/2, which makes the
+//     Coriolis operator antisymmetric and so conserves total energy
+//     (Ringler, Thuburn, Klemp & Skamarock 2010, J. Comput. Phys. 229, §4).
+//   - trisk-enstrophy: TRiSK with q_{ee'} = q_e, which conserves potential
+//     enstrophy but not energy (same paper, §5).
+//   - apvm: trisk-energy with the anticipated potential vorticity method,
+//     q̂_e = q_e − c Δt (u_e ∂q/∂n + v_e ∂q/∂t), c = 1/2 by default
+//     (Sadourny & Basdevant 1985, J. Atmos. Sci. 42; as used by Ringler et
+//     al. 2010, §5: from memory). It dissipates potential enstrophy.
+//   - al81: Arakawa & Lamb (1981, Mon. Wea. Rev. 109, 18–36), conserving
+//     energy and potential enstrophy on the square grid only.
+//
+// A scheme sees topology and metric (ops.Grid), never coordinates.
+// Tendency allocates nothing; its loops run on a par.Pool and give
+// bit-identical results for any number of workers.
+package scheme
+
+import (
+	"fmt"
+	"strings"
+
+	"gyrebench/sim/ops"
+	"gyrebench/sim/par"
+)
+
+// Scheme names.
+const (
+	TRiSKEnergy    = "trisk-energy"
+	TRiSKEnstrophy = "trisk-enstrophy"
+	APVM           = "apvm"
+	AL81           = "al81"
+)
+
+// Names lists every scheme.
+var Names = []string{TRiSKEnergy, TRiSKEnstrophy, APVM, AL81}
+
+// Physics holds the fields a tendency needs besides the state.
+type Physics struct {
+	G       float64   // gravity, m s⁻²
+	FVertex []float64 // Coriolis parameter at vertices, s⁻¹
+	Bottom  []float64 // bottom height at cells, m; nil means flat
+}
+
+// Options tunes a scheme.
+type Options struct {
+	// APVMFactor is c in q̂ = q − c Δt u·∇q; 0 means the default 1/2.
+	APVMFactor float64
+}
+
+// Scheme computes the tendency of a state.
+type Scheme interface {
+	// Name returns the scheme's name, one of Names.
+	Name() string
+	// Tendency sets dst = dx/dt for x = [h | u]. dst and x must not alias.
+	Tendency(dst, x []float64)
+	// SetDt tells the scheme the time step, for schemes that anticipate.
+	SetDt(dt float64)
+}
+
+// Available returns the schemes that can run on the grid.
+func Available(g ops.Grid) []string {
+	if isSquare(g) {
+		return Names
+	}
+	return []string{TRiSKEnergy, TRiSKEnstrophy, APVM}
+}
+
+// isSquare reports whether every cell has four edges and every vertex four
+// edges: the topology the Arakawa–Lamb stencil is written for.
+func isSquare(g ops.Grid) bool {
+	for i := 0; i < g.NCells; i++ {
+		if g.CellEdgeStart[i+1]-g.CellEdgeStart[i] != 4 {
+			return false
+		}
+	}
+	for v := 0; v < g.NVertices; v++ {
+		if g.VertexEdgeStart[v+1]-g.VertexEdgeStart[v] != 4 {
+			return false
+		}
+	}
+	return true
+}
+
+// New builds the named scheme on the grid.
+func New(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options) (Scheme, error) {
+	if len(phys.FVertex) != g.NVertices {
+		return nil, fmt.Errorf("scheme: %d Coriolis values for %d vertices", len(phys.FVertex), g.NVertices)
+	}
+	if phys.Bottom != nil && len(phys.Bottom) != g.NCells {
+		return nil, fmt.Errorf("scheme: %d bottom heights for %d cells", len(phys.Bottom), g.NCells)
+	}
+	if opt.APVMFactor < 0 {
+		return nil, fmt.Errorf("scheme.apvm_factor = %g: must be ≥ 0", opt.APVMFactor)
+	}
+	if opt.APVMFactor == 0 {
+		opt.APVMFactor = 0.5
+	}
+	switch name {
+	case TRiSKEnergy, TRiSKEnstrophy, APVM:
+		return newTRiSK(name, g, phys, pool, opt), nil
+	case AL81:
+		if !isSquare(g) {
+			return nil, fmt.Errorf("scheme.name = %q needs the quad grid; available on this grid: %s", name, strings.Join(Available(g), ", "))
+		}
+		return newAL81(g, phys, pool), nil
+	}
+	return nil, fmt.Errorf("scheme.name = %q: unknown; allowed: %s", name, strings.Join(Names, ", "))
+}

@@ -1,0 +1,199 @@
+package scheme
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"gyrebench/sim/mesh"
+	"gyrebench/sim/ops"
+	"gyrebench/sim/par"
+)
+
+type fixture struct {
+	m    *mesh.Mesh
+	g    ops.Grid
+	phys Physics
+	x    []float64
+}
+
+// randomFixture builds a mesh and a random state with depth 1000 m ± 10 %,
+// velocities of order 10 m/s, f of order 1e-4 s⁻¹ varying in space and a
+// random bottom.
+func randomFixture(t testing.TB, kind mesh.Kind, n int, seed uint64) fixture {
+	t.Helper()
+	m, err := mesh.New(mesh.Spec{Kind: kind, N: n, Length: 2e6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(seed, 7))
+	f := fixture{m: m, g: ops.Grid{Topology: &m.Topology, Metric: &m.Metric}}
+	f.phys = Physics{G: 9.80616, FVertex: make([]float64, m.NVertices), Bottom: make([]float64, m.NCells)}
+	for v := range f.phys.FVertex {
+		f.phys.FVertex[v] = 1e-4 * (1 + 0.3*rng.NormFloat64())
+	}
+	f.x = make([]float64, m.NCells+m.NEdges)
+	for i := 0; i < m.NCells; i++ {
+		f.x[i] = 1000 * (1 + 0.1*(rng.Float64()-0.5))
+		f.phys.Bottom[i] = 50 * rng.Float64()
+	}
+	for e := 0; e < m.NEdges; e++ {
+		f.x[m.NCells+e] = 10 * rng.NormFloat64()
+	}
+	return f
+}
+
+// rates returns dM/dt, dE/dt and dZ/dt from the tendency, each with the sum
+// of the absolute values of its terms, by the chain rule through the
+// gradients of mass, energy E = Σ_e (l d/2) h_e u_e² + Σ_i A_i g (h²/2 + h b)
+// and potential enstrophy Z = Σ_v A_v h_v q_v²/2.
+func rates(f fixture, dx []float64) (dm, sm, de, se, dz, sz float64) {
+	g, m := f.g, f.m
+	nc := m.NCells
+	h, u := f.x[:nc], f.x[nc:]
+	dh, du := dx[:nc], dx[nc:]
+	he, flux := make([]float64, m.NEdges), make([]float64, m.NEdges)
+	g.EdgeMean(he, flux, h, u, 0, m.NEdges)
+	ke := make([]float64, nc)
+	g.DivKE(nil, ke, flux, u, 0, nc)
+	zeta, hv := make([]float64, m.NVertices), make([]float64, m.NVertices)
+	g.Vorticity(zeta, hv, u, h, 0, m.NVertices)
+	q := make([]float64, m.NVertices)
+	for v := range q {
+		q[v] = (zeta[v] + f.phys.FVertex[v]) / hv[v]
+	}
+	dzdh := make([]float64, nc)
+	for v := 0; v < m.NVertices; v++ {
+		lo, hi := g.EdgesOfVertex(v)
+		for k := lo; k < hi; k++ {
+			dzdh[g.VertexCells[k]] -= g.VertexKiteArea[k] * q[v] * q[v] / 2
+		}
+	}
+	for i := 0; i < nc; i++ {
+		a := g.CellArea[i]
+		dm += a * dh[i]
+		sm += math.Abs(a * dh[i])
+		t := a * (ke[i] + f.phys.G*(h[i]+f.phys.Bottom[i])) * dh[i]
+		de += t
+		se += math.Abs(t)
+		dz += dzdh[i] * dh[i]
+		sz += math.Abs(dzdh[i] * dh[i])
+	}
+	for e := 0; e < m.NEdges; e++ {
+		t := g.EdgeLength[e] * g.DualLength[e] * flux[e] * du[e]
+		de += t
+		se += math.Abs(t)
+		v0, v1 := g.VerticesOnEdge[2*e], g.VerticesOnEdge[2*e+1]
+		t = g.DualLength[e] * (q[v1] - q[v0]) * du[e]
+		dz += t
+		sz += math.Abs(t)
+	}
+	return
+}
+
+// Semi-discrete conservation, independent of time stepping: the rate of
+// change of each invariant through the chain rule must vanish to round-off
+// (|dX/dt| ≤ 1e-12 Σ|terms|) where theory says it is conserved: energy for
+// trisk-energy (Ringler et al. 2010, J. Comput. Phys. 229, §4) and al81
+// (Arakawa & Lamb 1981, Mon. Wea. Rev. 109, §3), potential enstrophy for
+// trisk-enstrophy (Ringler et al. 2010, §5) and al81. The partner scheme of
+// each pair must miss the bound by orders of magnitude, so the bound is
+// not met trivially.
+func TestSemiDiscreteConservation(t *testing.T) {
+	const tol = 1e-12
+	cases := []struct {
+		scheme           string
+		kinds            []mesh.Kind
+		energy, enstroph bool
+	}{
+		{TRiSKEnergy, []mesh.Kind{mesh.Quad, mesh.Hex, mesh.Tri}, true, false},
+		{TRiSKEnstrophy, []mesh.Kind{mesh.Quad, mesh.Hex, mesh.Tri}, false, true},
+		{APVM, []mesh.Kind{mesh.Quad, mesh.Hex, mesh.Tri}, true, false},
+		{AL81, []mesh.Kind{mesh.Quad}, true, true},
+	}
+	pool := par.New(1)
+	for _, c := range cases {
+		for _, kind := range c.kinds {
+			for seed := uint64(1); seed <= 3; seed++ {
+				f := randomFixture(t, kind, 8, seed)
+				s, err := New(c.scheme, f.g, f.phys, pool, Options{})
+				if err != nil {
+					t.Fatal(err)
+				}
+				s.SetDt(100)
+				dx := make([]float64, len(f.x))
+				s.Tendency(dx, f.x)
+				dm, sm, de, se, dz, sz := rates(f, dx)
+				if math.Abs(dm) > tol*sm {
+					t.Errorf("%s on %s: dM/dt = %g with Σ|terms| = %g", c.scheme, kind, dm, sm)
+				}
+				check := func(name string, conserved bool, d, s float64) {
+					r := math.Abs(d) / s
+					switch {
+					case conserved && r > tol:
+						t.Errorf("%s on %s seed %d: |d%s/dt| / Σ|terms| = %.3g, want ≤ %g", c.scheme, kind, seed, name, r, tol)
+					case !conserved && r < 1e4*tol:
+						t.Errorf("%s on %s seed %d: |d%s/dt| / Σ|terms| = %.3g: expected a clear miss (≥ %g)", c.scheme, kind, seed, name, r, 1e4*tol)
+					}
+				}
+				check("E", c.energy, de, se)
+				check("Z", c.enstroph, dz, sz)
+			}
+		}
+	}
+}
+
+func TestBitIdenticalAcrossWorkers(t *testing.T) {
+	for _, name := range Names {
+		f := randomFixture(t, mesh.Quad, 16, 9)
+		var ref []float64
+		for _, w := range []int{1, 2, 3, 4} {
+			pool := par.New(w)
+			s, err := New(name, f.g, f.phys, pool, Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			s.SetDt(50)
+			dx := make([]float64, len(f.x))
+			s.Tendency(dx, f.x)
+			pool.Close()
+			if ref == nil {
+				ref = dx
+				continue
+			}
+			for k := range dx {
+				if math.Float64bits(dx[k]) != math.Float64bits(ref[k]) {
+					t.Fatalf("%s: workers=%d differs at %d: %g vs %g", name, w, k, dx[k], ref[k])
+				}
+			}
+		}
+	}
+}
+
+func TestUnsupportedPairs(t *testing.T) {
+	f := randomFixture(t, mesh.Hex, 4, 1)
+	_, err := New(AL81, f.g, f.phys, par.New(1), Options{})
+	if err == nil || !strings.Contains(err.Error(), "trisk-energy") || !strings.Contains(err.Error(), "quad") {
+		t.Errorf("al81 on hex: got %v, want an error naming the quad grid and the schemes available", err)
+	}
+	_, err = New("sadourny-x", f.g, f.phys, par.New(1), Options{})
+	if err == nil || !strings.Contains(err.Error(), "allowed") {
+		t.Errorf("unknown scheme: got %v", err)
+	}
+}
+
+func TestZeroAllocations(t *testing.T) {
+	f := randomFixture(t, mesh.Hex, 16, 2)
+	for _, w := range []int{1, 2} {
+		pool := par.New(w)
+		for _, name := range []string{TRiSKEnergy, TRiSKEnstrophy, APVM} {
+			s, _ := New(name, f.g, f.phys, pool, Options{})
+			dx := make([]float64, len(f.x))
+			if a := testing.AllocsPerRun(20, func() { s.Tendency(dx, f.x) }); a != 0 {
+				t.Errorf("%s workers=%d: %v allocations per tendency", name, w, a)
+			}
+		}
+		pool.Close()
+	}
+}
