@@ -1,0 +1,257 @@
+package sim
+
+import (
+	"fmt"
+	"math"
+
+	"gyrebench/sim/cases"
+	"gyrebench/sim/diag"
+	"gyrebench/sim/mesh"
+	"gyrebench/sim/ops"
+	"gyrebench/sim/par"
+	"gyrebench/sim/scheme"
+	"gyrebench/sim/step"
+)
+
+// Model is one shallow-water run: a mesh, a scheme, an integrator and a
+// state, advanced one step at a time. A Model is used by one goroutine.
+type Model struct {
+	cfg  Config
+	mesh *mesh.Mesh
+	grid ops.Grid
+	pool *par.Pool
+	phys scheme.Physics
+
+	sch   scheme.Scheme
+	integ step.Integrator
+	tend  step.Tendency
+
+	x, good []float64 // state [h | u], and the last good one
+	time    float64
+	steps   int64
+
+	calc     *diag.Calculator
+	initial  diag.Invariants
+	steadyH  []float64 // exact depth for steady cases, else nil
+	caseInfo *cases.Case
+}
+
+// BlowUpError reports a step that produced a non-finite value or a
+// non-positive depth. The model keeps the state before that step.
+type BlowUpError struct {
+	Step  int64   // the step that failed (1-based count of steps tried)
+	Time  float64 // simulated time at the start of that step, s
+	Cell  int     // first bad cell, or −1
+	Edge  int     // first bad edge, or −1
+	Value float64 // the offending value
+}
+
+func (e *BlowUpError) Error() string {
+	if e.Cell >= 0 {
+		return fmt.Sprintf("run blew up at step %d (t = %g s): depth %g in cell %d", e.Step, e.Time, e.Value, e.Cell)
+	}
+	return fmt.Sprintf("run blew up at step %d (t = %g s): velocity %g on edge %d", e.Step, e.Time, e.Value, e.Edge)
+}
+
+// NewModel validates the config, builds the mesh, sets the initial state
+// and readies the scheme and integrator. workers ≤ 0 means one.
+func NewModel(cfg Config, workers int) (*Model, error) {
+	if err := cfg.Validate(); err != nil {
+		return nil, err
+	}
+	msh, err := mesh.New(cfg.MeshSpec())
+	if err != nil {
+		return nil, err
+	}
+	return newModelOn(cfg, msh, workers, nil)
+}
+
+// newModelOn builds a model on an existing mesh; a non-nil state replaces
+// the initial condition.
+func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state []float64) (*Model, error) {
+	m := &Model{cfg: cfg, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
+	nc, ne := msh.NCells, msh.NEdges
+	m.x = make([]float64, nc+ne)
+	m.good = make([]float64, nc+ne)
+	m.phys = scheme.Physics{G: cfg.Physics.G, FVertex: coriolis(msh, cfg.Physics)}
+	cs, err := cases.Lookup(cfg.Initial.Case)
+	if err != nil {
+		return nil, err
+	}
+	m.caseInfo = cs
+	bottom := make([]float64, nc)
+	cp := cases.Physics{G: cfg.Physics.G, F0: cfg.Physics.F0, Beta: cfg.Physics.Beta, Depth: cfg.Physics.Depth, Radius: cfg.Physics.Radius, Omega: cfg.Physics.Omega}
+	if err := cs.Init(msh, cp, cfg.Initial.Params, m.x[:nc], m.x[nc:], bottom); err != nil {
+		return nil, err
+	}
+	for _, b := range bottom {
+		if b != 0 {
+			m.phys.Bottom = bottom
+			break
+		}
+	}
+	if cs.Steady {
+		m.steadyH = append([]float64(nil), m.x[:nc]...)
+	}
+	if state != nil {
+		copy(m.x, state)
+	}
+	if bad := m.check(); bad != nil {
+		return nil, fmt.Errorf("initial.case = %q gives an invalid initial state: %v (is physics.depth large enough?)", cfg.Initial.Case, bad.Error())
+	}
+	m.pool = par.New(workers)
+	if err := m.setScheme(cfg.Scheme.Name); err != nil {
+		m.pool.Close()
+		return nil, err
+	}
+	if err := m.SetIntegrator(cfg.Time.Integrator); err != nil {
+		m.pool.Close()
+		return nil, err
+	}
+	m.calc = diag.New(m.grid, cfg.Physics.G, m.phys.FVertex, m.phys.Bottom)
+	m.initial = m.calc.Compute(m.x, cfg.Time.Dt)
+	return m, nil
+}
+
+// coriolis returns f at the vertices: f0 + β(y − Ly/2) on the plane,
+// 2Ω sin(latitude) on the sphere.
+func coriolis(msh *mesh.Mesh, p PhysicsConfig) []float64 {
+	f := make([]float64, msh.NVertices)
+	for v := range f {
+		if msh.Surface.Sphere {
+			z := msh.VertexZ[v] / msh.Surface.Radius
+			f[v] = 2 * p.Omega * z
+		} else {
+			f[v] = p.F0 + p.Beta*(msh.VertexY[v]-msh.Surface.Ly/2)
+		}
+	}
+	return f
+}
+
+// Close stops the model's workers.
+func (m *Model) Close() { m.pool.Close() }
+
+// Config returns the model's current config (scheme, integrator and dt
+// reflect changes made while running).
+func (m *Model) Config() Config { return m.cfg }
+
+// Mesh returns the model's mesh. It must not be modified.
+func (m *Model) Mesh() *mesh.Mesh { return m.mesh }
+
+// State returns the state vector [h | u]. It must not be modified.
+func (m *Model) State() []float64 { return m.x }
+
+// Depth returns h on cells; Velocity returns u on edges. Read-only.
+func (m *Model) Depth() []float64    { return m.x[:m.mesh.NCells] }
+func (m *Model) Velocity() []float64 { return m.x[m.mesh.NCells:] }
+
+// Time returns the simulated time in seconds; Steps the steps taken.
+func (m *Model) Time() float64 { return m.time }
+func (m *Model) Steps() int64  { return m.steps }
+
+// Bottom returns the bottom height on cells, or nil when flat.
+func (m *Model) Bottom() []float64 { return m.phys.Bottom }
+
+// Coriolis returns f at vertices.
+func (m *Model) Coriolis() []float64 { return m.phys.FVertex }
+
+// Diagnostics returns the calculator for derived fields.
+func (m *Model) Diagnostics() *diag.Calculator { return m.calc }
+
+// Invariants returns the invariants of the current state.
+func (m *Model) Invariants() diag.Invariants { return m.calc.Compute(m.x, m.cfg.Time.Dt) }
+
+// Initial returns the invariants of the initial state.
+func (m *Model) Initial() diag.Invariants { return m.initial }
+
+// ExactDepth returns the exact depth at the current time for cases that
+// have one (steady cases), or nil.
+func (m *Model) ExactDepth() []float64 { return m.steadyH }
+
+func (m *Model) setScheme(name string) error {
+	s, err := scheme.New(name, m.grid, m.phys, m.pool, scheme.Options{APVMFactor: m.cfg.Scheme.APVMFactor})
+	if err != nil {
+		return err
+	}
+	s.SetDt(m.cfg.Time.Dt)
+	m.sch = s
+	m.tend = s.Tendency
+	m.cfg.Scheme.Name = name
+	return nil
+}
+
+// SetScheme switches the scheme; the next step uses it on the same state.
+func (m *Model) SetScheme(name string) error {
+	if err := m.setScheme(name); err != nil {
+		return err
+	}
+	m.integ.Restart()
+	return nil
+}
+
+// SetIntegrator switches the time integrator.
+func (m *Model) SetIntegrator(name string) error {
+	in, err := step.New(name, len(m.x), step.Options{Asselin: m.cfg.Time.Asselin})
+	if err != nil {
+		return err
+	}
+	m.integ = in
+	m.cfg.Time.Integrator = name
+	return nil
+}
+
+// SetDt changes the time step.
+func (m *Model) SetDt(dt float64) error {
+	if err := positive("time.dt", dt); err != nil {
+		return err
+	}
+	m.cfg.Time.Dt = dt
+	m.sch.SetDt(dt)
+	m.integ.Restart()
+	return nil
+}
+
+// Step advances the state by one time step. If the step produces a
+// non-finite value or a non-positive depth, the state is put back as it
+// was and a *BlowUpError is returned.
+func (m *Model) Step() error {
+	copy(m.good, m.x)
+	m.integ.Step(m.tend, m.x, m.cfg.Time.Dt)
+	if bad := m.check(); bad != nil {
+		bad.Step, bad.Time = m.steps+1, m.time
+		copy(m.x, m.good)
+		m.integ.Restart()
+		return bad
+	}
+	m.steps++
+	m.time += m.cfg.Time.Dt
+	return nil
+}
+
+// check returns the first bad value of the state, or nil.
+func (m *Model) check() *BlowUpError {
+	nc := m.mesh.NCells
+	for i, h := range m.x[:nc] {
+		if !(h > 0) || math.IsInf(h, 0) {
+			return &BlowUpError{Cell: i, Edge: -1, Value: h}
+		}
+	}
+	for e, u := range m.x[nc:] {
+		if math.IsNaN(u) || math.IsInf(u, 0) {
+			return &BlowUpError{Cell: -1, Edge: e, Value: u}
+		}
+	}
+	return nil
+}
+
+// SetState replaces the state (for example from a ring buffer of earlier
+// states) and the simulated time.
+func (m *Model) SetState(x []float64, time float64, steps int64) error {
+	if len(x) != len(m.x) {
+		return fmt.Errorf("state has %d values, the mesh needs %d", len(x), len(m.x))
+	}
+	copy(m.x, x)
+	m.time, m.steps = time, steps
+	m.integ.Restart()
+	return nil
+}
