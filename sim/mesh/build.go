@@ -179,8 +179,15 @@ func (m *Mesh) computeWeights() {
 	t := &m.Topology
 	g := &m.Metric
 	g.PairStart = make([]int32, t.NEdges+1)
-	g.PairEdges = g.PairEdges[:0]
-	g.PairWeight = g.PairWeight[:0]
+	total := 0
+	for e := 0; e < t.NEdges; e++ {
+		for s := 0; s < 2; s++ {
+			lo, hi := t.EdgesOfCell(int(t.CellsOnEdge[2*e+s]))
+			total += hi - lo - 1
+		}
+	}
+	g.PairEdges = make([]int32, 0, total)
+	g.PairWeight = make([]float64, 0, total)
 	for e := 0; e < t.NEdges; e++ {
 		start := len(g.PairEdges)
 		for s := 0; s < 2; s++ {

@@ -21,11 +21,14 @@ type Grid struct {
 // EdgeMean sets he[e] = (h[c0]+h[c1])/2 and flux[e] = he[e]·u[e] for e in
 // [lo, hi). The arithmetic mean is the thickness that makes the kinetic
 // energy below consistent with Σ_e A_e h_e u_e² (Ringler et al. 2010, §4).
+// he may be nil.
 func (g Grid) EdgeMean(he, flux, h, u []float64, lo, hi int) {
 	cells := g.CellsOnEdge
 	for e := lo; e < hi; e++ {
 		m := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
-		he[e] = m
+		if he != nil {
+			he[e] = m
+		}
 		flux[e] = m * u[e]
 	}
 }
@@ -41,14 +44,13 @@ func (g Grid) DivKE(div, ke, flux, u []float64, lo, hi int) {
 	l, d, area := g.EdgeLength, g.DualLength, g.CellArea
 	for i := lo; i < hi; i++ {
 		var sd, sk float64
+		// Multiplying by the ±1 sign is exact and avoids a branch that the
+		// hexagonal orientation pattern makes unpredictable.
 		for k := start[i]; k < start[i+1]; k++ {
 			e := edges[k]
-			if sign[k] > 0 {
-				sd += l[e] * flux[e]
-			} else {
-				sd -= l[e] * flux[e]
-			}
-			sk += l[e] * d[e] * u[e] * u[e]
+			le := l[e]
+			sd += float64(sign[k]) * (le * flux[e])
+			sk += le * d[e] * u[e] * u[e]
 		}
 		inv := 1 / area[i]
 		if div != nil {
@@ -71,11 +73,7 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 		var c, m float64
 		for k := start[v]; k < start[v+1]; k++ {
 			e := edges[k]
-			if sign[k] > 0 {
-				c += d[e] * u[e]
-			} else {
-				c -= d[e] * u[e]
-			}
+			c += float64(sign[k]) * (d[e] * u[e])
 			m += kite[k] * h[cells[k]]
 		}
 		inv := 1 / area[v]

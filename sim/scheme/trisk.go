@@ -15,7 +15,7 @@ type core struct {
 	pool *par.Pool
 
 	nc, ne, nv int
-	he, flux   []float64 // edges: h_e, F_e = h_e u_e
+	flux       []float64 // edges: F_e = h_e u_e
 	phi        []float64 // cells: K + g(h + b)
 	q, hv      []float64 // vertices: PV, thickness
 	qe         []float64 // edges: PV brought to the edge
@@ -31,9 +31,9 @@ func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 	c := core{
 		g: g, phys: phys, pool: pool,
 		nc: g.NCells, ne: g.NEdges, nv: g.NVertices,
-		he: make([]float64, g.NEdges), flux: make([]float64, g.NEdges),
-		phi: make([]float64, g.NCells),
-		q:   make([]float64, g.NVertices), hv: make([]float64, g.NVertices),
+		flux: make([]float64, g.NEdges),
+		phi:  make([]float64, g.NCells),
+		q:    make([]float64, g.NVertices), hv: make([]float64, g.NVertices),
 		qe: make([]float64, g.NEdges), qflux: make([]float64, g.NEdges),
 	}
 	return c
@@ -59,7 +59,7 @@ func (c *core) run(dst, x []float64) {
 }
 
 func (c *core) doFlux(lo, hi int) {
-	c.g.EdgeMean(c.he, c.flux, c.x[:c.nc], c.x[c.nc:], lo, hi)
+	c.g.EdgeMean(nil, c.flux, c.x[:c.nc], c.x[c.nc:], lo, hi)
 }
 
 // doCells sets ∂h/∂t = −div F and the Bernoulli function Φ = K + g(h + b).
@@ -164,12 +164,15 @@ func (s *trisk) Tendency(dst, x []float64) {
 func (s *trisk) momentumEnergy(lo, hi int) {
 	du := s.dst[s.nc:]
 	cells, start, pe := s.g.CellsOnEdge, s.g.PairStart, s.g.PairEdges
+	flux, qflux := s.flux, s.qflux
 	for e := lo; e < hi; e++ {
+		p0, p1 := start[e], start[e+1]
+		cs, ps := s.coef[p0:p1], pe[p0:p1:p1]
 		var a, b float64
-		for p := start[e]; p < start[e+1]; p++ {
-			ep := pe[p]
-			a += s.coef[p] * s.flux[ep]
-			b += s.coef[p] * s.qflux[ep]
+		for k, ep := range ps {
+			c := cs[k]
+			a += c * flux[ep]
+			b += c * qflux[ep]
 		}
 		du[e] = 0.5*(s.qe[e]*a+b) - (s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
 	}
@@ -180,10 +183,13 @@ func (s *trisk) momentumEnergy(lo, hi int) {
 func (s *trisk) momentumEnstrophy(lo, hi int) {
 	du := s.dst[s.nc:]
 	cells, start, pe := s.g.CellsOnEdge, s.g.PairStart, s.g.PairEdges
+	flux := s.flux
 	for e := lo; e < hi; e++ {
+		p0, p1 := start[e], start[e+1]
+		cs, ps := s.coef[p0:p1], pe[p0:p1:p1]
 		var a float64
-		for p := start[e]; p < start[e+1]; p++ {
-			a += s.coef[p] * s.flux[pe[p]]
+		for k, ep := range ps {
+			a += cs[k] * flux[ep]
 		}
 		du[e] = s.qe[e]*a - (s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
 	}

@@ -1,0 +1,359 @@
+// Package batch runs a scenario headless and writes its standard files:
+// series.csv (invariants over time), final.nc (NetCDF classic, UGRID 1.0 +
+// CF 1.8), summary.json, recipe.toml (the fully resolved scenario) and,
+// when asked, snapshots.nc. Every file is written under a temporary name
+// and renamed, so an interrupted or failed run never leaves a half file.
+package batch
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"gyrebench/sim"
+	"gyrebench/sim/atomicfile"
+	"gyrebench/sim/diag"
+	"gyrebench/sim/ncout"
+	"gyrebench/sim/scenario"
+)
+
+// Options controls a headless run.
+type Options struct {
+	OutDir      string    // where the files go; created if missing
+	Workers     int       // goroutines for the tendency loops; ≤ 0 means 1
+	Progress    io.Writer // progress line (a terminal); nil for quiet
+	Description string    // carried into recipe.toml
+}
+
+// Summary is summary.json.
+type Summary struct {
+	Title              string      `json:"title"`
+	Grid               string      `json:"grid"`
+	N                  int         `json:"n"`
+	Cells              int         `json:"cells"`
+	Edges              int         `json:"edges"`
+	Vertices           int         `json:"vertices"`
+	Scheme             string      `json:"scheme"`
+	Integrator         string      `json:"integrator"`
+	Dt                 float64     `json:"dt_s"`
+	Steps              int64       `json:"steps"`
+	TimeS              float64     `json:"time_s"`
+	WallSeconds        float64     `json:"wall_seconds"`
+	Workers            int         `json:"workers"`
+	BlewUp             bool        `json:"blew_up"`
+	BlowUp             *BlowUpInfo `json:"blow_up,omitempty"`
+	Interrupted        bool        `json:"interrupted"`
+	Mass               float64     `json:"mass"`
+	Energy             float64     `json:"energy"`
+	PotentialEnstrophy float64     `json:"potential_enstrophy"`
+	MassRelDrift       float64     `json:"mass_rel_drift"`
+	EnergyRelDrift     float64     `json:"energy_rel_drift"`
+	EnstrophyRelDrift  float64     `json:"enstrophy_rel_drift"`
+	HMin               float64     `json:"h_min"`
+	HMax               float64     `json:"h_max"`
+	CourantMax         float64     `json:"courant_max"`
+	L1H                *float64    `json:"l1_h,omitempty"`
+	L2H                *float64    `json:"l2_h,omitempty"`
+	LInfH              *float64    `json:"linf_h,omitempty"`
+}
+
+// BlowUpInfo says where and when a run blew up.
+type BlowUpInfo struct {
+	Step    int64   `json:"step"`
+	TimeS   float64 `json:"time_s"`
+	Cell    int     `json:"cell"`
+	Edge    int     `json:"edge"`
+	Value   string  `json:"value"`
+	Message string  `json:"message"`
+}
+
+// ErrInterrupted is returned, wrapped, when the context ended the run.
+var ErrInterrupted = errors.New("run interrupted")
+
+// SeriesColumns are the columns of series.csv, in order.
+var SeriesColumns = []string{
+	"time_s", "mass", "energy", "potential_enstrophy",
+	"mass_rel_drift", "energy_rel_drift", "enstrophy_rel_drift",
+	"h_min", "h_max", "courant_max",
+	"circulation", "circulation_rel_drift", "courant_advective", "max_speed",
+	"l1_h", "l2_h", "linf_h",
+}
+
+// Run validates cfg, runs it to its duration and writes the files. It
+// returns a *sim.BlowUpError (wrapped) when the run blew up and
+// ErrInterrupted (wrapped) when ctx ended it; in both cases every file has
+// been written from the last good state. A config error returns before
+// anything is written.
+func Run(ctx context.Context, cfg sim.Config, opt Options) (*Summary, error) {
+	if err := cfg.Validate(); err != nil {
+		return nil, err
+	}
+	if opt.OutDir == "" {
+		return nil, fmt.Errorf("--out: an output folder is required")
+	}
+	model, err := sim.NewModel(cfg, opt.Workers)
+	if err != nil {
+		return nil, err
+	}
+	defer model.Close()
+	if err := os.MkdirAll(opt.OutDir, 0o755); err != nil {
+		return nil, fmt.Errorf("--out %s: %w", opt.OutDir, err)
+	}
+
+	r := &runner{model: model, cfg: cfg, opt: opt}
+	if cfg.Output.Snapshots {
+		if err := r.openSnapshots(); err != nil {
+			return nil, err
+		}
+		defer r.snapFile.Abort()
+	}
+	runErr := r.loop(ctx)
+	if err := r.finish(runErr); err != nil {
+		return nil, err
+	}
+	return r.summary, runErr
+}
+
+type runner struct {
+	model *sim.Model
+	cfg   sim.Config
+	opt   Options
+
+	series   bytes.Buffer
+	snapFile *atomicfile.File
+	snaps    *ncout.Snapshots
+	snapZeta []float64
+	summary  *Summary
+	wall     time.Duration
+}
+
+func (r *runner) loop(ctx context.Context) error {
+	m := r.model
+	dt := r.cfg.Time.Dt
+	total := int64(math.Round(r.cfg.Time.Duration / dt))
+	every := max(int64(math.Round(r.cfg.Output.Every/dt)), 1)
+	r.series.WriteString(strings.Join(SeriesColumns, ",") + "\n")
+	if err := r.record(); err != nil {
+		return err
+	}
+	start := time.Now()
+	lastShown := start
+	defer func() { r.wall = time.Since(start) }()
+	for m.Steps() < total {
+		if err := ctx.Err(); err != nil {
+			r.endRow()
+			return fmt.Errorf("%w at step %d (t = %g s)", ErrInterrupted, m.Steps(), m.Time())
+		}
+		if err := m.Step(); err != nil {
+			r.endRow()
+			return err
+		}
+		if m.Steps()%every == 0 || m.Steps() == total {
+			if err := r.record(); err != nil {
+				return err
+			}
+		}
+		if r.opt.Progress != nil {
+			if now := time.Now(); now.Sub(lastShown) > 200*time.Millisecond || m.Steps() == total {
+				lastShown = now
+				progress(r.opt.Progress, m.Steps(), total, m.Time(), now.Sub(start))
+			}
+		}
+	}
+	if r.opt.Progress != nil {
+		fmt.Fprintln(r.opt.Progress)
+	}
+	return nil
+}
+
+// endRow records the last good state if it is not the last row already.
+func (r *runner) endRow() {
+	every := max(int64(math.Round(r.cfg.Output.Every/r.cfg.Time.Dt)), 1)
+	if r.model.Steps()%every != 0 {
+		_ = r.record()
+	}
+}
+
+func progress(w io.Writer, steps, total int64, t float64, elapsed time.Duration) {
+	const width = 30
+	frac := float64(steps) / float64(total)
+	bar := strings.Repeat("=", int(frac*width)) + strings.Repeat(" ", width-int(frac*width))
+	rate := float64(steps) / elapsed.Seconds()
+	eta := time.Duration(float64(total-steps)/rate) * time.Second
+	fmt.Fprintf(w, "\r[%s] %5.1f%%  t = %s  %.0f steps/s  ETA %s ", bar, 100*frac, simTime(t), rate, eta.Round(time.Second))
+}
+
+func simTime(t float64) string {
+	if t >= 86400 {
+		return fmt.Sprintf("%.2f d", t/86400)
+	}
+	return fmt.Sprintf("%.0f s", t)
+}
+
+// record appends one series row and, if on, one snapshot.
+func (r *runner) record() error {
+	m := r.model
+	inv := m.Invariants()
+	ini := m.Initial()
+	cols := []float64{
+		m.Time(), inv.Mass, inv.Energy, inv.PotentialEnstrophy,
+		diag.RelDrift(inv.Mass, ini.Mass), diag.RelDrift(inv.Energy, ini.Energy),
+		diag.RelDrift(inv.PotentialEnstrophy, ini.PotentialEnstrophy),
+		inv.HMin, inv.HMax, inv.CourantGravity,
+		inv.Circulation, diag.RelDrift(inv.Circulation, ini.Circulation), inv.CourantAdvective, inv.MaxSpeed,
+	}
+	var row []string
+	for _, v := range cols {
+		row = append(row, fmtFloat(v))
+	}
+	if ex := m.ExactDepth(); ex != nil {
+		n := diag.ErrorNorms(m.Depth(), ex, m.Mesh().CellArea)
+		row = append(row, fmtFloat(n.L1), fmtFloat(n.L2), fmtFloat(n.LInf))
+	} else {
+		row = append(row, "", "", "")
+	}
+	r.series.WriteString(strings.Join(row, ",") + "\n")
+	if r.snaps != nil {
+		m.Diagnostics().Vorticity(r.snapZeta, nil, m.State())
+		if err := r.snaps.Write(m.Time(), m.Depth(), m.Velocity(), r.snapZeta); err != nil {
+			return fmt.Errorf("snapshots.nc: %w", err)
+		}
+	}
+	return nil
+}
+
+func fmtFloat(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+func meta(cfg sim.Config) ncout.Meta {
+	return ncout.Meta{
+		Title:  cfg.Title,
+		Source: "gyrebench " + cfg.Scheme.Name + " / " + cfg.Time.Integrator,
+		Attrs: []ncout.Attr{
+			{Name: "gyrebench_scheme", Value: cfg.Scheme.Name},
+			{Name: "gyrebench_integrator", Value: cfg.Time.Integrator},
+			{Name: "gyrebench_case", Value: cfg.Initial.Case},
+		},
+	}
+}
+
+func (r *runner) openSnapshots() error {
+	f, err := atomicfile.Create(filepath.Join(r.opt.OutDir, "snapshots.nc"))
+	if err != nil {
+		return fmt.Errorf("snapshots.nc: %w", err)
+	}
+	r.snapFile = f
+	fields := stateFields(nil, nil, nil)
+	r.snaps, err = ncout.NewSnapshots(f, r.model.Mesh(), meta(r.cfg), fields)
+	if err != nil {
+		return fmt.Errorf("snapshots.nc: %w", err)
+	}
+	r.snapZeta = make([]float64, r.model.Mesh().NVertices)
+	return nil
+}
+
+// stateFields describes depth, normal velocity and vorticity.
+func stateFields(h, u, zeta []float64) []ncout.Field {
+	return []ncout.Field{
+		{Name: "h", Location: ncout.Face, Units: "m", LongName: "fluid depth", CellMeasures: ncout.FaceAreaMeasure, Data: h},
+		{Name: "u", Location: ncout.Edge, Units: "m s-1", LongName: "velocity component along the edge normal n_e", Data: u},
+		{Name: "relative_vorticity", Location: ncout.Node, Units: "s-1", LongName: "relative vorticity on the dual cells", CellMeasures: ncout.NodeAreaMeasure, Data: zeta},
+	}
+}
+
+// finish writes every file from the model's current (last good) state.
+func (r *runner) finish(runErr error) error {
+	m := r.model
+	msh := m.Mesh()
+	zeta := make([]float64, msh.NVertices)
+	pv := make([]float64, msh.NVertices)
+	m.Diagnostics().Vorticity(zeta, pv, m.State())
+	bottom := m.Bottom()
+	if bottom == nil {
+		bottom = make([]float64, msh.NCells)
+	}
+	fields := append(stateFields(m.Depth(), m.Velocity(), zeta),
+		ncout.Field{Name: "potential_vorticity", Location: ncout.Node, Units: "m-1 s-1", LongName: "potential vorticity (zeta + f) / h", CellMeasures: ncout.NodeAreaMeasure, Data: pv},
+		ncout.Field{Name: "bottom_height", Location: ncout.Face, Units: "m", LongName: "bottom height above the reference level", CellMeasures: ncout.FaceAreaMeasure, Data: bottom},
+	)
+	nc, err := ncout.MeshFile(msh, meta(r.cfg), fields)
+	if err != nil {
+		return fmt.Errorf("final.nc: %w", err)
+	}
+	dir := r.opt.OutDir
+	if err := ncout.WriteFile(filepath.Join(dir, "final.nc"), nc); err != nil {
+		return fmt.Errorf("final.nc: %w", err)
+	}
+	if r.snaps != nil {
+		if err := r.snaps.Close(); err != nil {
+			return fmt.Errorf("snapshots.nc: %w", err)
+		}
+		if err := r.snapFile.Commit(); err != nil {
+			return fmt.Errorf("snapshots.nc: %w", err)
+		}
+	}
+	if err := atomicfile.WriteFile(filepath.Join(dir, "series.csv"), func(w io.Writer) error {
+		_, err := w.Write(r.series.Bytes())
+		return err
+	}); err != nil {
+		return fmt.Errorf("series.csv: %w", err)
+	}
+	r.summary = r.makeSummary(runErr)
+	js, err := json.MarshalIndent(r.summary, "", "  ")
+	if err != nil {
+		return fmt.Errorf("summary.json: %w", err)
+	}
+	if err := atomicfile.WriteFile(filepath.Join(dir, "summary.json"), func(w io.Writer) error {
+		_, err := w.Write(append(js, '\n'))
+		return err
+	}); err != nil {
+		return fmt.Errorf("summary.json: %w", err)
+	}
+	// The recipe is the scenario as given, so rerunning it repeats the run
+	// from the start.
+	recipe := scenario.Format(r.cfg, r.opt.Description)
+	if err := atomicfile.WriteFile(filepath.Join(dir, "recipe.toml"), func(w io.Writer) error {
+		_, err := w.Write(recipe)
+		return err
+	}); err != nil {
+		return fmt.Errorf("recipe.toml: %w", err)
+	}
+	return nil
+}
+
+func (r *runner) makeSummary(runErr error) *Summary {
+	m := r.model
+	msh := m.Mesh()
+	inv, ini := m.Invariants(), m.Initial()
+	c := m.Config()
+	s := &Summary{
+		Title: c.Title, Grid: c.Grid.Kind, N: c.Grid.N,
+		Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices,
+		Scheme: c.Scheme.Name, Integrator: c.Time.Integrator, Dt: c.Time.Dt,
+		Steps: m.Steps(), TimeS: m.Time(), WallSeconds: r.wall.Seconds(), Workers: max(r.opt.Workers, 1),
+		Mass: inv.Mass, Energy: inv.Energy, PotentialEnstrophy: inv.PotentialEnstrophy,
+		MassRelDrift:      diag.RelDrift(inv.Mass, ini.Mass),
+		EnergyRelDrift:    diag.RelDrift(inv.Energy, ini.Energy),
+		EnstrophyRelDrift: diag.RelDrift(inv.PotentialEnstrophy, ini.PotentialEnstrophy),
+		HMin:              inv.HMin, HMax: inv.HMax, CourantMax: inv.CourantGravity,
+		Interrupted: errors.Is(runErr, ErrInterrupted),
+	}
+	var bu *sim.BlowUpError
+	if errors.As(runErr, &bu) {
+		s.BlewUp = true
+		s.BlowUp = &BlowUpInfo{Step: bu.Step, TimeS: bu.Time, Cell: bu.Cell, Edge: bu.Edge, Value: fmtFloat(bu.Value), Message: bu.Error()}
+	}
+	if ex := m.ExactDepth(); ex != nil {
+		n := diag.ErrorNorms(m.Depth(), ex, msh.CellArea)
+		s.L1H, s.L2H, s.LInfH = &n.L1, &n.L2, &n.LInf
+	}
+	return s
+}

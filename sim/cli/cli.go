@@ -1,0 +1,295 @@
+// Package cli implements gyrebench's headless sub-commands: run,
+// scenarios and bench. main.go dispatches to Main; the workbench (serve)
+// lives in package server.
+//
+// Exit codes (design contract): 0 ok; 1 bad input, with a message naming
+// the field, the value and what is allowed; 3 the run blew up, after
+// writing every file from the last good step; 130 interrupted (Ctrl-C),
+// after writing every file so far.
+package cli
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"runtime"
+	"strings"
+	"time"
+
+	"gyrebench/scenarios"
+	"gyrebench/sim"
+	"gyrebench/sim/batch"
+	"gyrebench/sim/scenario"
+)
+
+// Exit codes.
+const (
+	ExitOK          = 0
+	ExitBadInput    = 1
+	ExitBlewUp      = 3
+	ExitInterrupted = 130
+)
+
+// Main runs the sub-command in args (without the program name) and returns
+// the exit code.
+func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		usage(stderr)
+		return ExitBadInput
+	}
+	switch args[0] {
+	case "run":
+		return cmdRun(ctx, args[1:], stdout, stderr)
+	case "scenarios":
+		return cmdScenarios(args[1:], stdout, stderr)
+	case "bench":
+		return cmdBench(args[1:], stdout, stderr)
+	case "help", "-h", "--help":
+		usage(stdout)
+		return ExitOK
+	}
+	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, bench\n", args[0])
+	return ExitBadInput
+}
+
+func usage(w io.Writer) {
+	fmt.Fprint(w, `gyrebench: a workbench for shallow-water discretisations
+
+  gyrebench serve [--addr 127.0.0.1:8080]     the live workbench in the browser
+  gyrebench run FILE_OR_NAME [--set key=value]... [--out DIR] [--workers W]
+  gyrebench scenarios                         list the built-in scenarios
+  gyrebench scenarios show NAME               print a built-in scenario
+  gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W]
+`)
+}
+
+// multi collects repeated --set flags.
+type multi []string
+
+func (m *multi) String() string     { return strings.Join(*m, " ") }
+func (m *multi) Set(s string) error { *m = append(*m, s); return nil }
+
+// Load reads a scenario file or a built-in scenario by name.
+func Load(fileOrName string) (*scenario.Scenario, error) {
+	if st, err := os.Stat(fileOrName); err == nil && !st.IsDir() {
+		data, err := os.ReadFile(fileOrName)
+		if err != nil {
+			return nil, err
+		}
+		return scenario.Parse(data, fileOrName)
+	}
+	if strings.HasSuffix(fileOrName, ".toml") || strings.ContainsRune(fileOrName, os.PathSeparator) {
+		return nil, fmt.Errorf("scenario file %q: not found", fileOrName)
+	}
+	src, err := scenarios.Source(fileOrName)
+	if err != nil {
+		return nil, err
+	}
+	return scenario.Parse(src, fileOrName+".toml")
+}
+
+// parseInterleaved parses flags that may come before or after the one
+// positional argument.
+func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			return pos, nil
+		}
+		pos = append(pos, args[0])
+		args = args[1:]
+	}
+}
+
+func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	var sets multi
+	fs.Var(&sets, "set", "override a scenario key, e.g. --set time.dt=30 (repeatable)")
+	out := fs.String("out", "", "output folder (default: run-<scenario>)")
+	workers := fs.Int("workers", runtime.NumCPU(), "goroutines for the tendency loops")
+	pos, err := parseInterleaved(fs, args)
+	if err != nil {
+		return ExitBadInput
+	}
+	if len(pos) != 1 {
+		fmt.Fprintln(stderr, "gyrebench run: want exactly one scenario file or built-in name; see 'gyrebench scenarios'")
+		return ExitBadInput
+	}
+	if *workers < 1 || *workers > 256 {
+		fmt.Fprintf(stderr, "gyrebench run: --workers = %d: must be between 1 and 256\n", *workers)
+		return ExitBadInput
+	}
+	sc, err := Load(pos[0])
+	if err != nil {
+		fmt.Fprintf(stderr, "gyrebench run: %v\n", err)
+		return ExitBadInput
+	}
+	for _, s := range sets {
+		if err := scenario.Set(&sc.Config, s); err != nil {
+			fmt.Fprintf(stderr, "gyrebench run: %v\n", err)
+			return ExitBadInput
+		}
+	}
+	dir := *out
+	if dir == "" {
+		dir = "run-" + strings.TrimSuffix(baseName(pos[0]), ".toml")
+	}
+	opt := batch.Options{OutDir: dir, Workers: *workers, Description: sc.Description}
+	if isTerminal(stderr) {
+		opt.Progress = stderr
+	}
+	sum, err := batch.Run(ctx, sc.Config, opt)
+	var bu *sim.BlowUpError
+	switch {
+	case err == nil:
+		fmt.Fprintf(stdout, "%d steps to t = %g s in %.2f s; energy drift %.3g, enstrophy drift %.3g; files in %s\n",
+			sum.Steps, sum.TimeS, sum.WallSeconds, sum.EnergyRelDrift, sum.EnstrophyRelDrift, dir)
+		return ExitOK
+	case errors.As(err, &bu):
+		fmt.Fprintf(stderr, "gyrebench run: %v; files from the last good step are in %s\n", err, dir)
+		return ExitBlewUp
+	case errors.Is(err, batch.ErrInterrupted):
+		fmt.Fprintf(stderr, "gyrebench run: %v; files so far are in %s\n", err, dir)
+		return ExitInterrupted
+	}
+	fmt.Fprintf(stderr, "gyrebench run: %v\n", err)
+	return ExitBadInput
+}
+
+func baseName(p string) string {
+	if i := strings.LastIndexAny(p, `/\`); i >= 0 {
+		return p[i+1:]
+	}
+	return p
+}
+
+func isTerminal(w io.Writer) bool {
+	f, ok := w.(*os.File)
+	if !ok {
+		return false
+	}
+	st, err := f.Stat()
+	return err == nil && st.Mode()&os.ModeCharDevice != 0
+}
+
+func cmdScenarios(args []string, stdout, stderr io.Writer) int {
+	switch {
+	case len(args) == 0:
+		for _, n := range scenarios.Names() {
+			sc, err := Load(n)
+			if err != nil {
+				fmt.Fprintf(stderr, "gyrebench scenarios: %v\n", err)
+				return ExitBadInput
+			}
+			fmt.Fprintf(stdout, "%-22s %s\n", n, sc.Description)
+		}
+		return ExitOK
+	case len(args) == 2 && args[0] == "show":
+		src, err := scenarios.Source(args[1])
+		if err != nil {
+			fmt.Fprintf(stderr, "gyrebench scenarios show: %v\n", err)
+			return ExitBadInput
+		}
+		stdout.Write(src)
+		return ExitOK
+	}
+	fmt.Fprintln(stderr, "gyrebench scenarios: usage: 'gyrebench scenarios' or 'gyrebench scenarios show NAME'")
+	return ExitBadInput
+}
+
+// BenchResult is the JSON object printed by bench.
+type BenchResult struct {
+	Grid                string  `json:"grid"`
+	N                   int     `json:"n"`
+	Cells               int     `json:"cells"`
+	Edges               int     `json:"edges"`
+	Vertices            int     `json:"vertices"`
+	Workers             int     `json:"workers"`
+	Steps               int     `json:"steps"`
+	Seconds             float64 `json:"seconds"`
+	StepsPerSecond      float64 `json:"steps_per_second"`
+	CellStepsPerSecond  float64 `json:"cell_steps_per_second"`
+	Scheme              string  `json:"scheme"`
+	Integrator          string  `json:"integrator"`
+	GoMaxProcs          int     `json:"gomaxprocs"`
+	MeshBuildSeconds    float64 `json:"mesh_build_seconds"`
+	PeakHeapMegabytes   float64 `json:"peak_heap_megabytes"`
+	BytesAllocatedSteps uint64  `json:"bytes_allocated_during_steps"`
+}
+
+func cmdBench(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("bench", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	grid := fs.String("grid", "hex", "grid kind: quad, hex, tri, icosahedral")
+	n := fs.Int("n", 512, "cells per side (plane) or level (sphere)")
+	steps := fs.Int("steps", 20, "time steps to time")
+	workers := fs.Int("workers", 1, "goroutines for the tendency loops")
+	schemeName := fs.String("scheme", "trisk-energy", "scheme")
+	integ := fs.String("integrator", "rk3", "integrator")
+	if err := fs.Parse(args); err != nil || fs.NArg() > 0 {
+		if fs.NArg() > 0 {
+			fmt.Fprintf(stderr, "gyrebench bench: unexpected argument %q\n", fs.Arg(0))
+		}
+		return ExitBadInput
+	}
+	if *steps < 1 || *steps > 1e6 {
+		fmt.Fprintf(stderr, "gyrebench bench: --steps = %d: must be between 1 and 1000000\n", *steps)
+		return ExitBadInput
+	}
+	if *workers < 1 || *workers > 256 {
+		fmt.Fprintf(stderr, "gyrebench bench: --workers = %d: must be between 1 and 256\n", *workers)
+		return ExitBadInput
+	}
+	cfg := sim.DefaultConfig()
+	cfg.Grid.Kind, cfg.Grid.N = *grid, *n
+	cfg.Scheme.Name, cfg.Time.Integrator = *schemeName, *integ
+	if *grid != "icosahedral" {
+		// Keep the spacing of the default scenario so the step is stable.
+		cfg.Grid.Length = 1e6 * float64(*n) / 64
+	} else {
+		cfg.Initial.Case = "williamson-2"
+	}
+	cfg.Time.Dt = 30
+	t0 := time.Now()
+	m, err := sim.NewModel(cfg, *workers)
+	if err != nil {
+		fmt.Fprintf(stderr, "gyrebench bench: %v\n", err)
+		return ExitBadInput
+	}
+	defer m.Close()
+	build := time.Since(t0)
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	start := time.Now()
+	for i := 0; i < *steps; i++ {
+		if err := m.Step(); err != nil {
+			fmt.Fprintf(stderr, "gyrebench bench: %v\n", err)
+			return ExitBlewUp
+		}
+	}
+	sec := time.Since(start).Seconds()
+	runtime.ReadMemStats(&after)
+	msh := m.Mesh()
+	res := BenchResult{
+		Grid: *grid, N: *n, Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices,
+		Workers: *workers, Steps: *steps, Seconds: sec,
+		StepsPerSecond:     float64(*steps) / sec,
+		CellStepsPerSecond: float64(*steps) * float64(msh.NCells) / sec,
+		Scheme:             *schemeName, Integrator: *integ, GoMaxProcs: runtime.GOMAXPROCS(0),
+		MeshBuildSeconds:    build.Seconds(),
+		PeakHeapMegabytes:   float64(after.HeapSys) / (1 << 20),
+		BytesAllocatedSteps: after.TotalAlloc - before.TotalAlloc,
+	}
+	b, _ := json.Marshal(res)
+	fmt.Fprintln(stdout, string(b))
+	return ExitOK
+}

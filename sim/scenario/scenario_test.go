@@ -1,0 +1,115 @@
+package scenario
+
+import (
+	"strings"
+	"testing"
+
+	"gyrebench/scenarios"
+	"gyrebench/sim"
+)
+
+func TestBuiltinsParseAndValidate(t *testing.T) {
+	names := scenarios.Names()
+	if len(names) < 6 {
+		t.Fatalf("%d built-in scenarios, want at least 6", len(names))
+	}
+	for _, n := range names {
+		src, err := scenarios.Source(n)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s, err := Parse(src, n+".toml")
+		if err != nil {
+			t.Fatalf("%s: %v", n, err)
+		}
+		if s.Description == "" || strings.Contains(s.Description, "\n") {
+			t.Errorf("%s: description %q must be one line", n, s.Description)
+		}
+		if err := s.Config.Validate(); err != nil {
+			t.Errorf("%s: %v", n, err)
+		}
+	}
+}
+
+// Format then Parse must give back the same config, bit for bit in every
+// float, so that a recipe reproduces its run.
+func TestFormatRoundTrip(t *testing.T) {
+	for _, n := range scenarios.Names() {
+		src, _ := scenarios.Source(n)
+		s, err := Parse(src, n)
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := s.Config
+		c.Time.Dt = 0.1 + 0.2 // not exactly representable in short decimal
+		c.Physics.F0 = 1.0 / 3.0
+		again, err := Parse(Format(c, s.Description), "recipe")
+		if err != nil {
+			t.Fatalf("%s: recipe does not parse: %v\n%s", n, err, Format(c, s.Description))
+		}
+		got := again.Config
+		if got.Time.Dt != c.Time.Dt || got.Physics.F0 != c.Physics.F0 || got.Grid != c.Grid || got.Scheme != c.Scheme || got.Title != c.Title {
+			t.Errorf("%s: round trip changed the config:\n%+v\n%+v", n, c, got)
+		}
+		cs := c.Initial
+		for k, v := range cs.Params {
+			if got.Initial.Params[k] != v {
+				t.Errorf("%s: initial.%s %v → %v", n, k, v, got.Initial.Params[k])
+			}
+		}
+	}
+}
+
+func TestParseErrorsNameKeyAndLine(t *testing.T) {
+	cases := []struct {
+		name, src, want string
+	}{
+		{"unknown key", "[grid]\nkind = \"hex\"\ncolour = 3\n", ":3: grid.colour"},
+		{"unknown section", "title = \"x\"\n[wind]\nspeed = 3\n", ":2: wind"},
+		{"wrong type", "[grid]\nn = \"many\"\n", ":2:"},
+		{"wrong type float", "[time]\ndt = \"fast\"\n", "time.dt"},
+		{"syntax", "[grid\nn = 3\n", ":1:"},
+		{"unknown case param", "[initial]\ncase = \"gaussian-bump\"\nheight = 3\n", ":3: initial.height"},
+		{"bad case", "[initial]\ncase = \"sunny\"\n", ":2: initial.case"},
+		{"case not string", "[initial]\ncase = 3\n", "initial.case"},
+	}
+	for _, c := range cases {
+		_, err := Parse([]byte(c.src), "f.toml")
+		if err == nil {
+			t.Errorf("%s: accepted", c.name)
+			continue
+		}
+		if !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %q does not contain %q", c.name, err, c.want)
+		}
+	}
+}
+
+func TestSet(t *testing.T) {
+	c := sim.DefaultConfig()
+	for _, a := range []string{"grid.n=32", "time.dt=30.5", "scheme.name=apvm", "initial.amplitude=7", "output.snapshots=true", "grid.kind=quad"} {
+		if err := Set(&c, a); err != nil {
+			t.Fatalf("Set(%q): %v", a, err)
+		}
+	}
+	if c.Grid.N != 32 || c.Time.Dt != 30.5 || c.Scheme.Name != "apvm" || c.Initial.Params["amplitude"] != 7 || !c.Output.Snapshots || c.Grid.Kind != "quad" {
+		t.Errorf("overrides not applied: %+v", c)
+	}
+	before := c
+	for _, bad := range []struct{ a, want string }{
+		{"grid.n=3.5", "grid.n"},
+		{"time.dt=fast", "time.dt"},
+		{"wind.speed=3", "wind.speed"},
+		{"initial.height=2", "initial.height"},
+		{"nonsense", "key=value"},
+		{"output.snapshots=maybe", "output.snapshots"},
+	} {
+		err := Set(&c, bad.a)
+		if err == nil || !strings.Contains(err.Error(), bad.want) {
+			t.Errorf("Set(%q) = %v, want an error naming %s", bad.a, err, bad.want)
+		}
+	}
+	if c.Grid != before.Grid || c.Time != before.Time {
+		t.Errorf("a failed Set changed the config")
+	}
+}
