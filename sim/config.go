@@ -29,6 +29,12 @@ type GridConfig struct {
 	Kind   string  // quad, hex, tri, icosahedral
 	N      int     // cells per side (plane) or refinement level (sphere)
 	Length float64 // plane: domain width in x, m
+	// Height is the plane's domain height, m; 0 means the family's natural
+	// height (the width for quad, √3/2 of it for hex and tri).
+	Height float64
+	// Optimize is "none" or "lloyd" (centroidal relaxation), icosahedral
+	// only; "" means none.
+	Optimize string
 }
 
 // PhysicsConfig holds the physical constants.
@@ -83,7 +89,7 @@ func DefaultConfig() Config {
 
 // MeshSpec returns the mesh the config asks for.
 func (c *Config) MeshSpec() mesh.Spec {
-	return mesh.Spec{Kind: mesh.Kind(c.Grid.Kind), N: c.Grid.N, Length: c.Grid.Length, Radius: c.Physics.Radius}
+	return mesh.Spec{Kind: mesh.Kind(c.Grid.Kind), N: c.Grid.N, Length: c.Grid.Length, Height: c.Grid.Height, Radius: c.Physics.Radius, Optimize: c.Grid.Optimize}
 }
 
 func positive(name string, v float64) error {

@@ -9,6 +9,7 @@ import (
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/ops"
 	"gyrebench/sim/par"
+	"gyrebench/sim/remap"
 	"gyrebench/sim/scheme"
 	"gyrebench/sim/step"
 )
@@ -16,11 +17,12 @@ import (
 // Model is one shallow-water run: a mesh, a scheme, an integrator and a
 // state, advanced one step at a time. A Model is used by one goroutine.
 type Model struct {
-	cfg  Config
-	mesh *mesh.Mesh
-	grid ops.Grid
-	pool *par.Pool
-	phys scheme.Physics
+	cfg     Config
+	workers int
+	mesh    *mesh.Mesh
+	grid    ops.Grid
+	pool    *par.Pool
+	phys    scheme.Physics
 
 	sch   scheme.Scheme
 	integ step.Integrator
@@ -69,15 +71,19 @@ func NewModel(cfg Config, workers int) (*Model, error) {
 // newModelOn builds a model on an existing mesh; a non-nil state replaces
 // the initial condition.
 func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state []float64) (*Model, error) {
-	m := &Model{cfg: cfg, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
+	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
 	nc, ne := msh.NCells, msh.NEdges
 	m.x = make([]float64, nc+ne)
 	m.good = make([]float64, nc+ne)
-	m.phys = scheme.Physics{G: cfg.Physics.G, FVertex: coriolis(msh, cfg.Physics)}
 	cs, err := cases.Lookup(cfg.Initial.Case)
 	if err != nil {
 		return nil, err
 	}
+	axis, err := cs.RotationAxis(cfg.Initial.Params)
+	if err != nil {
+		return nil, err
+	}
+	m.phys = scheme.Physics{G: cfg.Physics.G, FVertex: coriolis(msh, cfg.Physics, axis)}
 	m.caseInfo = cs
 	bottom := make([]float64, nc)
 	cp := cases.Physics{G: cfg.Physics.G, F0: cfg.Physics.F0, Beta: cfg.Physics.Beta, Depth: cfg.Physics.Depth, Radius: cfg.Physics.Radius, Omega: cfg.Physics.Omega}
@@ -114,13 +120,14 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state []float64) (*Mode
 }
 
 // coriolis returns f at the vertices: f0 + β(y − Ly/2) on the plane,
-// 2Ω sin(latitude) on the sphere.
-func coriolis(msh *mesh.Mesh, p PhysicsConfig) []float64 {
+// 2Ω (axis · r̂) on the sphere: 2Ω sin(latitude) for the z axis, and the
+// rotated f of Williamson et al. (1992) case 2 for a tilted axis.
+func coriolis(msh *mesh.Mesh, p PhysicsConfig, axis [3]float64) []float64 {
 	f := make([]float64, msh.NVertices)
 	for v := range f {
 		if msh.Surface.Sphere {
-			z := msh.VertexZ[v] / msh.Surface.Radius
-			f[v] = 2 * p.Omega * z
+			r := axis[0]*msh.VertexX[v] + axis[1]*msh.VertexY[v] + axis[2]*msh.VertexZ[v]
+			f[v] = 2 * p.Omega * r / msh.Surface.Radius
 		} else {
 			f[v] = p.F0 + p.Beta*(msh.VertexY[v]-msh.Surface.Ly/2)
 		}
@@ -254,4 +261,42 @@ func (m *Model) SetState(x []float64, time float64, steps int64) error {
 	m.time, m.steps = time, steps
 	m.integ.Restart()
 	return nil
+}
+
+// Regrid returns a new model on another grid family or resolution of the
+// same domain, carrying the current state over: depth conservatively (total
+// mass kept to round-off), velocity reconstructed at cell centres and
+// projected on the new edge normals (package remap). Scheme, integrator,
+// Δt, time, step count and the reference invariants carry over, so drifts
+// stay relative to the run's start. The receiver is left unchanged and
+// usable; the caller closes whichever model it drops.
+func (m *Model) Regrid(kind string, n int) (*Model, error) {
+	cfg := m.cfg
+	cfg.Grid.Kind, cfg.Grid.N = kind, n
+	if !m.mesh.Surface.Sphere {
+		cfg.Grid.Height = m.mesh.Surface.Ly
+		if mesh.Kind(kind) != mesh.Icosahedral && m.mesh.Surface.Ly == mesh.NaturalHeight(mesh.Kind(kind), n, cfg.Grid.Length) {
+			cfg.Grid.Height = 0
+		}
+	}
+	if err := cfg.Validate(); err != nil {
+		return nil, err
+	}
+	msh, err := mesh.New(cfg.MeshSpec())
+	if err != nil {
+		return nil, err
+	}
+	r, err := remap.New(m.mesh, msh)
+	if err != nil {
+		return nil, fmt.Errorf("grid.kind = %q, grid.n = %d: %w", kind, n, err)
+	}
+	x := make([]float64, msh.NCells+msh.NEdges)
+	r.Apply(x, m.x)
+	nm, err := newModelOn(cfg, msh, m.workers, x)
+	if err != nil {
+		return nil, err
+	}
+	nm.time, nm.steps = m.time, m.steps
+	nm.initial = m.initial
+	return nm, nil
 }

@@ -213,3 +213,39 @@ func TestBadConfig(t *testing.T) {
 		}
 	}
 }
+
+// A mid-run change of grid family or resolution keeps the total mass to
+// round-off and lets the run go on.
+func TestRegridKeepsMass(t *testing.T) {
+	cfg := DefaultConfig()
+	cfg.Grid = GridConfig{Kind: "hex", N: 16, Length: 1e6}
+	cfg.Initial.Case = "vortex-pair"
+	m := mustModel(t, cfg, 1)
+	runFor(t, m, 3600)
+	mass := m.Invariants().Mass
+	for _, to := range []struct {
+		kind string
+		n    int
+	}{{"quad", 20}, {"tri", 12}, {"hex", 24}, {"quad", 16}} {
+		nm, err := m.Regrid(to.kind, to.n)
+		if err != nil {
+			t.Fatalf("regrid to %s %d: %v", to.kind, to.n, err)
+		}
+		t.Cleanup(nm.Close)
+		if got := nm.Invariants().Mass; math.Abs(got-mass) > 1e-13*mass {
+			t.Errorf("regrid to %s n=%d: mass %.17g → %.17g", to.kind, to.n, mass, got)
+		}
+		if nm.Time() != m.Time() || nm.Initial() != m.Initial() {
+			t.Errorf("regrid to %s: time or reference invariants not carried over", to.kind)
+		}
+		if nm.Mesh().Surface != m.Mesh().Surface {
+			t.Errorf("regrid to %s: domain changed from %+v to %+v", to.kind, m.Mesh().Surface, nm.Mesh().Surface)
+		}
+		m = nm
+		runFor(t, m, 1800)
+		mass = m.Invariants().Mass
+	}
+	if _, err := m.Regrid("quad", 2); err == nil || !strings.Contains(err.Error(), "grid.n") {
+		t.Errorf("regrid to n=2: %v", err)
+	}
+}

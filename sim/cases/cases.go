@@ -99,9 +99,9 @@ func (c *Case) paramNames() []string {
 
 // All returns every case, planar first.
 func All() []*Case {
-	return []*Case{
+	return append([]*Case{
 		geostrophicSteady(), gaussianBump(), shearLayer(), vortexPair(), turbulence(),
-	}
+	}, sphereCases()...)
 }
 
 // Names returns the names of all cases.

@@ -58,7 +58,7 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 	g := c.g
 	nc := g.NCells
 	h, u := x[:nc], x[nc:]
-	g.EdgeMean(c.he, c.flx, h, u, 0, g.NEdges)
+	g.EdgeFlux(c.he, c.flx, h, u, 0, g.NEdges)
 	g.Vorticity(c.zeta, c.hv, u, h, 0, g.NVertices)
 	inv := Invariants{HMin: math.Inf(1), HMax: math.Inf(-1)}
 	for i, hi := range h {
@@ -110,7 +110,11 @@ func (c *Calculator) Vorticity(zeta, pv, x []float64) {
 func (c *Calculator) Divergence(div, x []float64) {
 	g := c.g
 	nc := g.NCells
-	g.DivKE(div, nil, x[nc:], x[nc:], 0, nc)
+	u := x[nc:]
+	for e, ue := range u {
+		c.flx[e] = g.EdgeLength[e] * ue
+	}
+	g.DivKE(div, nil, c.flx, u, 0, nc)
 }
 
 // KineticEnergy fills ke with K = |u|²/2 at cells.

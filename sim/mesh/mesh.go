@@ -147,7 +147,13 @@ type Spec struct {
 	Kind   Kind
 	N      int
 	Length float64 // plane: side length in x (m)
+	// Height is the plane's side in y (m); 0 means the family's natural
+	// height (NaturalHeight). A mid-run change of grid family keeps the
+	// domain by passing the old mesh's height.
+	Height float64
 	Radius float64 // sphere radius (m)
+	// Optimize: icosahedral only; "" or OptimizeNone, or OptimizeLloyd.
+	Optimize string
 }
 
 // Cells returns the number of cells the spec would build, or an error
@@ -155,6 +161,9 @@ type Spec struct {
 func (s Spec) Cells() (int, error) {
 	switch s.Kind {
 	case Quad, Hex, Tri:
+		if s.Optimize != "" && s.Optimize != OptimizeNone {
+			return 0, fmt.Errorf("grid.optimize = %q: only the icosahedral grid can be optimised; allowed here: none", s.Optimize)
+		}
 		if s.N < 4 {
 			return 0, fmt.Errorf("grid.n = %d: the %s grid needs n ≥ 4", s.N, s.Kind)
 		}
@@ -167,7 +176,13 @@ func (s Spec) Cells() (int, error) {
 		if !(s.Length > 0) || math.IsInf(s.Length, 0) {
 			return 0, fmt.Errorf("grid.length = %g: must be a positive number of metres", s.Length)
 		}
-		c := s.N * s.N
+		if s.Height < 0 || math.IsInf(s.Height, 0) || math.IsNaN(s.Height) {
+			return 0, fmt.Errorf("grid.height = %g: must be a positive number of metres, or 0 for the natural height", s.Height)
+		}
+		if h := s.height(); h < 0.5*s.Length || h > 2*s.Length {
+			return 0, fmt.Errorf("grid.height = %g: must be within a factor 2 of grid.length = %g", h, s.Length)
+		}
+		c := s.N * planeRows(s.Kind, s.N, s.Length, s.height())
 		if s.Kind == Tri {
 			c *= 2
 		}
@@ -186,9 +201,19 @@ func (s Spec) Cells() (int, error) {
 		if !(s.Radius > 0) || math.IsInf(s.Radius, 0) {
 			return 0, fmt.Errorf("physics.radius = %g: must be a positive number of metres", s.Radius)
 		}
+		if s.Optimize != "" && s.Optimize != OptimizeNone && s.Optimize != OptimizeLloyd {
+			return 0, fmt.Errorf("grid.optimize = %q: unknown; allowed: none, lloyd", s.Optimize)
+		}
 		return c, nil
 	}
 	return 0, fmt.Errorf("grid.kind = %q: unknown; allowed: quad, hex, tri, icosahedral", s.Kind)
+}
+
+func (s Spec) height() float64 {
+	if s.Height > 0 {
+		return s.Height
+	}
+	return NaturalHeight(s.Kind, s.N, s.Length)
 }
 
 // New builds the mesh described by spec.
@@ -198,13 +223,15 @@ func New(spec Spec) (*Mesh, error) {
 	}
 	switch spec.Kind {
 	case Quad:
-		return newQuad(spec.N, spec.Length), nil
+		return newQuad(spec.N, spec.Length, spec.height()), nil
 	case Hex:
-		return newHex(spec.N, spec.Length), nil
+		return newHex(spec.N, spec.Length, spec.height()), nil
 	case Tri:
-		return newHex(spec.N, spec.Length).Dual(Tri), nil
+		return newHex(spec.N, spec.Length, spec.height()).Dual(Tri), nil
+	case Icosahedral:
+		return newIcosahedral(spec.N, spec.Radius, spec.Optimize), nil
 	}
-	return nil, fmt.Errorf("grid.kind = %q: not available yet; allowed: quad, hex, tri", spec.Kind)
+	return nil, fmt.Errorf("grid.kind = %q: unknown; allowed: quad, hex, tri, icosahedral", spec.Kind)
 }
 
 // EdgesOfCell returns the index range of cell i in the cell CSR arrays.

@@ -18,27 +18,28 @@ type Grid struct {
 	*mesh.Metric
 }
 
-// EdgeMean sets he[e] = (h[c0]+h[c1])/2 and flux[e] = he[e]·u[e] for e in
-// [lo, hi). The arithmetic mean is the thickness that makes the kinetic
-// energy below consistent with Σ_e A_e h_e u_e² (Ringler et al. 2010, §4).
-// he may be nil.
-func (g Grid) EdgeMean(he, flux, h, u []float64, lo, hi int) {
-	cells := g.CellsOnEdge
+// EdgeFlux sets he[e] = (h[c0]+h[c1])/2 and flux[e] = l_e he[e] u[e], the
+// volume flux through edge e (m³ s⁻¹), for e in [lo, hi). The arithmetic
+// mean is the thickness that makes the kinetic energy below consistent with
+// Σ_e A_e h_e u_e² (Ringler et al. 2010, §4). he may be nil.
+func (g Grid) EdgeFlux(he, flux, h, u []float64, lo, hi int) {
+	cells, l := g.CellsOnEdge, g.EdgeLength
 	for e := lo; e < hi; e++ {
 		m := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
 		if he != nil {
 			he[e] = m
 		}
-		flux[e] = m * u[e]
+		flux[e] = l[e] * m * u[e]
 	}
 }
 
 // DivKE sets, for cells i in [lo, hi),
 //
-//	div[i] = (1/A_i) Σ_e n_{e,i} l_e flux_e
+//	div[i] = (1/A_i) Σ_e n_{e,i} flux_e
 //	ke[i]  = (1/A_i) Σ_e (l_e d_e / 4) u_e²
 //
-// (Ringler et al. 2010, eqs. 21 and 49). Either output may be nil.
+// with flux the volume flux through the edges (EdgeFlux) (Ringler et al.
+// 2010, eqs. 21 and 49). Either output may be nil.
 func (g Grid) DivKE(div, ke, flux, u []float64, lo, hi int) {
 	start, edges, sign := g.CellEdgeStart, g.CellEdges, g.CellEdgeSign
 	l, d, area := g.EdgeLength, g.DualLength, g.CellArea
@@ -48,9 +49,8 @@ func (g Grid) DivKE(div, ke, flux, u []float64, lo, hi int) {
 		// hexagonal orientation pattern makes unpredictable.
 		for k := start[i]; k < start[i+1]; k++ {
 			e := edges[k]
-			le := l[e]
-			sd += float64(sign[k]) * (le * flux[e])
-			sk += le * d[e] * u[e] * u[e]
+			sd += float64(sign[k]) * flux[e]
+			sk += l[e] * d[e] * u[e] * u[e]
 		}
 		inv := 1 / area[i]
 		if div != nil {
@@ -84,15 +84,4 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 			hv[v] = m * inv
 		}
 	}
-}
-
-// Perp returns d_e F⊥_e = Σ_{e'} W_{e,e'} l_{e'} x_{e'} for edge e: the
-// TRiSK tangential reconstruction of an edge field x, times d_e.
-func (g Grid) Perp(x []float64, e int) float64 {
-	s := 0.0
-	for p := g.PairStart[e]; p < g.PairStart[e+1]; p++ {
-		ep := g.PairEdges[p]
-		s += g.PairWeight[p] * g.EdgeLength[ep] * x[ep]
-	}
-	return s
 }

@@ -32,9 +32,11 @@ type Scenario struct {
 }
 
 type fileGrid struct {
-	Kind   *string  `toml:"kind"`
-	N      *int     `toml:"n"`
-	Length *float64 `toml:"length"`
+	Kind     *string  `toml:"kind"`
+	N        *int     `toml:"n"`
+	Length   *float64 `toml:"length"`
+	Height   *float64 `toml:"height"`
+	Optimize *string  `toml:"optimize"`
 }
 
 type filePhysics struct {
@@ -97,6 +99,8 @@ func Parse(data []byte, name string) (*Scenario, error) {
 		c.Grid.N = *f.Grid.N
 	}
 	num(&c.Grid.Length, f.Grid.Length)
+	num(&c.Grid.Height, f.Grid.Height)
+	str(&c.Grid.Optimize, f.Grid.Optimize)
 	num(&c.Physics.G, f.Physics.G)
 	num(&c.Physics.F0, f.Physics.F0)
 	num(&c.Physics.Beta, f.Physics.Beta)
@@ -225,6 +229,8 @@ func keys() []key {
 		{"grid.kind", "string", s(func(c *sim.Config) *string { return &c.Grid.Kind })},
 		{"grid.n", "integer", func(c *sim.Config, v any) { c.Grid.N = v.(int) }},
 		{"grid.length", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Length })},
+		{"grid.height", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Height })},
+		{"grid.optimize", "string", s(func(c *sim.Config) *string { return &c.Grid.Optimize })},
 		{"physics.g", "number", f(func(c *sim.Config) *float64 { return &c.Physics.G })},
 		{"physics.f0", "number", f(func(c *sim.Config) *float64 { return &c.Physics.F0 })},
 		{"physics.beta", "number", f(func(c *sim.Config) *float64 { return &c.Physics.Beta })},
@@ -335,6 +341,12 @@ func Format(c sim.Config, description string) []byte {
 		fmt.Fprintf(&b, "description = %s\n", q(description))
 	}
 	fmt.Fprintf(&b, "\n[grid]\nkind = %s\nn = %d\nlength = %s\n", q(c.Grid.Kind), c.Grid.N, g(c.Grid.Length))
+	if c.Grid.Height != 0 {
+		fmt.Fprintf(&b, "height = %s\n", g(c.Grid.Height))
+	}
+	if c.Grid.Optimize != "" {
+		fmt.Fprintf(&b, "optimize = %s\n", q(c.Grid.Optimize))
+	}
 	p := c.Physics
 	fmt.Fprintf(&b, "\n[physics]\ng = %s\nf0 = %s\nbeta = %s\ndepth = %s\nradius = %s\nomega = %s\n",
 		g(p.G), g(p.F0), g(p.Beta), g(p.Depth), g(p.Radius), g(p.Omega))

@@ -29,7 +29,7 @@ type al81 struct {
 	core
 	invDual []float64
 	nb      [][6]int32   // V_NE, V_NW, V_SW, V_SE, U_E, U_W
-	sg      [][6]float64 // sign into the local frame × l_{e'}/d_e
+	sg      [][6]float64 // sign into the local frame / d_e (fluxes are volume fluxes)
 	corner  [][8]int32   // c0: NE, NW, SW, SE; c1: NE, NW, SW, SE
 }
 
@@ -56,7 +56,7 @@ func newAL81(g ops.Grid, phys Physics, pool *par.Pool) *al81 {
 		k1 := func(m int) int { return lo1 + (j1+m)%4 }
 		side := func(k int, s float64) (int32, float64) {
 			ep := g.CellEdges[k]
-			return ep, s * float64(g.CellEdgeSign[k]) * g.EdgeLength[ep] / g.DualLength[e]
+			return ep, s * float64(g.CellEdgeSign[k]) / g.DualLength[e]
 		}
 		s.nb[e][0], s.sg[e][0] = side(k1(3), 1)  // V_NE: north of c1
 		s.nb[e][1], s.sg[e][1] = side(k0(1), 1)  // V_NW: north of c0

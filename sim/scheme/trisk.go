@@ -15,16 +15,19 @@ type core struct {
 	pool *par.Pool
 
 	nc, ne, nv int
-	flux       []float64 // edges: F_e = h_e u_e
+	flux       []float64 // edges: volume flux l_e h_e u_e
 	phi        []float64 // cells: K + g(h + b)
 	q, hv      []float64 // vertices: PV, thickness
 	qe         []float64 // edges: PV brought to the edge
-	qflux      []float64 // edges: q_e F_e
+	qflux      []float64 // edges: q_e × flux
+	lu         []float64 // edges: l_e u_e, only when a scheme needs it (apvm)
+	perp       *ops.TRiSK
+	ga, gb, gu []float64 // cell-slot sums of flux, qflux and lu (ops.TRiSK)
 
 	x, dst []float64 // arguments of the tendency in progress
 
-	phaseFlux, phaseCells, phaseVertices, phaseEdgePV, phaseMomentum func(lo, hi int)
-	edgePV                                                           func(lo, hi int) // hook for apvm
+	phaseFlux, phaseCells, phaseVertices, phaseEdgePV, phaseSums, phaseMomentum func(lo, hi int)
+	edgePV                                                                      func(lo, hi int) // hook for apvm
 }
 
 func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
@@ -35,7 +38,9 @@ func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 		phi:  make([]float64, g.NCells),
 		q:    make([]float64, g.NVertices), hv: make([]float64, g.NVertices),
 		qe: make([]float64, g.NEdges), qflux: make([]float64, g.NEdges),
+		perp: ops.NewTRiSK(g),
 	}
+	c.ga = make([]float64, c.perp.Slots())
 	return c
 }
 
@@ -45,6 +50,17 @@ func (c *core) bind() {
 	c.phaseCells = c.doCells
 	c.phaseVertices = c.doVertices
 	c.phaseEdgePV = c.doEdgePV
+	c.phaseSums = c.doSums
+}
+
+// doSums sets the TRiSK cell sums of the flux and, when the scheme uses
+// it, of q × flux.
+func (c *core) doSums(lo, hi int) {
+	if c.gb != nil {
+		c.perp.CellSums2(c.ga, c.gb, c.flux, c.qflux, lo, hi)
+		return
+	}
+	c.perp.CellSums(c.ga, c.flux, lo, hi)
 }
 
 // run executes the shared phases and then the scheme's momentum phase.
@@ -54,12 +70,19 @@ func (c *core) run(dst, x []float64) {
 	c.pool.For(c.nc, c.phaseCells)
 	c.pool.For(c.nv, c.phaseVertices)
 	c.pool.For(c.ne, c.phaseEdgePV)
+	c.pool.For(c.nc, c.phaseSums)
 	c.pool.For(c.ne, c.phaseMomentum)
 	c.x, c.dst = nil, nil
 }
 
 func (c *core) doFlux(lo, hi int) {
-	c.g.EdgeMean(nil, c.flux, c.x[:c.nc], c.x[c.nc:], lo, hi)
+	u := c.x[c.nc:]
+	c.g.EdgeFlux(nil, c.flux, c.x[:c.nc], u, lo, hi)
+	if c.lu != nil {
+		for e := lo; e < hi; e++ {
+			c.lu[e] = c.g.EdgeLength[e] * u[e]
+		}
+	}
 }
 
 // doCells sets ∂h/∂t = −div F and the Bernoulli function Φ = K + g(h + b).
@@ -105,7 +128,6 @@ func (c *core) doEdgePV(lo, hi int) {
 type trisk struct {
 	core
 	name    string
-	coef    []float64 // W_{e,e'} l_{e'} / d_e, parallel to PairEdges
 	invDual []float64 // 1/d_e
 
 	apvm   float64 // c in q̂ = q − c Δt u·∇q
@@ -116,13 +138,9 @@ type trisk struct {
 
 func newTRiSK(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options) *trisk {
 	s := &trisk{core: newCore(g, phys, pool), name: name}
-	s.coef = make([]float64, len(g.PairEdges))
 	s.invDual = make([]float64, g.NEdges)
-	for e := 0; e < g.NEdges; e++ {
+	for e := range s.invDual {
 		s.invDual[e] = 1 / g.DualLength[e]
-		for p := g.PairStart[e]; p < g.PairStart[e+1]; p++ {
-			s.coef[p] = g.PairWeight[p] * g.EdgeLength[g.PairEdges[p]] / g.DualLength[e]
-		}
 	}
 	s.bind()
 	switch name {
@@ -131,10 +149,14 @@ func newTRiSK(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options
 	case APVM:
 		s.apvm = opt.APVMFactor
 		s.qcell = make([]float64, g.NCells)
+		s.lu = make([]float64, g.NEdges)
+		s.gu = make([]float64, s.perp.Slots())
+		s.gb = make([]float64, s.perp.Slots())
 		s.phaseQ = s.cellPV
 		s.edgePV = s.anticipate
 		s.phaseMomentum = s.momentumEnergy
 	default:
+		s.gb = make([]float64, s.perp.Slots())
 		s.phaseMomentum = s.momentumEnergy
 	}
 	return s
@@ -152,6 +174,7 @@ func (s *trisk) Tendency(dst, x []float64) {
 		s.pool.For(s.nv, s.phaseVertices)
 		s.pool.For(s.nc, s.phaseQ)
 		s.pool.For(s.ne, s.phaseEdgePV)
+		s.pool.For(s.nc, s.phaseSums)
 		s.pool.For(s.ne, s.phaseMomentum)
 		s.x, s.dst = nil, nil
 		return
@@ -159,43 +182,31 @@ func (s *trisk) Tendency(dst, x []float64) {
 	s.run(dst, x)
 }
 
-// momentumEnergy: ∂u_e/∂t = Σ_{e'} C_{ee'} F_{e'} (q_e + q_{e'})/2 − ∂Φ/∂n,
-// the antisymmetric, energy-conserving PV flux (Ringler et al. 2010, eq. 49).
+// momentumEnergy: ∂u_e/∂t = (1/d_e) Σ_{e'} W_{e,e'} F_{e'} (q_e + q_{e'})/2 − ∂Φ/∂n,
+// with F the volume flux: the antisymmetric, energy-conserving PV flux
+// (Ringler et al. 2010, eq. 49).
 func (s *trisk) momentumEnergy(lo, hi int) {
 	du := s.dst[s.nc:]
-	cells, start, pe := s.g.CellsOnEdge, s.g.PairStart, s.g.PairEdges
-	flux, qflux := s.flux, s.qflux
+	cells := s.g.CellsOnEdge
 	for e := lo; e < hi; e++ {
-		p0, p1 := start[e], start[e+1]
-		cs, ps := s.coef[p0:p1], pe[p0:p1:p1]
-		var a, b float64
-		for k, ep := range ps {
-			c := cs[k]
-			a += c * flux[ep]
-			b += c * qflux[ep]
-		}
-		du[e] = 0.5*(s.qe[e]*a+b) - (s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
+		a, b := s.perp.Edge(s.ga, e), s.perp.Edge(s.gb, e)
+		du[e] = (0.5*(s.qe[e]*a+b) - (s.phi[cells[2*e+1]] - s.phi[cells[2*e]])) * s.invDual[e]
 	}
 }
 
-// momentumEnstrophy: ∂u_e/∂t = q_e Σ_{e'} C_{ee'} F_{e'} − ∂Φ/∂n, the PV
+// momentumEnstrophy: ∂u_e/∂t = q_e (1/d_e) Σ_{e'} W_{e,e'} F_{e'} − ∂Φ/∂n, the PV
 // flux q_e F⊥_e that conserves potential enstrophy (Ringler et al. 2010, §5).
 func (s *trisk) momentumEnstrophy(lo, hi int) {
 	du := s.dst[s.nc:]
-	cells, start, pe := s.g.CellsOnEdge, s.g.PairStart, s.g.PairEdges
-	flux := s.flux
+	cells := s.g.CellsOnEdge
 	for e := lo; e < hi; e++ {
-		p0, p1 := start[e], start[e+1]
-		cs, ps := s.coef[p0:p1], pe[p0:p1:p1]
-		var a float64
-		for k, ep := range ps {
-			a += cs[k] * flux[ep]
-		}
-		du[e] = s.qe[e]*a - (s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
+		a := s.perp.Edge(s.ga, e)
+		du[e] = (s.qe[e]*a - (s.phi[cells[2*e+1]] - s.phi[cells[2*e]])) * s.invDual[e]
 	}
 }
 
-// cellPV sets q_i = (1/A_i) Σ_v K_{i,v} q_v, for the normal PV gradient.
+// cellPV sets q_i = (1/A_i) Σ_v K_{i,v} q_v, for the normal PV gradient, and
+// the TRiSK cell sums of l u for the tangential velocity.
 func (s *trisk) cellPV(lo, hi int) {
 	start, verts, kite, area := s.g.CellEdgeStart, s.g.CellVertices, s.g.CellKiteArea, s.g.CellArea
 	for i := lo; i < hi; i++ {
@@ -205,6 +216,7 @@ func (s *trisk) cellPV(lo, hi int) {
 		}
 		s.qcell[i] = m / area[i]
 	}
+	s.perp.CellSums(s.gu, s.lu, lo, hi)
 }
 
 // anticipate applies q̂_e = q_e − c Δt (u_e ∂q/∂n + v_e ∂q/∂t), with v_e the
@@ -217,7 +229,7 @@ func (s *trisk) anticipate(lo, hi int) {
 	for e := lo; e < hi; e++ {
 		dqn := (s.qcell[cells[2*e+1]] - s.qcell[cells[2*e]]) * s.invDual[e]
 		dqt := (s.q[verts[2*e+1]] - s.q[verts[2*e]]) / l[e]
-		v := s.g.Perp(u, e) * s.invDual[e]
+		v := s.perp.Edge(s.gu, e) * s.invDual[e]
 		s.qe[e] -= cdt * (u[e]*dqn + v*dqt)
 	}
 }
