@@ -61,6 +61,9 @@ func TestEnergyErrorOrderInDt(t *testing.T) {
 // uniform grids TRiSK is second order (Ringler et al. 2010, J. Comput.
 // Phys. 229, §7, from memory); the test demands at least 1.8.
 func TestSteadyGeostrophicConvergence(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long; runs in the full suite")
+	}
 	for _, kind := range []string{"quad", "hex"} {
 		var errs []float64
 		ns := []int{16, 32, 64}
@@ -89,6 +92,9 @@ func TestSteadyGeostrophicConvergence(t *testing.T) {
 // trade). The peak position along the row through the centre is found at
 // two times with a parabolic fit.
 func TestGravityWaveSpeed(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long; runs in the full suite")
+	}
 	cfg := DefaultConfig()
 	n := 256
 	cfg.Grid = GridConfig{Kind: "quad", N: n, Length: 2e6}

@@ -74,6 +74,9 @@ func sphereConfig(caseName string, level int, dt float64) Config {
 // the time step halved with the spacing. Mass is conserved to round-off
 // (flux form). GYREBENCH_LONG=1 adds level 6 (about 20 s per grid).
 func TestWilliamson2Convergence(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long; runs in the full suite")
+	}
 	levels := []int{3, 4, 5}
 	if os.Getenv("GYREBENCH_LONG") == "1" {
 		levels = append(levels, 6)
