@@ -98,7 +98,6 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 		x, y := wrap(c.EdgeX[e]-p.vx[v], p.lx), wrap(c.EdgeY[e]-p.vy[v], p.ly)
 		return math.Atan2(y, x)
 	})
-	m.computeWeights()
 	return m
 }
 
@@ -165,7 +164,16 @@ func (m *Mesh) finishVertices(angle func(v int, e int32) float64) {
 	}
 }
 
-// computeWeights fills the TRiSK weights from the kite areas
+// Pairs is the TRiSK weight matrix in CSR form: for edge e,
+// Edges[Start[e]:Start[e+1]] are the edges e' of its two cells (e itself
+// excluded) and Weight the matching W_{e,e'}.
+type Pairs struct {
+	Start  []int32 // NEdges+1
+	Edges  []int32
+	Weight []float64
+}
+
+// TRiSKPairs computes the TRiSK weights from the kite areas
 // (Thuburn et al. 2009, J. Comput. Phys. 228, eq. 33 and §4; Ringler et al.
 // 2010, J. Comput. Phys. 229, eq. 24): for edges e = e_j and e' = e_{j+k} of
 // cell i, counted anticlockwise,
@@ -175,10 +183,14 @@ func (m *Mesh) finishVertices(angle func(v int, e int32) float64) {
 // with R_{i,v} the kite area over the cell area, and
 // W_{e,e'} = Σ_i n_{e,i} n_{e',i} w^i_{e,e'} over the cells shared by both.
 // The within-cell w is antisymmetric because Σ_v R_{i,v} = 1, hence so is W.
-func (m *Mesh) computeWeights() {
+// The mesh does not keep them (ten per edge on hexagons): the schemes
+// evaluate the same sums cell by cell (package ops); this explicit form is
+// for tests and analysis.
+func (m *Mesh) TRiSKPairs() Pairs {
 	t := &m.Topology
 	g := &m.Metric
-	g.PairStart = make([]int32, t.NEdges+1)
+	var pr Pairs
+	pr.Start = make([]int32, t.NEdges+1)
 	total := 0
 	for e := 0; e < t.NEdges; e++ {
 		for s := 0; s < 2; s++ {
@@ -186,10 +198,10 @@ func (m *Mesh) computeWeights() {
 			total += hi - lo - 1
 		}
 	}
-	g.PairEdges = make([]int32, 0, total)
-	g.PairWeight = make([]float64, 0, total)
+	pr.Edges = make([]int32, 0, total)
+	pr.Weight = make([]float64, 0, total)
 	for e := 0; e < t.NEdges; e++ {
-		start := len(g.PairEdges)
+		start := len(pr.Edges)
 		for s := 0; s < 2; s++ {
 			i := int(t.CellsOnEdge[2*e+s])
 			lo, hi := t.EdgesOfCell(i)
@@ -205,20 +217,21 @@ func (m *Mesh) computeWeights() {
 				ep := t.CellEdges[lo+(j+k)%n]
 				w := ne * float64(t.CellEdgeSign[lo+(j+k)%n]) * (0.5 - sum)
 				merged := false
-				for q := start; q < len(g.PairEdges); q++ {
-					if g.PairEdges[q] == ep {
-						g.PairWeight[q] += w
+				for q := start; q < len(pr.Edges); q++ {
+					if pr.Edges[q] == ep {
+						pr.Weight[q] += w
 						merged = true
 					}
 				}
 				if !merged {
-					g.PairEdges = append(g.PairEdges, ep)
-					g.PairWeight = append(g.PairWeight, w)
+					pr.Edges = append(pr.Edges, ep)
+					pr.Weight = append(pr.Weight, w)
 				}
 			}
 		}
-		g.PairStart[e+1] = int32(len(g.PairEdges))
+		pr.Start[e+1] = int32(len(pr.Edges))
 	}
+	return pr
 }
 
 // Dual returns the dual mesh: cells and vertices swap, edges keep their
@@ -256,6 +269,5 @@ func (m *Mesh) Dual(kind Kind) *Mesh {
 	for e := range dc.NormalX {
 		dc.NormalX[e], dc.NormalY[e] = -c.NormalY[e], c.NormalX[e]
 	}
-	d.computeWeights()
 	return d
 }

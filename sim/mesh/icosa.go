@@ -423,7 +423,6 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 		}
 		return float64(j)
 	})
-	m.computeWeights()
 }
 
 // tangentBasis returns unit vectors e1, e2 spanning the tangent plane at

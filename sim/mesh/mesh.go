@@ -34,9 +34,8 @@
 // edge). VertexCells, in the same range, holds the cell that follows each
 // edge anticlockwise, and VertexKiteArea its kite area.
 //
-// The TRiSK weights are stored per edge in CSR form:
-// PairEdges[PairStart[e]:PairStart[e+1]] are the edges e' of the two cells
-// of e (e itself excluded) and PairWeight the matching W_{e,e'}, so that the
+// The TRiSK weights W_{e,e'} follow from the kite areas (TRiSKPairs gives
+// them explicitly; the schemes evaluate them cell by cell), so that the
 // tangential mass flux per unit length is
 //
 //	F⊥_e = (1/d_e) Σ_{e'} W_{e,e'} l_{e'} F_{e'},
@@ -111,9 +110,6 @@ type Metric struct {
 	CellKiteArea   []float64 // parallel to CellVertices
 	VertexKiteArea []float64 // parallel to VertexCells
 
-	PairStart  []int32 // NEdges+1
-	PairEdges  []int32
-	PairWeight []float64 // W_{e,e'}
 }
 
 // Coords holds positions, for initial conditions, output and drawing.

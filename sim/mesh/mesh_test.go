@@ -150,10 +150,11 @@ func TestExactSequence(t *testing.T) {
 func TestTRiSKWeights(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, m := range testMeshes(t) {
+		pr := m.TRiSKPairs()
 		w := map[[2]int32]float64{}
 		for e := 0; e < m.NEdges; e++ {
-			for q := m.PairStart[e]; q < m.PairStart[e+1]; q++ {
-				w[[2]int32{int32(e), m.PairEdges[q]}] = m.PairWeight[q]
+			for q := pr.Start[e]; q < pr.Start[e+1]; q++ {
+				w[[2]int32{int32(e), pr.Edges[q]}] = pr.Weight[q]
 			}
 		}
 		for k, v := range w {
@@ -167,9 +168,9 @@ func TestTRiSKWeights(t *testing.T) {
 		}
 		perp := make([]float64, m.NEdges) // d_e F⊥_e
 		for e := 0; e < m.NEdges; e++ {
-			for q := m.PairStart[e]; q < m.PairStart[e+1]; q++ {
-				ep := m.PairEdges[q]
-				perp[e] += m.PairWeight[q] * m.EdgeLength[ep] * F[ep]
+			for q := pr.Start[e]; q < pr.Start[e+1]; q++ {
+				ep := pr.Edges[q]
+				perp[e] += pr.Weight[q] * m.EdgeLength[ep] * F[ep]
 			}
 		}
 		div := make([]float64, m.NCells)
@@ -207,9 +208,9 @@ func TestTRiSKWeights(t *testing.T) {
 		}
 		for e := 0; e < m.NEdges; e++ {
 			s := 0.0
-			for q := m.PairStart[e]; q < m.PairStart[e+1]; q++ {
-				ep := m.PairEdges[q]
-				s += m.PairWeight[q] * m.EdgeLength[ep] * F[ep]
+			for q := pr.Start[e]; q < pr.Start[e+1]; q++ {
+				ep := pr.Edges[q]
+				s += pr.Weight[q] * m.EdgeLength[ep] * F[ep]
 			}
 			s /= m.DualLength[e]
 			want := -fx*m.NormalY[e] + fy*m.NormalX[e]

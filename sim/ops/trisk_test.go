@@ -22,6 +22,7 @@ func TestTRiSKRecurrenceMatchesWeights(t *testing.T) {
 		}
 		g := Grid{Topology: &m.Topology, Metric: &m.Metric}
 		tr := NewTRiSK(g)
+		pr := m.TRiSKPairs()
 		x := make([]float64, m.NEdges)
 		y := make([]float64, m.NEdges)
 		for e := range x {
@@ -33,11 +34,11 @@ func TestTRiSKRecurrenceMatchesWeights(t *testing.T) {
 		tr.CellSums(G1, x, 0, m.NCells)
 		for e := 0; e < m.NEdges; e++ {
 			var want, wantY, scale float64
-			for p := m.PairStart[e]; p < m.PairStart[e+1]; p++ {
-				w := m.PairWeight[p]
-				want += w * x[m.PairEdges[p]]
-				wantY += w * y[m.PairEdges[p]]
-				scale += math.Abs(w * x[m.PairEdges[p]])
+			for p := pr.Start[e]; p < pr.Start[e+1]; p++ {
+				w := pr.Weight[p]
+				want += w * x[pr.Edges[p]]
+				wantY += w * y[pr.Edges[p]]
+				scale += math.Abs(w * x[pr.Edges[p]])
 			}
 			got, gotY := tr.Edge(G, e), tr.Edge(H, e)
 			if math.Abs(got-want) > 1e-14*scale || math.Abs(gotY-wantY) > 1e-14*scale*10 || tr.Edge(G1, e) != got {
