@@ -223,6 +223,7 @@ type BenchResult struct {
 	GoMaxProcs          int     `json:"gomaxprocs"`
 	MeshBuildSeconds    float64 `json:"mesh_build_seconds"`
 	PeakHeapMegabytes   float64 `json:"peak_heap_megabytes"`
+	LiveHeapMegabytes   float64 `json:"live_heap_megabytes"`
 	BytesAllocatedSteps uint64  `json:"bytes_allocated_during_steps"`
 }
 
@@ -268,6 +269,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	defer m.Close()
 	build := time.Since(t0)
 	var before, after runtime.MemStats
+	runtime.GC() // so that the live heap below is the model's, not the build's garbage
 	runtime.ReadMemStats(&before)
 	start := time.Now()
 	for i := 0; i < *steps; i++ {
@@ -287,6 +289,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 		Scheme:             *schemeName, Integrator: *integ, GoMaxProcs: runtime.GOMAXPROCS(0),
 		MeshBuildSeconds:    build.Seconds(),
 		PeakHeapMegabytes:   float64(after.HeapSys) / (1 << 20),
+		LiveHeapMegabytes:   float64(before.HeapAlloc) / (1 << 20),
 		BytesAllocatedSteps: after.TotalAlloc - before.TotalAlloc,
 	}
 	b, _ := json.Marshal(res)

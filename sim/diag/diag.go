@@ -33,24 +33,23 @@ type Invariants struct {
 	MaxSpeed           float64 // max |u_e|, m/s
 }
 
-// Calculator computes invariants, reusing its scratch space.
+// Calculator computes invariants and derived fields. It works through the
+// mesh in fixed chunks with small scratch buffers, so it costs almost no
+// memory beside the model.
 type Calculator struct {
-	g       ops.Grid
-	grav    float64
-	f, b    []float64
-	he, flx []float64
-	zeta    []float64
-	hv      []float64
+	g    ops.Grid
+	grav float64
+	f, b []float64
+	a, c []float64 // chunk scratch
 }
+
+// chunk is the number of elements processed at a time.
+const chunk = 2048
 
 // New returns a calculator for the grid, gravity, Coriolis parameter at
 // vertices and bottom height at cells (nil for flat).
 func New(g ops.Grid, grav float64, fVertex, bottom []float64) *Calculator {
-	return &Calculator{
-		g: g, grav: grav, f: fVertex, b: bottom,
-		he: make([]float64, g.NEdges), flx: make([]float64, g.NEdges),
-		zeta: make([]float64, g.NVertices), hv: make([]float64, g.NVertices),
-	}
+	return &Calculator{g: g, grav: grav, f: fVertex, b: bottom, a: make([]float64, chunk), c: make([]float64, chunk)}
 }
 
 // Compute returns the invariants of x = [h | u] for time step dt.
@@ -58,8 +57,6 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 	g := c.g
 	nc := g.NCells
 	h, u := x[:nc], x[nc:]
-	g.EdgeFlux(c.he, c.flx, h, u, 0, g.NEdges)
-	g.Vorticity(c.zeta, c.hv, u, h, 0, g.NVertices)
 	inv := Invariants{HMin: math.Inf(1), HMax: math.Inf(-1)}
 	for i, hi := range h {
 		a := g.CellArea[i]
@@ -74,18 +71,29 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 		}
 		inv.HMax = max(inv.HMax, hi)
 	}
-	for e, ue := range u {
-		inv.Energy += 0.5 * g.EdgeLength[e] * g.DualLength[e] * c.he[e] * ue * ue
-		s := math.Abs(ue)
-		inv.MaxSpeed = max(inv.MaxSpeed, s)
-		inv.CourantAdvective = max(inv.CourantAdvective, s*dt/g.DualLength[e])
-		inv.CourantGravity = max(inv.CourantGravity, math.Sqrt(c.grav*math.Max(c.he[e], 0))*dt/g.DualLength[e])
+	he, flx := c.a, c.c
+	for lo := 0; lo < g.NEdges; lo += chunk {
+		hi := min(lo+chunk, g.NEdges)
+		g.EdgeFlux(he, flx, h, u, lo, hi)
+		for e := lo; e < hi; e++ {
+			ue, hm, d := u[e], he[e-lo], g.DualLength[e]
+			inv.Energy += 0.5 * g.EdgeLength[e] * d * hm * ue * ue
+			s := math.Abs(ue)
+			inv.MaxSpeed = max(inv.MaxSpeed, s)
+			inv.CourantAdvective = max(inv.CourantAdvective, s*dt/d)
+			inv.CourantGravity = max(inv.CourantGravity, math.Sqrt(c.grav*math.Max(hm, 0))*dt/d)
+		}
 	}
-	for v := range c.zeta {
-		eta := c.zeta[v] + c.f[v]
-		a := g.VertexArea[v]
-		inv.Circulation += a * eta
-		inv.PotentialEnstrophy += 0.5 * a * eta * eta / c.hv[v]
+	zeta, hv := c.a, c.c
+	for lo := 0; lo < g.NVertices; lo += chunk {
+		hi := min(lo+chunk, g.NVertices)
+		g.Vorticity(zeta, hv, u, h, lo, hi)
+		for v := lo; v < hi; v++ {
+			eta := zeta[v-lo] + c.f[v]
+			a := g.VertexArea[v]
+			inv.Circulation += a * eta
+			inv.PotentialEnstrophy += 0.5 * a * eta * eta / hv[v-lo]
+		}
 	}
 	return inv
 }
@@ -95,13 +103,17 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 func (c *Calculator) Vorticity(zeta, pv, x []float64) {
 	g := c.g
 	nc := g.NCells
-	if zeta == nil {
-		zeta = c.zeta
-	}
-	g.Vorticity(zeta, c.hv, x[nc:], x[:nc], 0, g.NVertices)
-	if pv != nil {
-		for v := range pv {
-			pv[v] = (zeta[v] + c.f[v]) / c.hv[v]
+	z, hv := c.a, c.c
+	for lo := 0; lo < g.NVertices; lo += chunk {
+		hi := min(lo+chunk, g.NVertices)
+		g.Vorticity(z, hv, x[nc:], x[:nc], lo, hi)
+		for v := lo; v < hi; v++ {
+			if zeta != nil {
+				zeta[v] = z[v-lo]
+			}
+			if pv != nil {
+				pv[v] = (z[v-lo] + c.f[v]) / hv[v-lo]
+			}
 		}
 	}
 }
@@ -111,10 +123,11 @@ func (c *Calculator) Divergence(div, x []float64) {
 	g := c.g
 	nc := g.NCells
 	u := x[nc:]
+	lu := make([]float64, g.NEdges) // not a hot path: drawn on request
 	for e, ue := range u {
-		c.flx[e] = g.EdgeLength[e] * ue
+		lu[e] = g.EdgeLength[e] * ue
 	}
-	g.DivKE(div, nil, c.flx, u, 0, nc)
+	g.DivKE(div, nil, lu, u, 0, nc)
 }
 
 // KineticEnergy fills ke with K = |u|²/2 at cells.

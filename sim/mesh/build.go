@@ -30,8 +30,17 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 
 	// Edges, in order of discovery; the first cell to meet an edge is c0.
 	type pair struct{ a, b int32 }
-	edgeOf := make(map[pair]int32)
+	sides := 0
+	for _, vs := range p.cellVerts {
+		sides += len(vs)
+	}
+	edgeOf := make(map[pair]int32, sides/2)
 	t.CellEdgeStart = make([]int32, nc+1)
+	t.CellsOnEdge = make([]int32, 0, sides)
+	t.VerticesOnEdge = make([]int32, 0, sides)
+	t.CellEdges = make([]int32, 0, sides)
+	t.CellEdgeSign = make([]int8, 0, sides)
+	t.CellVertices = make([]int32, 0, sides)
 	for i, vs := range p.cellVerts {
 		for k := range vs {
 			va, vb := vs[k], vs[(k+1)%len(vs)]

@@ -3,7 +3,9 @@
 // cells to vertices, edge means and the kinetic energy.
 //
 // Each operator works on an index range [lo, hi) of its output so that a
-// caller can split it over workers; none allocates. The operators follow
+// caller can split it over workers or work in small chunks; output slices
+// cover just that range (element k of the output is index lo+k), inputs
+// are whole fields. None allocates. The operators follow
 // Ringler, Thuburn, Klemp & Skamarock (2010, J. Comput. Phys. 229,
 // 3065–3090), written with the conventions of package mesh: h on cells,
 // u on edges along n_e, vorticity and potential vorticity on vertices.
@@ -27,9 +29,9 @@ func (g Grid) EdgeFlux(he, flux, h, u []float64, lo, hi int) {
 	for e := lo; e < hi; e++ {
 		m := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
 		if he != nil {
-			he[e] = m
+			he[e-lo] = m
 		}
-		flux[e] = l[e] * m * u[e]
+		flux[e-lo] = l[e] * m * u[e]
 	}
 }
 
@@ -54,10 +56,10 @@ func (g Grid) DivKE(div, ke, flux, u []float64, lo, hi int) {
 		}
 		inv := 1 / area[i]
 		if div != nil {
-			div[i] = sd * inv
+			div[i-lo] = sd * inv
 		}
 		if ke != nil {
-			ke[i] = 0.25 * sk * inv
+			ke[i-lo] = 0.25 * sk * inv
 		}
 	}
 }
@@ -78,10 +80,10 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 		}
 		inv := 1 / area[v]
 		if zeta != nil {
-			zeta[v] = c * inv
+			zeta[v-lo] = c * inv
 		}
 		if hv != nil {
-			hv[v] = m * inv
+			hv[v-lo] = m * inv
 		}
 	}
 }

@@ -77,7 +77,7 @@ func (c *core) run(dst, x []float64) {
 
 func (c *core) doFlux(lo, hi int) {
 	u := c.x[c.nc:]
-	c.g.EdgeFlux(nil, c.flux, c.x[:c.nc], u, lo, hi)
+	c.g.EdgeFlux(nil, c.flux[lo:hi], c.x[:c.nc], u, lo, hi)
 	if c.lu != nil {
 		for e := lo; e < hi; e++ {
 			c.lu[e] = c.g.EdgeLength[e] * u[e]
@@ -89,7 +89,7 @@ func (c *core) doFlux(lo, hi int) {
 func (c *core) doCells(lo, hi int) {
 	h, u := c.x[:c.nc], c.x[c.nc:]
 	dh := c.dst[:c.nc]
-	c.g.DivKE(dh, c.phi, c.flux, u, lo, hi)
+	c.g.DivKE(dh[lo:hi], c.phi[lo:hi], c.flux, u, lo, hi)
 	grav, b := c.phys.G, c.phys.Bottom
 	for i := lo; i < hi; i++ {
 		dh[i] = -dh[i]
@@ -103,7 +103,7 @@ func (c *core) doCells(lo, hi int) {
 
 // doVertices sets q_v = (ζ_v + f_v)/h_v (Ringler et al. 2010, eq. 26).
 func (c *core) doVertices(lo, hi int) {
-	c.g.Vorticity(c.q, c.hv, c.x[c.nc:], c.x[:c.nc], lo, hi)
+	c.g.Vorticity(c.q[lo:hi], c.hv[lo:hi], c.x[c.nc:], c.x[:c.nc], lo, hi)
 	f := c.phys.FVertex
 	for v := lo; v < hi; v++ {
 		c.q[v] = (c.q[v] + f[v]) / c.hv[v]
