@@ -42,6 +42,7 @@ type Summary struct {
 	Cells              int         `json:"cells"`
 	Edges              int         `json:"edges"`
 	Vertices           int         `json:"vertices"`
+	SpacingM           float64     `json:"spacing_m"` // mean distance between neighbouring cell centres
 	Scheme             string      `json:"scheme"`
 	Integrator         string      `json:"integrator"`
 	Dt                 float64     `json:"dt_s"`
@@ -336,7 +337,7 @@ func (r *runner) makeSummary(runErr error) *Summary {
 	c := m.Config()
 	s := &Summary{
 		Title: c.Title, Grid: c.Grid.Kind, N: c.Grid.N,
-		Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices,
+		Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices, SpacingM: msh.Spacing(),
 		Scheme: c.Scheme.Name, Integrator: c.Time.Integrator, Dt: c.Time.Dt,
 		Steps: m.Steps(), TimeS: m.Time(), WallSeconds: r.wall.Seconds(), Workers: max(r.opt.Workers, 1),
 		Mass: inv.Mass, Energy: inv.Energy, PotentialEnstrophy: inv.PotentialEnstrophy,

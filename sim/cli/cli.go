@@ -48,11 +48,13 @@ func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return cmdScenarios(args[1:], stdout, stderr)
 	case "bench":
 		return cmdBench(args[1:], stdout, stderr)
+	case "sweep":
+		return cmdSweep(ctx, args[1:], stdout, stderr)
 	case "help", "-h", "--help":
 		usage(stdout)
 		return ExitOK
 	}
-	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, bench\n", args[0])
+	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, sweep, bench\n", args[0])
 	return ExitBadInput
 }
 
@@ -64,6 +66,7 @@ func usage(w io.Writer) {
   gyrebench scenarios                         list the built-in scenarios
   gyrebench scenarios show NAME               print a built-in scenario
   gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W]
+  gyrebench sweep FILE_OR_NAME --vary key=v1,v2,... [--set key=value]... --out DIR [--jobs J] [--jobs-file PATH] | --collect DIR
 `)
 }
 

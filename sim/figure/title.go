@@ -1,0 +1,37 @@
+package figure
+
+import (
+	"fmt"
+	"strings"
+
+	"gyrebench/sim"
+	"gyrebench/sim/mesh"
+)
+
+// Title is the figure title of a run: its scenario title, its choices and
+// the simulated time, e.g.
+//
+//	Steady geostrophic zonal flow · hex n=64 · trisk-energy · rk4 Δt=60 s · t = 1.50 d
+func Title(c sim.Config, timeS float64) string {
+	grid := fmt.Sprintf("%s n=%d", c.Grid.Kind, c.Grid.N)
+	if c.Grid.Kind == string(mesh.Icosahedral) {
+		grid = fmt.Sprintf("icosahedral level %d", c.Grid.N)
+	}
+	parts := []string{grid, c.Scheme.Name, fmt.Sprintf("%s Δt=%g s", c.Time.Integrator, c.Time.Dt), "t = " + SimTime(timeS)}
+	if c.Title != "" {
+		parts = append([]string{c.Title}, parts...)
+	}
+	return strings.Join(parts, " · ")
+}
+
+// SimTime writes a simulated time in seconds below an hour, hours below
+// two days, and days beyond.
+func SimTime(t float64) string {
+	switch {
+	case t < 3600:
+		return fmt.Sprintf("%g s", t)
+	case t < 2*86400:
+		return fmt.Sprintf("%.2f h", t/3600)
+	}
+	return fmt.Sprintf("%.2f d", t/86400)
+}
