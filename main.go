@@ -1,0 +1,51 @@
+// Command gyrebench is a workbench for discretisations of the rotating
+// shallow-water equations: `gyrebench serve` (also plain `go run .`) opens
+// the live browser workbench; `run`, `scenarios` and `bench` work headless.
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"os"
+	"os/signal"
+	"runtime"
+	"syscall"
+
+	"gyrebench/server"
+	"gyrebench/sim/cli"
+)
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	args := os.Args[1:]
+	if len(args) == 0 || args[0] == "serve" {
+		if len(args) > 0 {
+			args = args[1:]
+		}
+		os.Exit(serve(ctx, args))
+	}
+	os.Exit(cli.Main(ctx, args, os.Stdout, os.Stderr))
+}
+
+func serve(ctx context.Context, args []string) int {
+	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
+	addr := fs.String("addr", "127.0.0.1:8080", "listen address; anything but loopback exposes the workbench to the network")
+	scenario := fs.String("scenario", "", "built-in scenario name or scenario file to open (default: the built-in default)")
+	workers := fs.Int("workers", runtime.NumCPU(), "goroutines per run for the tendency loops")
+	ring := fs.Int("ring", 64, "recent states kept per run for scrubbing back after a blow-up")
+	if err := fs.Parse(args); err != nil {
+		return cli.ExitBadInput
+	}
+	if fs.NArg() > 0 {
+		fmt.Fprintf(os.Stderr, "gyrebench serve: unexpected argument %q\n", fs.Arg(0))
+		return cli.ExitBadInput
+	}
+	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr})
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "gyrebench serve: %v\n", err)
+		return cli.ExitBadInput
+	}
+	return cli.ExitOK
+}

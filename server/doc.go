@@ -1,0 +1,72 @@
+// Package server is the live workbench: HTTP routes (chi), a registry of
+// runs, one goroutine per run that owns its *sim.Model, and a websocket hub
+// that streams fields, invariants and control messages to browsers.
+//
+// # Runs
+//
+// A run is a goroutine that owns one model and everything derived from it:
+// the series of invariant points, the change markers, the ring buffer of
+// recent states and the set of subscribers. Everything reaches it as a
+// command on one channel (play, pause, step, reset, set-dt, set-integrator,
+// set-scheme, set-grid, set-field, load, scrub, and a subscriber joining or
+// leaving), so nothing in a run is shared and nothing needs a lock. Several
+// runs can exist; several websocket clients can watch one run, and they all
+// see and control the same thing. A run pauses when its last watcher
+// leaves.
+//
+// A scheme, integrator or Δt change takes effect at the next step on the
+// same state; a grid change goes through sim.Model.Regrid, which remaps the
+// state conservatively. Each is recorded as a marker in the series. Every
+// ringEvery steps (and at a blow-up) the state is copied into a ring of
+// Options.RingSize entries; scrubbing sets the model to one of them, and
+// the first step or change after that forgets the entries, points and
+// markers that came later.
+//
+// # Latest wins
+//
+// The run never waits for a client. Each subscriber has an ordered queue of
+// control messages (JSON text, and the binary geometry) and a single slot
+// for the newest field frame. Offering a frame replaces the one in the slot;
+// the replaced frame counts as skipped, and the next frame the client does
+// receive carries that count. A client whose control queue overflows (it
+// stopped reading) is disconnected with a message.
+//
+// # Wire format
+//
+// Client to server: JSON text messages {"id": 7, "cmd": "set-dt", "value": 60}.
+// id is optional and echoed in the reply: {"type":"ack"} on success or
+// {"type":"error", "field", "value", "message"} on refusal; a refused
+// command changes nothing.
+//
+// Server to client, JSON text: hello (names and labels the UI offers),
+// config (the current choices and limits), status (state, steps, time,
+// steps per second, the server's clock wall_s, frames skipped for slow
+// watchers, the blow-up if any), point (one row of invariants as relative
+// drifts),
+// history (all points and markers; sent on joining, and after a reset, a
+// load or a rewind),
+// marker (a mid-run change), ring (the times of the states one can rewind
+// to), ack and error.
+//
+// Server to client, binary, little-endian, every section 4-byte aligned so
+// the browser reads it with typed-array views:
+//
+//	geometry (sent once per grid):
+//	  u8 kind=1, u8 sphere (0 plane, 1 sphere), u16 0, u32 gen,
+//	  u32 nCells, u32 nVertices, u32 nCellPoints, u32 nDualPoints, u32 0,
+//	  u32 0, f64 periodX, f64 periodY (0: not periodic),
+//	  u32 cellStart[nCells+1], u32 dualStart[nVertices+1],
+//	  f32 cellXY[2·nCellPoints], f32 dualXY[2·nDualPoints]
+//	  (metres on the plane, degrees of longitude and latitude on the
+//	  sphere; each cell polygon anticlockwise and unwrapped onto the
+//	  periodic image nearest its centre; dual polygons, one per vertex,
+//	  likewise around the vertex)
+//	field frame:
+//	  u8 kind=2, u8 field, u8 location (0 cells, 1 vertices), u8 0,
+//	  u32 gen, u32 skipped, u32 count, f64 time (s), f64 steps,
+//	  f32 min, f32 max, f32 values[count]
+//
+// Field values travel as float32: 4 bytes per value plus a 40-byte header,
+// so a 16 384-cell hexagonal grid costs 65 576 bytes per cell field and
+// 131 112 bytes per vertex field (32 768 vertices).
+package server

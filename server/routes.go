@@ -1,0 +1,255 @@
+package server
+
+import (
+	"bytes"
+	"encoding/json"
+	"net/http"
+	"net/url"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/a-h/templ"
+	"github.com/go-chi/chi/v5"
+	"github.com/go-chi/chi/v5/middleware"
+
+	"gyrebench/scenarios"
+	"gyrebench/sim/scenario"
+	"gyrebench/sim/scheme"
+	"gyrebench/sim/step"
+	"gyrebench/web"
+)
+
+// Labels for people; the wire names are the engine's.
+var (
+	schemeLabels = map[string]string{
+		scheme.TRiSKEnergy:    "TRiSK, energy-conserving",
+		scheme.TRiSKEnstrophy: "TRiSK, enstrophy-conserving",
+		scheme.APVM:           "TRiSK with anticipated PV (APVM)",
+		scheme.AL81:           "Arakawa–Lamb 1981 (quad only)",
+	}
+	integratorLabels = map[string]string{
+		step.RK3:      "Runge–Kutta, 3rd order",
+		step.RK4:      "Runge–Kutta, classical 4th order",
+		step.Leapfrog: "leapfrog with Robert–Asselin filter",
+		step.Euler:    "forward Euler",
+	}
+	gridLabels = map[string]string{
+		"quad": "quadrilateral",
+		"hex":  "hexagonal",
+		"tri":  "triangular",
+	}
+)
+
+func label(m map[string]string, name string) string {
+	if l, ok := m[name]; ok {
+		return l
+	}
+	return name
+}
+
+func (s *Server) routes() chi.Router {
+	r := chi.NewRouter()
+	r.Use(middleware.GetHead)
+	r.Get("/", s.serveIndex)
+	r.Get("/runs", s.serveRuns)
+	r.Post("/runs", s.createRun)
+	r.Get("/run/{id}", s.serveRunPage)
+	r.Get("/run/{id}/ws", s.serveWS)
+	r.Get("/api/runs", s.serveRunsJSON)
+	r.Get("/static/*", s.serveStatic)
+	r.NotFound(func(w http.ResponseWriter, req *http.Request) {
+		http.Error(w, "not found: "+req.URL.Path+" (the workbench is at /)", http.StatusNotFound)
+	})
+	return r
+}
+
+// serveIndex sends everyone to the oldest run, so that a room full of
+// people opening the same address watch the same run.
+func (s *Server) serveIndex(w http.ResponseWriter, req *http.Request) {
+	rs := s.Runs()
+	if len(rs) == 0 {
+		http.Redirect(w, req, "/runs", http.StatusSeeOther)
+		return
+	}
+	http.Redirect(w, req, "/run/"+rs[0].ID(), http.StatusSeeOther)
+}
+
+func (s *Server) scenarioOptions(selected string) []web.Option {
+	var opts []web.Option
+	for _, name := range scenarios.Names() {
+		desc := ""
+		if src, err := scenarios.Source(name); err == nil {
+			if sc, err := scenario.Parse(src, name); err == nil {
+				desc = sc.Description
+			}
+		}
+		opts = append(opts, web.Option{Value: name, Label: name, Title: desc, Selected: name == selected})
+	}
+	return opts
+}
+
+func options(names []string, labels map[string]string, selected string) []web.Option {
+	var opts []web.Option
+	for _, n := range names {
+		opts = append(opts, web.Option{Value: n, Label: label(labels, n), Title: n, Selected: n == selected})
+	}
+	return opts
+}
+
+func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
+	run := s.Run(chi.URLParam(req, "id"))
+	if run == nil {
+		http.Error(w, "no run "+strconv.Quote(chi.URLParam(req, "id"))+"; the open runs are listed at /runs", http.StatusNotFound)
+		return
+	}
+	in := run.Info()
+	var fields []web.Option
+	for _, f := range fieldDefs {
+		fields = append(fields, web.Option{Value: f.Name, Label: f.Label + " (" + f.Units + ")", Title: f.Name, Selected: f.Name == in.Field})
+	}
+	v := web.RunView{
+		ID: in.ID, Title: in.Title, Scenario: in.Scenario,
+		Scenarios:   s.scenarioOptions(in.Scenario),
+		Schemes:     options(scheme.Names, schemeLabels, in.Scheme),
+		Integrators: options(step.Names, integratorLabels, in.Integrator),
+		Grids:       options(gridKinds, gridLabels, in.Grid),
+		Fields:      fields,
+		Dt:          strconv.FormatFloat(in.Dt, 'g', -1, 64),
+		N:           strconv.Itoa(in.N),
+		State:       in.State,
+		Time:        fmtTime(in.Time),
+		RingSize:    s.opt.RingSize,
+	}
+	render(w, req, web.RunPage(v))
+}
+
+func (s *Server) serveRuns(w http.ResponseWriter, req *http.Request) {
+	s.renderRuns(w, req, "", http.StatusOK)
+}
+
+func (s *Server) renderRuns(w http.ResponseWriter, req *http.Request, msg string, code int) {
+	v := web.RunsView{Scenarios: s.scenarioOptions(scenarios.Default), Message: msg}
+	for _, r := range s.Runs() {
+		in := r.Info()
+		v.Runs = append(v.Runs, web.RunRow{
+			ID: in.ID, Scenario: in.Scenario, Title: in.Title,
+			Grid:   in.Grid + " n = " + strconv.Itoa(in.N),
+			Scheme: in.Scheme, Integrator: in.Integrator, State: in.State,
+			Time: fmtTime(in.Time), Watchers: in.Subscribers,
+		})
+	}
+	w.WriteHeader(code)
+	render(w, req, web.RunsPage(v))
+}
+
+// createRun starts a new run of a built-in scenario (form field
+// "scenario") and sends the browser to it.
+func (s *Server) createRun(w http.ResponseWriter, req *http.Request) {
+	if !sameOrigin(req) {
+		http.Error(w, "cross-site request refused: runs are created from the workbench's own pages", http.StatusForbidden)
+		return
+	}
+	req.Body = http.MaxBytesReader(w, req.Body, 4096)
+	if err := req.ParseForm(); err != nil {
+		s.renderRuns(w, req, "form: "+err.Error(), http.StatusBadRequest)
+		return
+	}
+	name := req.PostForm.Get("scenario")
+	if _, err := scenarios.Source(name); err != nil {
+		s.renderRuns(w, req, err.Error(), http.StatusBadRequest)
+		return
+	}
+	label, cfg, err := loadScenario(name)
+	if err != nil {
+		s.renderRuns(w, req, err.Error(), http.StatusBadRequest)
+		return
+	}
+	r, err := s.startRun(label, cfg)
+	if err != nil {
+		s.renderRuns(w, req, err.Error(), http.StatusTooManyRequests)
+		return
+	}
+	http.Redirect(w, req, "/run/"+r.ID(), http.StatusSeeOther)
+}
+
+// sameOrigin refuses form posts from other sites: the browser's
+// Sec-Fetch-Site, or else the Origin header, must say this site.
+func sameOrigin(req *http.Request) bool {
+	switch req.Header.Get("Sec-Fetch-Site") {
+	case "", "same-origin", "none":
+	default:
+		return false
+	}
+	if o := req.Header.Get("Origin"); o != "" {
+		u, err := url.Parse(o)
+		return err == nil && strings.EqualFold(u.Host, req.Host)
+	}
+	return true
+}
+
+func (s *Server) serveRunsJSON(w http.ResponseWriter, req *http.Request) {
+	var infos []RunInfo
+	for _, r := range s.Runs() {
+		infos = append(infos, r.Info())
+	}
+	w.Header().Set("Content-Type", "application/json")
+	_ = json.NewEncoder(w).Encode(infos)
+}
+
+func (s *Server) serveStatic(w http.ResponseWriter, req *http.Request) {
+	name := strings.TrimPrefix(req.URL.Path, "/static/")
+	f, ok := s.files[name]
+	if !ok {
+		http.Error(w, "not found: "+req.URL.Path, http.StatusNotFound)
+		return
+	}
+	h := w.Header()
+	h.Set("Content-Type", f.ctype)
+	h.Set("ETag", f.etag)
+	h.Set("Cache-Control", "no-cache")
+	http.ServeContent(w, req, name, time.Time{}, bytes.NewReader(f.data))
+}
+
+func render(w http.ResponseWriter, req *http.Request, c templ.Component) {
+	w.Header().Set("Content-Type", "text/html; charset=utf-8")
+	w.Header().Set("Cache-Control", "no-store")
+	var b bytes.Buffer
+	if err := c.Render(req.Context(), &b); err != nil {
+		http.Error(w, "rendering the page: "+err.Error(), http.StatusInternalServerError)
+		return
+	}
+	_, _ = w.Write(b.Bytes())
+}
+
+// helloMsg names what a run offers: fields with units and colour maps,
+// the choices of each menu, and the protocol version.
+func helloMsg(id string) []byte {
+	type field struct {
+		ID       uint8  `json:"id"`
+		Name     string `json:"name"`
+		Label    string `json:"label"`
+		Units    string `json:"units"`
+		Location string `json:"location"`
+		Map      string `json:"map"`
+	}
+	var fs []field
+	for _, f := range fieldDefs {
+		loc := "cells"
+		if f.Loc == OnVertices {
+			loc = "vertices"
+		}
+		fs = append(fs, field{f.ID, f.Name, f.Label, f.Units, loc, f.Map})
+	}
+	return mustJSON(struct {
+		Type        string   `json:"type"`
+		Protocol    int      `json:"protocol"`
+		Run         string   `json:"run"`
+		Fields      []field  `json:"fields"`
+		Schemes     []string `json:"schemes"`
+		Integrators []string `json:"integrators"`
+		Grids       []string `json:"grids"`
+		Scenarios   []string `json:"scenarios"`
+		Commands    []string `json:"commands"`
+	}{"hello", 1, id, fs, scheme.Names, step.Names, gridKinds, scenarios.Names(), commands})
+}

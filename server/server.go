@@ -1,0 +1,321 @@
+package server
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/base64"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"net"
+	"net/http"
+	"os"
+	"path"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/go-chi/chi/v5"
+
+	"gyrebench/scenarios"
+	"gyrebench/sim"
+	"gyrebench/sim/scenario"
+	"gyrebench/static"
+)
+
+// Options configure the workbench.
+type Options struct {
+	Addr     string // listen address; "" = 127.0.0.1:8080
+	Workers  int    // goroutines per run for the engine's loops; ≤ 0 = 1
+	RingSize int    // recent states kept per run; ≤ 0 = DefaultRingSize
+	// Scenario opens the first run: a built-in name or a scenario file;
+	// "" = scenarios.Default.
+	Scenario string
+	Stderr   io.Writer // where the URL and warnings go; nil = discard
+}
+
+// DefaultAddr is where Serve listens when Options.Addr is empty.
+const DefaultAddr = "127.0.0.1:8080"
+
+// MaxRuns bounds the runs one server holds.
+const MaxRuns = 16
+
+// HTTP timeouts. Websocket connections are hijacked, which clears the
+// connection deadlines these set, so they apply to pages and files only;
+// a websocket write has its own timeout (writeTimeout).
+const (
+	readHeaderTimeout = 5 * time.Second
+	readTimeout       = 30 * time.Second
+	writeTimeout      = 30 * time.Second
+	idleTimeout       = 120 * time.Second
+	shutdownTimeout   = 5 * time.Second
+	sendBuffer        = 256 << 10 // bytes of socket send buffer per connection
+)
+
+// Server is the workbench as an http.Handler: pages, static files, the
+// run registry and the websocket endpoints. Close stops its runs.
+type Server struct {
+	opt    Options
+	ctx    context.Context
+	cancel context.CancelFunc
+	mux    chi.Router
+	files  map[string]staticFile
+
+	mu     sync.Mutex
+	closed bool
+	runs   map[string]*Run
+	order  []string // run ids, oldest first
+	next   int
+	conns  sync.WaitGroup
+}
+
+type staticFile struct {
+	data  []byte
+	etag  string
+	ctype string
+}
+
+// New builds the workbench and its first run. It does not listen; use it
+// as an http.Handler (tests do), or call Serve.
+func New(opt Options) (*Server, error) {
+	if opt.Workers <= 0 {
+		opt.Workers = 1
+	}
+	if opt.RingSize <= 0 {
+		opt.RingSize = DefaultRingSize
+	}
+	if opt.Stderr == nil {
+		opt.Stderr = io.Discard
+	}
+	name := opt.Scenario
+	if name == "" {
+		name = scenarios.Default
+	}
+	label, cfg, err := loadScenario(name)
+	if err != nil {
+		return nil, err
+	}
+	files, err := loadStatic()
+	if err != nil {
+		return nil, err
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	s := &Server{opt: opt, ctx: ctx, cancel: cancel, files: files, runs: map[string]*Run{}}
+	if _, err := s.startRun(label, cfg); err != nil {
+		cancel()
+		return nil, err
+	}
+	s.mux = s.routes()
+	return s, nil
+}
+
+// loadScenario reads a built-in scenario or a scenario file and validates
+// it. The label is the built-in name or the file's base name.
+func loadScenario(name string) (string, sim.Config, error) {
+	src, err := scenarios.Source(name)
+	label := name
+	if err != nil {
+		data, ferr := os.ReadFile(name)
+		if ferr != nil {
+			return "", sim.Config{}, fmt.Errorf("scenario %q: neither a built-in (%s) nor a readable file: %v",
+				name, strings.Join(scenarios.Names(), ", "), ferr)
+		}
+		src, label = data, strings.TrimSuffix(path.Base(name), ".toml")
+	}
+	sc, err := scenario.Parse(src, name)
+	if err != nil {
+		return "", sim.Config{}, err
+	}
+	if err := sc.Config.Validate(); err != nil {
+		return "", sim.Config{}, fmt.Errorf("scenario %s: %w", name, err)
+	}
+	return label, sc.Config, nil
+}
+
+func loadStatic() (map[string]staticFile, error) {
+	files := map[string]staticFile{}
+	err := fs.WalkDir(static.Files, ".", func(p string, d fs.DirEntry, err error) error {
+		if err != nil || d.IsDir() {
+			return err
+		}
+		data, err := fs.ReadFile(static.Files, p)
+		if err != nil {
+			return err
+		}
+		sum := sha256.Sum256(data)
+		ctype := "application/octet-stream"
+		switch path.Ext(p) {
+		case ".js":
+			ctype = "text/javascript; charset=utf-8"
+		case ".css":
+			ctype = "text/css; charset=utf-8"
+		case ".svg":
+			ctype = "image/svg+xml"
+		}
+		files[p] = staticFile{data: data, etag: `"` + base64.RawURLEncoding.EncodeToString(sum[:12]) + `"`, ctype: ctype}
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("reading embedded static files: %w", err)
+	}
+	return files, nil
+}
+
+// startRun registers a new run of the given scenario.
+func (s *Server) startRun(label string, cfg sim.Config) (*Run, error) {
+	s.mu.Lock()
+	if s.closed {
+		s.mu.Unlock()
+		return nil, errors.New("the workbench is shutting down")
+	}
+	if len(s.runs) >= MaxRuns {
+		s.mu.Unlock()
+		return nil, fmt.Errorf("runs: %d runs are open, the most the workbench holds; reuse one of them", len(s.runs))
+	}
+	s.next++
+	id := strconv.Itoa(s.next)
+	s.mu.Unlock()
+	r, err := newRun(s.ctx, id, label, cfg, s.opt.Workers, s.opt.RingSize, helloMsg)
+	if err != nil {
+		return nil, err
+	}
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	s.runs[id] = r
+	s.order = append(s.order, id)
+	return r, nil
+}
+
+// Run returns the run with the given id, or nil.
+func (s *Server) Run(id string) *Run {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.runs[id]
+}
+
+// Runs returns the runs, oldest first.
+func (s *Server) Runs() []*Run {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	rs := make([]*Run, 0, len(s.order))
+	for _, id := range s.order {
+		rs = append(rs, s.runs[id])
+	}
+	return rs
+}
+
+// ServeHTTP serves the workbench.
+func (s *Server) ServeHTTP(w http.ResponseWriter, r *http.Request) {
+	h := w.Header()
+	h.Set("Content-Security-Policy", "default-src 'self'; img-src 'self' data:; frame-ancestors 'none'; base-uri 'none'; form-action 'self'")
+	h.Set("X-Content-Type-Options", "nosniff")
+	h.Set("Referrer-Policy", "no-referrer")
+	s.mux.ServeHTTP(w, r)
+}
+
+// Close stops every run and websocket connection and waits for them.
+func (s *Server) Close() {
+	s.mu.Lock()
+	s.closed = true
+	s.mu.Unlock()
+	s.cancel()
+	s.conns.Wait()
+	for _, r := range s.Runs() {
+		<-r.Done()
+	}
+}
+
+// Serve listens on opt.Addr, prints the URL to opt.Stderr and serves the
+// workbench until ctx ends, then shuts down gracefully.
+func Serve(ctx context.Context, opt Options) error {
+	if opt.Addr == "" {
+		opt.Addr = DefaultAddr
+	}
+	if opt.Stderr == nil {
+		opt.Stderr = io.Discard
+	}
+	host, _, err := net.SplitHostPort(opt.Addr)
+	if err != nil {
+		return fmt.Errorf("--addr %q: want host:port, e.g. %s", opt.Addr, DefaultAddr)
+	}
+	s, err := New(opt)
+	if err != nil {
+		return err
+	}
+	defer s.Close()
+	ln, err := net.Listen("tcp", opt.Addr)
+	if err != nil {
+		return fmt.Errorf("--addr %q: %w", opt.Addr, err)
+	}
+	if !isLoopback(host) {
+		fmt.Fprintf(opt.Stderr, "warning: listening on %s, which is reachable from the network: anyone who can reach it can watch and control the runs\n", ln.Addr())
+	}
+	fmt.Fprintf(opt.Stderr, "gyrebench workbench: %s\n", browseURL(ln.Addr()))
+	hs := s.HTTPServer()
+	errc := make(chan error, 1)
+	go func() { errc <- hs.Serve(ln) }()
+	select {
+	case err := <-errc:
+		return fmt.Errorf("serving on %s: %w", ln.Addr(), err)
+	case <-ctx.Done():
+	}
+	fmt.Fprintln(opt.Stderr, "gyrebench workbench: shutting down")
+	// Websockets are hijacked, so Shutdown does not wait for them: close
+	// them (and the runs) first, then let ordinary requests finish.
+	s.Close()
+	sctx, cancel := context.WithTimeout(context.Background(), shutdownTimeout)
+	defer cancel()
+	if err := hs.Shutdown(sctx); err != nil {
+		return fmt.Errorf("shutting down: %w", err)
+	}
+	return nil
+}
+
+// HTTPServer returns an http.Server for the workbench with its timeouts
+// and socket settings; Serve uses it, and tests can run it on their own
+// listener (httptest.NewUnstartedServer, then replace Config).
+func (s *Server) HTTPServer() *http.Server {
+	return &http.Server{
+		Handler:           s,
+		ReadHeaderTimeout: readHeaderTimeout,
+		ReadTimeout:       readTimeout,
+		WriteTimeout:      writeTimeout,
+		IdleTimeout:       idleTimeout,
+		ConnContext: func(ctx context.Context, c net.Conn) context.Context {
+			// A small send buffer keeps latest-wins honest: a client that
+			// stops reading blocks the writer after a few frames, so its
+			// later frames are skipped rather than queued seconds deep in
+			// the kernel. Loopback and LAN throughput stay far above what
+			// the frames need.
+			if tc, ok := c.(*net.TCPConn); ok {
+				_ = tc.SetWriteBuffer(sendBuffer)
+			}
+			return ctx
+		},
+	}
+}
+
+// isLoopback reports whether host names only this machine.
+func isLoopback(host string) bool {
+	if strings.EqualFold(host, "localhost") {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
+}
+
+// browseURL is the URL to open for a listener; an unspecified address
+// (all interfaces) is opened through loopback.
+func browseURL(a net.Addr) string {
+	ta, ok := a.(*net.TCPAddr)
+	if !ok {
+		return "http://" + a.String() + "/"
+	}
+	ip := ta.IP
+	if ip == nil || ip.IsUnspecified() {
+		ip = net.IPv4(127, 0, 0, 1)
+	}
+	return "http://" + net.JoinHostPort(ip.String(), strconv.Itoa(ta.Port)) + "/"
+}

@@ -1,0 +1,394 @@
+// The workbench page: connects to the run's websocket, keeps the controls
+// in step with the run, draws frames as they come and sends commands.
+// Elements are found by their data-role attributes (design notes §3).
+
+import { decodeBinary } from './protocol.js';
+import { FieldView } from './fieldview.js';
+import { SeriesPlot } from './seriesplot.js';
+import { drawColourBar, mapFor } from './colour.js';
+import { fmtClock, fmtNum } from './format.js';
+
+const $ = (role) => document.querySelector(`[data-role="${role}"]`);
+
+const root = document.querySelector('.wb');
+const runID = root.dataset.run;
+const el = {
+  canvas: $('field-canvas'), bar: $('colour-bar'), plot: $('series-plot'),
+  state: $('run-state'), time: $('sim-time'), steps: $('steps'), rates: $('rates'),
+  play: $('play-pause'), step: $('step-once'), reset: $('reset'),
+  scheme: $('scheme-select'), integrator: $('integrator-select'), dt: $('dt-input'), dtHint: $('dt-hint'),
+  grid: $('grid-select'), n: $('resolution-input'), gridHint: $('grid-hint'),
+  field: $('field-select'), scenario: $('scenario-select'), load: $('load-scenario'),
+  scrub: $('scrub'), scrubLabel: $('scrub-label'), message: $('message'), blowup: $('blowup'),
+  log: $('log-drift'), large: $('large-type'), help: $('help'), overlay: $('help-overlay'), title: $('title'),
+};
+
+// For tests and measurements: the latest status (with the server's own
+// clock, wall_s) and the time from navigation start to the first frame.
+const hooks = { status: null, firstFrameMs: null, drawMs: 0 };
+window.gyrebench = hooks;
+
+const view = new FieldView(el.canvas);
+const plot = new SeriesPlot(el.plot);
+
+const st = {
+  ws: null, retry: 500, fields: [], config: null, status: null, geometry: null,
+  ring: { entries: [], cursor: -1 }, nextID: 1, pending: new Map(),
+  frame: null, range: null, framesDrawn: 0, drawTimes: [], skipped: 0,
+  dirtyField: false, dirtyPlot: false, scheduled: false,
+};
+
+// ---- connection ---------------------------------------------------------
+
+function connect() {
+  const proto = location.protocol === 'https:' ? 'wss' : 'ws';
+  const ws = new WebSocket(`${proto}://${location.host}/run/${encodeURIComponent(runID)}/ws`);
+  ws.binaryType = 'arraybuffer';
+  st.ws = ws;
+  setRunState('connecting');
+  ws.onopen = () => { st.retry = 500; };
+  ws.onmessage = (ev) => {
+    if (typeof ev.data === 'string') onJSON(JSON.parse(ev.data));
+    else onBinary(ev.data);
+  };
+  ws.onclose = (ev) => {
+    if (st.ws !== ws) return;
+    setRunState('disconnected');
+    showMessage(ev.reason ? `Connection closed: ${ev.reason}. Reconnecting…` : 'Connection lost. Reconnecting…', 'info');
+    setTimeout(connect, st.retry);
+    st.retry = Math.min(st.retry * 2, 8000);
+  };
+}
+
+function send(cmd, value) {
+  if (!st.ws || st.ws.readyState !== WebSocket.OPEN) {
+    showMessage(`Not connected: “${cmd}” was not sent.`, 'error');
+    return;
+  }
+  const id = st.nextID++;
+  st.pending.set(id, cmd);
+  const msg = { id, cmd };
+  if (value !== undefined) msg.value = value;
+  st.ws.send(JSON.stringify(msg));
+}
+
+// ---- messages -----------------------------------------------------------
+
+function onJSON(m) {
+  switch (m.type) {
+    case 'hello':
+      st.fields = m.fields;
+      break;
+    case 'config':
+      st.config = m;
+      showConfig();
+      break;
+    case 'status':
+      st.status = m;
+      hooks.status = m;
+      showStatus();
+      break;
+    case 'point':
+      plot.addPoint(m);
+      schedule('plot');
+      break;
+    case 'history':
+      plot.setHistory(m.points, m.markers);
+      schedule('plot');
+      break;
+    case 'marker':
+      plot.addMarker(m);
+      schedule('plot');
+      break;
+    case 'ring':
+      st.ring = m;
+      showRing();
+      break;
+    case 'ack':
+      // A command of ours went through: an earlier refusal is old news.
+      if (st.pending.delete(m.id) && el.message.classList.contains('error')) hideMessage();
+      break;
+    case 'error':
+      st.pending.delete(m.id);
+      showMessage(m.message, 'error', m.cmd);
+      showConfig(); // put the controls back to what the run has
+      break;
+  }
+}
+
+function onBinary(buf) {
+  let msg;
+  try {
+    msg = decodeBinary(buf);
+  } catch (err) {
+    showMessage(`Could not read a message from the server: ${err.message}`, 'error');
+    return;
+  }
+  if (msg.kind === 'geometry') {
+    st.geometry = msg;
+    view.setGeometry(msg);
+    st.range = null;
+    el.canvas.dataset.grid = st.config ? `${st.config.grid.kind} ${st.config.grid.n}` : '';
+    return;
+  }
+  if (!st.geometry || msg.gen !== st.geometry.gen) return; // a frame of a grid just replaced
+  st.skipped += msg.skipped;
+  st.frame = msg;
+  schedule('field');
+}
+
+// ---- drawing ------------------------------------------------------------
+
+function schedule(what) {
+  if (what === 'field') st.dirtyField = true;
+  if (what === 'plot') st.dirtyPlot = true;
+  if (!st.scheduled) {
+    st.scheduled = true;
+    requestAnimationFrame(draw);
+  }
+}
+
+function draw(now) {
+  st.scheduled = false;
+  if (st.dirtyField) {
+    st.dirtyField = false;
+    drawField(now);
+  }
+  if (st.dirtyPlot) {
+    st.dirtyPlot = false;
+    plot.render();
+  }
+}
+
+// updateRange follows the frame's range: it widens at once and narrows
+// slowly, so colours do not flicker from frame to frame.
+function updateRange(f, def) {
+  let lo = f.min, hi = f.max;
+  const map = mapFor(def, lo, hi);
+  if (map.name === 'diverging') {
+    const a = Math.max(Math.abs(lo), Math.abs(hi)) || 1e-30;
+    lo = -a; hi = a;
+  }
+  if (!(hi > lo)) {
+    const d = Math.abs(lo) * 1e-6 || 1e-12;
+    lo -= d; hi += d;
+  }
+  const key = `${f.field}|${f.gen}|${map.name}`;
+  const r = st.range;
+  if (!r || r.key !== key) {
+    st.range = { key, lo, hi, map };
+  } else {
+    const k = 0.08;
+    r.lo = lo < r.lo ? lo : r.lo + (lo - r.lo) * k;
+    r.hi = hi > r.hi ? hi : r.hi + (hi - r.hi) * k;
+  }
+  return st.range;
+}
+
+function drawField(now) {
+  const f = st.frame;
+  if (!f) return;
+  const t0 = performance.now();
+  const def = st.fields[f.field];
+  if (!def) return;
+  const r = updateRange(f, def);
+  view.resize();
+  view.setFrame(f, r.map, r.lo, r.hi);
+  view.render();
+  drawColourBar(el.bar, r.map, r.lo, r.hi, def, textScale());
+  st.framesDrawn++;
+  el.canvas.dataset.frames = String(st.framesDrawn);
+  el.canvas.dataset.field = def.name;
+  if (st.framesDrawn === 1) {
+    hooks.firstFrameMs = performance.now();
+    el.canvas.dataset.firstFrameMs = hooks.firstFrameMs.toFixed(0);
+  }
+  hooks.drawMs = 0.9 * hooks.drawMs + 0.1 * (performance.now() - t0);
+  st.drawTimes.push(now);
+  while (st.drawTimes.length && st.drawTimes[0] < now - 1000) st.drawTimes.shift();
+}
+
+function showRates() {
+  const now = performance.now();
+  while (st.drawTimes.length && st.drawTimes[0] < now - 1000) st.drawTimes.shift();
+  const sps = st.status && st.status.state === 'running' ? st.status.steps_per_s : 0;
+  let text = `${st.drawTimes.length} fps here · ${fmtNum(sps, 3)} steps/s`;
+  if (st.skipped > 0) text += ` · ${st.skipped} frame${st.skipped === 1 ? '' : 's'} skipped (slow link or busy page)`;
+  el.rates.textContent = text;
+  el.rates.dataset.fps = String(st.drawTimes.length);
+  el.rates.dataset.stepsPerSecond = String(sps);
+}
+setInterval(showRates, 500);
+
+function textScale() {
+  return document.body.classList.contains('large') ? 1.6 : 1;
+}
+
+// ---- controls -----------------------------------------------------------
+
+function setRunState(s) {
+  el.state.textContent = s;
+  el.state.dataset.state = s;
+  el.play.textContent = s === 'running' ? 'Pause' : 'Play';
+  const live = s === 'running' || s === 'paused' || s === 'blown-up';
+  for (const b of [el.play, el.step, el.reset, el.load]) b.disabled = !live;
+}
+
+function showConfig() {
+  const c = st.config;
+  if (!c) return;
+  el.title.textContent = c.title;
+  document.title = `${c.title} · gyrebench`;
+  el.scheme.value = c.scheme;
+  el.integrator.value = c.integrator;
+  el.grid.value = c.grid.kind;
+  el.field.value = c.field;
+  el.scenario.value = c.scenario;
+  if (document.activeElement !== el.dt) el.dt.value = String(c.dt);
+  if (document.activeElement !== el.n) el.n.value = String(c.grid.n);
+  el.dtHint.textContent = `allowed 0 < Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s here`;
+  const nmax = c.limits.n_max[c.grid.kind];
+  el.gridHint.textContent = `${c.grid.cells} cells · n from ${c.limits.n_min} to ${nmax}${c.grid.kind === 'quad' ? '' : ', even'}`;
+  el.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
+  schedule('field');
+}
+
+function showStatus() {
+  const s = st.status;
+  setRunState(s.state);
+  el.time.textContent = fmtClock(s.t);
+  el.time.dataset.seconds = String(s.t);
+  el.steps.textContent = String(s.steps);
+  const b = s.blowup;
+  view.highlight = b ? { x: b.x, y: b.y } : null;
+  if (b) {
+    const value = b.value === null ? 'not a finite number' : fmtNum(b.value, 4);
+    const what = b.cell >= 0 ? `depth ${value} m in cell ${b.cell}`
+      : b.edge >= 0 ? `normal velocity ${value} m s⁻¹ on edge ${b.edge}` : b.message;
+    el.blowup.hidden = false;
+    el.blowup.textContent = `Blew up at step ${b.step}, t = ${fmtClock(b.t)}, Δt = ${fmtNum(b.dt, 4)} s: ${what} (ringed on the field). `
+      + 'The run kept its last good state: pick a recent state below, set a smaller Δt and press Play.';
+  } else {
+    el.blowup.hidden = true;
+  }
+  el.scrub.disabled = s.state === 'running' || st.ring.entries.length === 0;
+  scrubLabel();
+  schedule('field');
+  showRates();
+}
+
+function showRing() {
+  const r = st.ring;
+  const n = r.entries.length;
+  el.scrub.max = String(Math.max(0, n - 1));
+  el.scrub.value = String(r.cursor >= 0 ? r.cursor : Math.max(0, n - 1));
+  el.scrub.disabled = !st.status || st.status.state === 'running' || n === 0;
+  scrubLabel();
+}
+
+function scrubLabel() {
+  const r = st.ring;
+  if (st.status && st.status.state === 'running') {
+    el.scrubLabel.textContent = 'kept while running; pause to go back';
+    return;
+  }
+  const e = r.entries[Number(el.scrub.value)];
+  el.scrubLabel.textContent = e
+    ? `step ${e.steps}, t = ${fmtClock(e.t)} (${r.entries.length} kept)`
+    : 'none yet';
+}
+
+function showMessage(text, kind, cmd) {
+  el.message.hidden = false;
+  el.message.textContent = text;
+  el.message.className = `message ${kind}`;
+  el.message.dataset.cmd = cmd || '';
+}
+
+function hideMessage() {
+  el.message.hidden = true;
+  el.message.textContent = '';
+  el.message.dataset.cmd = '';
+}
+
+// numberOrText sends what the user typed: a number when it reads as one,
+// otherwise the text itself, so the server's message can quote it.
+function numberOrText(s) {
+  const t = s.trim();
+  const x = Number(t);
+  return t !== '' && Number.isFinite(x) ? x : t;
+}
+
+function togglePlay() {
+  send(st.status && st.status.state === 'running' ? 'pause' : 'play');
+}
+
+function setGrid() {
+  send('set-grid', { kind: el.grid.value, n: numberOrText(el.n.value) });
+}
+
+function nextField() {
+  if (!st.fields.length || !st.config) return;
+  const i = st.fields.findIndex((f) => f.name === st.config.field);
+  send('set-field', st.fields[(i + 1) % st.fields.length].name);
+}
+
+function setLarge(on) {
+  document.body.classList.toggle('large', on);
+  el.large.setAttribute('aria-pressed', String(on));
+  plot.scale = on ? 1.6 : 1;
+  try { localStorage.setItem('gyrebench.large', on ? '1' : '0'); } catch { /* private mode */ }
+  requestAnimationFrame(() => { schedule('field'); schedule('plot'); });
+}
+
+function toggleHelp(show) {
+  el.overlay.hidden = show === undefined ? !el.overlay.hidden : !show;
+}
+
+el.play.addEventListener('click', togglePlay);
+el.step.addEventListener('click', () => send('step'));
+el.reset.addEventListener('click', () => send('reset'));
+el.load.addEventListener('click', () => send('load', el.scenario.value));
+el.scheme.addEventListener('change', () => send('set-scheme', el.scheme.value));
+el.integrator.addEventListener('change', () => send('set-integrator', el.integrator.value));
+el.field.addEventListener('change', () => send('set-field', el.field.value));
+el.grid.addEventListener('change', setGrid);
+el.n.addEventListener('change', setGrid);
+el.dt.addEventListener('change', () => send('set-dt', numberOrText(el.dt.value)));
+for (const input of [el.dt, el.n]) {
+  input.addEventListener('keydown', (e) => { if (e.key === 'Enter') input.blur(); });
+}
+el.scrub.addEventListener('input', scrubLabel);
+el.scrub.addEventListener('change', () => send('scrub', Number(el.scrub.value)));
+el.log.addEventListener('change', () => { plot.log = el.log.checked; schedule('plot'); });
+el.large.addEventListener('click', () => setLarge(!document.body.classList.contains('large')));
+el.help.addEventListener('click', () => toggleHelp());
+el.overlay.addEventListener('click', (e) => { if (e.target === el.overlay) toggleHelp(false); });
+view.onchange = () => schedule('field');
+
+document.addEventListener('keydown', (e) => {
+  if (e.ctrlKey || e.metaKey || e.altKey) return;
+  if (e.key === 'Escape') { toggleHelp(false); return; }
+  const tag = e.target && e.target.tagName;
+  if (tag === 'INPUT' || tag === 'SELECT' || tag === 'TEXTAREA') return;
+  if (tag === 'BUTTON' && (e.key === ' ' || e.key === 'Enter')) return; // the button's own action
+  switch (e.key) {
+    case ' ': e.preventDefault(); togglePlay(); break;
+    case 's': case 'S': send('step'); break;
+    case 'r': case 'R': send('reset'); break;
+    case 'f': case 'F': nextField(); break;
+    case 'l': case 'L': setLarge(!document.body.classList.contains('large')); break;
+    case '?': toggleHelp(); break;
+    case '+': case '=': view.zoomBy(1.25); schedule('field'); break;
+    case '-': case '_': view.zoomBy(0.8); schedule('field'); break;
+    case '0': view.fit(); schedule('field'); break;
+    default: return;
+  }
+});
+
+new ResizeObserver(() => { schedule('field'); schedule('plot'); }).observe(el.canvas.parentElement);
+new ResizeObserver(() => schedule('plot')).observe(el.plot);
+
+try { if (localStorage.getItem('gyrebench.large') === '1') setLarge(true); } catch { /* private mode */ }
+plot.log = el.log.checked;
+connect();

@@ -1,0 +1,239 @@
+// SeriesPlot draws the invariants against simulated time in three stacked
+// panels: relative drift of mass, energy and potential enstrophy (signed,
+// or log₁₀ of its magnitude), the Courant numbers, and the minimum depth.
+// Every mid-run change is a labelled vertical line across all panels.
+
+import { fmtNum, superscript, timeUnit, niceStep, ticks } from './format.js';
+
+const MAX_POINTS = 8000;
+const FLOOR = 1e-18; // |drift| below this is drawn at this value in log mode
+
+const PANELS = [
+  {
+    title: 'relative drift',
+    series: [
+      { key: 'mass', label: 'mass', colour: '#6cb6ff' },
+      { key: 'energy', label: 'energy', colour: '#f0a33c' },
+      { key: 'enstrophy', label: 'potential enstrophy', colour: '#7ccf7e' },
+    ],
+    drift: true,
+    weight: 2,
+  },
+  {
+    title: 'Courant number',
+    series: [
+      { key: 'courant', label: 'gravity wave', colour: '#d98cf2' },
+      { key: 'courant_adv', label: 'advective', colour: '#58d0c5' },
+    ],
+    weight: 1,
+  },
+  {
+    title: 'minimum depth (m)',
+    series: [{ key: 'h_min', label: 'h min', colour: '#e8e3a1' }],
+    weight: 1,
+  },
+];
+
+const MARKER_COLOURS = {
+  scheme: '#c7a3ff', integrator: '#ffd166', dt: '#7bdff2', grid: '#ff8f6b', rewind: '#b0b7c0',
+};
+
+export class SeriesPlot {
+  constructor(canvas) {
+    this.canvas = canvas;
+    this.points = [];
+    this.markers = [];
+    this.log = true;
+    this.scale = 1;
+  }
+
+  setHistory(points, markers) {
+    this.points = (points || []).slice();
+    this.markers = (markers || []).slice();
+    this.thin();
+  }
+
+  addPoint(p) {
+    const last = this.points[this.points.length - 1];
+    if (last && last.steps === p.steps && last.energy === p.energy && last.mass === p.mass) return;
+    this.points.push(p);
+    this.thin();
+  }
+
+  addMarker(m) { this.markers.push(m); }
+
+  thin() {
+    if (this.points.length <= MAX_POINTS) return;
+    this.points = this.points.filter((_, i) => i % 2 === 0 || i === this.points.length - 1);
+  }
+
+  resize() {
+    const dpr = window.devicePixelRatio || 1;
+    const w = Math.max(1, Math.round(this.canvas.clientWidth * dpr));
+    const h = Math.max(1, Math.round(this.canvas.clientHeight * dpr));
+    if (w !== this.canvas.width || h !== this.canvas.height) {
+      this.canvas.width = w;
+      this.canvas.height = h;
+    }
+  }
+
+  value(p, key, drift) {
+    const v = p[key];
+    if (v === null || v === undefined) return null;
+    if (drift && this.log) return Math.log10(Math.max(Math.abs(v), FLOOR));
+    return v;
+  }
+
+  render() {
+    this.resize();
+    const dpr = window.devicePixelRatio || 1;
+    const ctx = this.canvas.getContext('2d');
+    const W = this.canvas.width / dpr, H = this.canvas.height / dpr;
+    ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+    ctx.fillStyle = '#161b22';
+    ctx.fillRect(0, 0, W, H);
+    const fs = 11 * this.scale;
+    ctx.font = `${fs}px system-ui, sans-serif`;
+    const left = fs * 6, right = fs * 1.2, top = fs * 0.3, bottom = fs * 2.2, gap = fs * 0.6;
+    const pts = this.points;
+    if (pts.length === 0) return;
+    let t0 = pts[0].t, t1 = pts[pts.length - 1].t;
+    for (const m of this.markers) t1 = Math.max(t1, m.t);
+    if (!(t1 > t0)) t1 = t0 + 1;
+    const plotW = W - left - right;
+    const X = (t) => left + ((t - t0) / (t1 - t0)) * plotW;
+    const totalWeight = PANELS.reduce((a, p) => a + p.weight, 0);
+    const avail = H - top - bottom - gap * (PANELS.length - 1);
+    let y = top;
+    const boxes = [];
+    for (const panel of PANELS) {
+      const h = (avail * panel.weight) / totalWeight;
+      boxes.push([y, h]);
+      this.drawPanel(ctx, panel, left, y, plotW, h, X, fs);
+      y += h + gap;
+    }
+    this.drawMarkers(ctx, X, boxes, fs);
+    this.drawTimeAxis(ctx, t0, t1, X, H - bottom, fs);
+  }
+
+  drawPanel(ctx, panel, x, yTop, w, hAll, X, fs) {
+    const drift = !!panel.drift;
+    const head = fs * 1.5; // title and legend sit above the data
+    const y = yTop + head, h = hAll - head;
+    let lo = Infinity, hi = -Infinity;
+    for (const p of this.points) {
+      for (const s of panel.series) {
+        const v = this.value(p, s.key, drift);
+        if (v === null) continue;
+        if (v < lo) lo = v;
+        if (v > hi) hi = v;
+      }
+    }
+    if (!(hi >= lo)) { lo = 0; hi = 1; }
+    let tickVals;
+    if (drift && this.log) {
+      lo = Math.floor(lo); hi = Math.ceil(hi);
+      if (hi - lo < 2) { lo -= 1; hi += 1; }
+      const step = Math.max(1, Math.ceil((hi - lo) / Math.max(2, Math.floor(h / (fs * 1.8)))));
+      tickVals = [];
+      for (let v = Math.ceil(lo / step) * step; v <= hi; v += step) tickVals.push(v);
+    } else {
+      if (hi === lo) { const d = Math.abs(hi) * 1e-3 || 1e-12; lo -= d; hi += d; }
+      const pad = (hi - lo) * 0.06;
+      lo -= pad; hi += pad;
+      tickVals = ticks(lo, hi, Math.max(2, Math.floor(h / (fs * 2.2))));
+    }
+    const Y = (v) => y + h - ((v - lo) / (hi - lo)) * h;
+    ctx.fillStyle = '#0f1318';
+    ctx.fillRect(x, y, w, h);
+    ctx.strokeStyle = 'rgba(139,148,158,0.25)';
+    ctx.lineWidth = 1;
+    ctx.fillStyle = '#aab4be';
+    ctx.textAlign = 'right';
+    ctx.textBaseline = 'middle';
+    let lastLabel = Infinity;
+    for (const v of tickVals) {
+      const yy = Math.round(Y(v)) + 0.5;
+      ctx.beginPath(); ctx.moveTo(x, yy); ctx.lineTo(x + w, yy); ctx.stroke();
+      if (Math.abs(lastLabel - yy) < fs * 1.1) continue; // no overlapping labels
+      lastLabel = yy;
+      const label = drift && this.log ? `10${superscript(v)}` : fmtNum(v, 3);
+      ctx.fillText(label, x - fs * 0.4, yy);
+    }
+    ctx.save();
+    ctx.beginPath();
+    ctx.rect(x, y, w, h);
+    ctx.clip();
+    ctx.lineWidth = 1.5 * this.scale;
+    for (const s of panel.series) {
+      ctx.strokeStyle = s.colour;
+      ctx.beginPath();
+      let pen = false;
+      for (const p of this.points) {
+        const v = this.value(p, s.key, drift);
+        if (v === null) { pen = false; continue; }
+        const px = X(p.t), py = Y(v);
+        if (pen) ctx.lineTo(px, py); else ctx.moveTo(px, py);
+        pen = true;
+      }
+      ctx.stroke();
+    }
+    ctx.restore();
+    // Title and legend above the panel.
+    ctx.textAlign = 'left';
+    ctx.textBaseline = 'top';
+    let lx = x;
+    ctx.fillStyle = '#e6edf3';
+    const title = drift && this.log ? `${panel.title}, log₁₀ |·|` : panel.title;
+    ctx.fillText(title, lx, yTop + fs * 0.2);
+    lx += ctx.measureText(title).width + fs * 1.2;
+    for (const s of panel.series) {
+      ctx.fillStyle = s.colour;
+      ctx.fillRect(lx, yTop + fs * 0.75, fs * 1.2, 2 * this.scale);
+      lx += fs * 1.5;
+      ctx.fillText(s.label, lx, yTop + fs * 0.2);
+      lx += ctx.measureText(s.label).width + fs;
+    }
+  }
+
+  drawMarkers(ctx, X, boxes, fs) {
+    const yTop = boxes[0][0] + fs * 1.5;
+    const last = boxes[boxes.length - 1];
+    const yBottom = last[0] + last[1];
+    const rows = [-Infinity, -Infinity, -Infinity];
+    ctx.textAlign = 'left';
+    ctx.textBaseline = 'top';
+    for (const m of this.markers) {
+      const x = Math.round(X(m.t)) + 0.5;
+      const colour = MARKER_COLOURS[m.kind] || '#c9d1d9';
+      ctx.strokeStyle = colour;
+      ctx.lineWidth = 1;
+      ctx.setLineDash([4, 3]);
+      ctx.beginPath(); ctx.moveTo(x, yTop); ctx.lineTo(x, yBottom); ctx.stroke();
+      ctx.setLineDash([]);
+      // Labels sit in the first free row to the right of the line.
+      const w = ctx.measureText(m.label).width + fs * 0.8;
+      let row = rows.findIndex((r) => r < x);
+      if (row < 0) row = rows.indexOf(Math.min(...rows));
+      rows[row] = x + w;
+      const ly = yTop + fs * (0.3 + 1.3 * row);
+      ctx.fillStyle = 'rgba(15,19,24,0.85)';
+      ctx.fillRect(x + 2, ly - 1, w - fs * 0.4, fs * 1.25);
+      ctx.fillStyle = colour;
+      ctx.fillText(m.label, x + fs * 0.3, ly);
+    }
+  }
+
+  drawTimeAxis(ctx, t0, t1, X, y, fs) {
+    const [unit, name] = timeUnit(t1 - t0);
+    const step = niceStep((t1 - t0) / unit, 6) * unit;
+    ctx.fillStyle = '#aab4be';
+    ctx.textAlign = 'center';
+    ctx.textBaseline = 'top';
+    for (let t = Math.ceil(t0 / step) * step; t <= t1 + step * 1e-9; t += step) {
+      const x = X(t);
+      ctx.fillRect(Math.round(x), y, 1, fs * 0.4);
+      ctx.fillText(`${fmtNum(t / unit, 4)} ${name}`, x, y + fs * 0.5);
+    }
+  }
+}

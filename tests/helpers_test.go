@@ -1,0 +1,296 @@
+// Package tests holds gyrebench's end-to-end tests: the real server on a
+// loopback port, real websocket clients, and a real headless Chromium.
+package tests
+
+import (
+	"context"
+	"encoding/binary"
+	"encoding/json"
+	"errors"
+	"math"
+	"net"
+	"net/http"
+	"net/http/httptest"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/coder/websocket"
+
+	"gyrebench/server"
+)
+
+// startServer runs the workbench on 127.0.0.1 with a random port.
+func startServer(t testing.TB, opt server.Options) (*server.Server, string) {
+	t.Helper()
+	srv, err := server.New(opt)
+	if err != nil {
+		t.Fatalf("server.New: %v", err)
+	}
+	ts := httptest.NewUnstartedServer(nil)
+	ts.Config = srv.HTTPServer()
+	ts.Start()
+	t.Cleanup(func() {
+		srv.Close() // ends the websockets, which httptest does not track
+		ts.Close()
+	})
+	return srv, ts.URL
+}
+
+// writeScenario writes a scenario file for the test and returns its path.
+func writeScenario(t testing.TB, name, text string) string {
+	t.Helper()
+	p := filepath.Join(t.TempDir(), name+".toml")
+	if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+// frameHdr is the header of a binary message (server/doc.go).
+type frameHdr struct {
+	Kind    byte
+	Gen     uint32
+	Skipped uint32
+	Count   uint32
+	T       float64
+	Steps   float64
+}
+
+// msg is any message from the server, JSON or binary.
+type msg struct {
+	Type    string          `json:"type"`
+	ID      int64           `json:"id"`
+	Cmd     string          `json:"cmd"`
+	Field   json.RawMessage `json:"field"` // a string in both config and error
+	Value   string          `json:"value"`
+	Message string          `json:"message"`
+
+	State       string   `json:"state"`
+	Steps       int64    `json:"steps"`
+	T           float64  `json:"t"`
+	StepsPerSec float64  `json:"steps_per_s"`
+	WallS       float64  `json:"wall_s"`
+	Skipped     int64    `json:"frames_skipped"`
+	BlowUp      *blowUp  `json:"blowup"`
+	Scheme      string   `json:"scheme"`
+	Integrator  string   `json:"integrator"`
+	Dt          float64  `json:"dt"`
+	Grid        gridInfo `json:"grid"`
+	Kind        string   `json:"kind"`
+	Label       string   `json:"label"`
+
+	Mass      float64 `json:"mass"`
+	Energy    float64 `json:"energy"`
+	Enstrophy float64 `json:"enstrophy"`
+	MassAbs   float64 `json:"mass_abs"`
+
+	bin *frameHdr
+}
+
+type gridInfo struct {
+	Kind     string `json:"kind"`
+	N        int    `json:"n"`
+	Cells    int    `json:"cells"`
+	Vertices int    `json:"vertices"`
+}
+
+type blowUp struct {
+	Step int64   `json:"step"`
+	T    float64 `json:"t"`
+	Cell int     `json:"cell"`
+	Edge int     `json:"edge"`
+}
+
+func (m msg) fieldName() string {
+	var s string
+	_ = json.Unmarshal(m.Field, &s)
+	return s
+}
+
+// client is a websocket client that reads every message into a channel.
+type client struct {
+	t      testing.TB
+	c      *websocket.Conn
+	in     chan msg
+	nextID int64
+}
+
+// dial connects to run id; the client reads until the test ends.
+func dial(t testing.TB, base, id string) *client {
+	t.Helper()
+	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+	defer cancel()
+	u := "ws" + strings.TrimPrefix(base, "http") + "/run/" + id + "/ws"
+	c, _, err := websocket.Dial(ctx, u, nil)
+	if err != nil {
+		t.Fatalf("dial %s: %v", u, err)
+	}
+	c.SetReadLimit(64 << 20)
+	cl := &client{t: t, c: c, in: make(chan msg, 1<<14)}
+	rctx, stop := context.WithCancel(context.Background())
+	t.Cleanup(func() {
+		stop()
+		c.CloseNow()
+	})
+	go cl.read(rctx)
+	return cl
+}
+
+func (cl *client) read(ctx context.Context) {
+	defer close(cl.in)
+	for {
+		typ, data, err := cl.c.Read(ctx)
+		if err != nil {
+			return
+		}
+		var m msg
+		if typ == websocket.MessageBinary {
+			if len(data) < 32 {
+				m.Type = "bad-binary"
+			} else {
+				le := binary.LittleEndian
+				h := &frameHdr{Kind: data[0], Gen: le.Uint32(data[4:])}
+				if h.Kind == 2 {
+					h.Skipped, h.Count = le.Uint32(data[8:]), le.Uint32(data[12:])
+					h.T = math.Float64frombits(le.Uint64(data[16:]))
+					h.Steps = math.Float64frombits(le.Uint64(data[24:]))
+					m.Type = "frame"
+				} else {
+					h.Count = le.Uint32(data[8:]) // cells
+					m.Type = "geometry"
+				}
+				m.bin = h
+			}
+		} else if err := json.Unmarshal(data, &m); err != nil {
+			m.Type = "bad-json"
+			m.Message = string(data)
+		}
+		select {
+		case cl.in <- m:
+		case <-ctx.Done():
+			return
+		}
+	}
+}
+
+// send sends a command and returns its id.
+func (cl *client) send(cmd string, value any) int64 {
+	cl.t.Helper()
+	cl.nextID++
+	m := map[string]any{"id": cl.nextID, "cmd": cmd}
+	if value != nil {
+		m["value"] = value
+	}
+	b, _ := json.Marshal(m)
+	cl.sendRaw(websocket.MessageText, b)
+	return cl.nextID
+}
+
+func (cl *client) sendRaw(typ websocket.MessageType, b []byte) {
+	cl.t.Helper()
+	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	if err := cl.c.Write(ctx, typ, b); err != nil {
+		cl.t.Fatalf("write %s: %v", b, err)
+	}
+}
+
+// next returns the next message, failing the test after timeout.
+func (cl *client) next(timeout time.Duration) msg {
+	cl.t.Helper()
+	select {
+	case m, ok := <-cl.in:
+		if !ok {
+			cl.t.Fatal("the server closed the connection")
+		}
+		return m
+	case <-time.After(timeout):
+		cl.t.Fatalf("no message from the server within %v", timeout)
+	}
+	return msg{}
+}
+
+// until reads messages, passing each to f, until f returns true.
+func (cl *client) until(timeout time.Duration, what string, f func(msg) bool) {
+	cl.t.Helper()
+	deadline := time.Now().Add(timeout)
+	for {
+		left := time.Until(deadline)
+		if left <= 0 {
+			cl.t.Fatalf("timed out after %v waiting for %s", timeout, what)
+		}
+		select {
+		case m, ok := <-cl.in:
+			if !ok {
+				cl.t.Fatalf("connection closed while waiting for %s", what)
+			}
+			if f(m) {
+				return
+			}
+		case <-time.After(left):
+			cl.t.Fatalf("timed out after %v waiting for %s", timeout, what)
+		}
+	}
+}
+
+// reply waits for the ack or error of command id, passing every message
+// before it to seen (which may be nil), and returns the reply.
+func (cl *client) reply(id int64, seen func(msg)) msg {
+	cl.t.Helper()
+	var r msg
+	cl.until(30*time.Second, "the reply to a command", func(m msg) bool {
+		if (m.Type == "ack" || m.Type == "error") && m.ID == id {
+			r = m
+			return true
+		}
+		if seen != nil {
+			seen(m)
+		}
+		return false
+	})
+	return r
+}
+
+// mustAck sends a command and fails unless it is acknowledged.
+func (cl *client) mustAck(cmd string, value any, seen func(msg)) {
+	cl.t.Helper()
+	r := cl.reply(cl.send(cmd, value), seen)
+	if r.Type != "ack" {
+		cl.t.Fatalf("%s %v refused: %s", cmd, value, r.Message)
+	}
+}
+
+// dialRaw connects to run id with a small socket receive buffer, and
+// reads nothing: a client that has stopped reading, whose socket fills
+// after a few frames rather than after megabytes.
+func dialRaw(t testing.TB, base, id string) *websocket.Conn {
+	t.Helper()
+	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+	defer cancel()
+	u := "ws" + strings.TrimPrefix(base, "http") + "/run/" + id + "/ws"
+	var d net.Dialer
+	tr := &http.Transport{DialContext: func(ctx context.Context, network, addr string) (net.Conn, error) {
+		c, err := d.DialContext(ctx, network, addr)
+		if tc, ok := c.(*net.TCPConn); ok {
+			err = errors.Join(err, tc.SetReadBuffer(64<<10))
+		}
+		return c, err
+	}}
+	c, _, err := websocket.Dial(ctx, u, &websocket.DialOptions{HTTPClient: &http.Client{Transport: tr}})
+	if err != nil {
+		t.Fatalf("dial %s: %v", u, err)
+	}
+	c.SetReadLimit(64 << 20)
+	t.Cleanup(func() { c.CloseNow() })
+	return c
+}
+
+// contextFor is a context that ends with the test.
+func contextFor(t testing.TB) (context.Context, context.CancelFunc) {
+	ctx, cancel := context.WithCancel(context.Background())
+	t.Cleanup(cancel)
+	return ctx, cancel
+}

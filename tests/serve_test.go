@@ -1,0 +1,194 @@
+package tests
+
+import (
+	"bufio"
+	"context"
+	"io"
+	"net/http"
+	"net/url"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/coder/websocket"
+
+	"gyrebench/server"
+)
+
+// TestServe runs server.Serve as `gyrebench serve` does: it prints the
+// URL (and a warning when not on loopback), serves the page there, and
+// returns when its context ends.
+func TestServe(t *testing.T) {
+	cases := []struct {
+		addr string
+		warn bool
+	}{
+		{"127.0.0.1:0", false},
+		{"localhost:0", false},
+		{"0.0.0.0:0", true},
+	}
+	for _, tc := range cases {
+		t.Run(tc.addr, func(t *testing.T) {
+			ctx, cancel := context.WithCancel(context.Background())
+			defer cancel()
+			pr, pw := io.Pipe()
+			done := make(chan error, 1)
+			go func() {
+				done <- server.Serve(ctx, server.Options{Addr: tc.addr, Workers: 1, Stderr: pw})
+				pw.Close()
+			}()
+			lines := bufio.NewScanner(pr)
+			var warned bool
+			var link string
+			for link == "" && lines.Scan() {
+				line := lines.Text()
+				if strings.HasPrefix(line, "warning:") && strings.Contains(line, "network") {
+					warned = true
+				}
+				if i := strings.Index(line, "http://"); i >= 0 {
+					link = line[i:]
+				}
+			}
+			go func() { _, _ = io.Copy(io.Discard, pr) }()
+			if link == "" {
+				t.Fatalf("Serve printed no URL (returned %v)", <-done)
+			}
+			if warned != tc.warn {
+				t.Errorf("listening on %s: warning printed = %v, want %v", tc.addr, warned, tc.warn)
+			}
+			u, err := url.Parse(link)
+			if err != nil || u.Port() == "0" || u.Port() == "" {
+				t.Fatalf("printed URL %q does not name the port actually bound", link)
+			}
+			resp, err := http.Get(link)
+			if err != nil {
+				t.Fatal(err)
+			}
+			body, _ := io.ReadAll(resp.Body)
+			resp.Body.Close()
+			if resp.StatusCode != http.StatusOK || !strings.HasSuffix(resp.Request.URL.Path, "/run/1") {
+				t.Fatalf("GET %s: %s at %s", link, resp.Status, resp.Request.URL)
+			}
+			for _, r := range []string{"field-canvas", "series-plot", "sim-time", "run-state", "scheme-select", "grid-select",
+				"resolution-input", "dt-input", "integrator-select", "field-select", "play-pause", "step-once", "reset"} {
+				if !strings.Contains(string(body), `data-role="`+r+`"`) {
+					t.Errorf("the page has no data-role=%q", r)
+				}
+			}
+			// A websocket client is connected when the context ends: Serve
+			// must close it and return.
+			wctx, wcancel := context.WithTimeout(context.Background(), 5*time.Second)
+			defer wcancel()
+			c, _, err := websocket.Dial(wctx, "ws"+strings.TrimPrefix(link, "http")+"run/1/ws", nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			defer c.CloseNow()
+			cancel()
+			select {
+			case err := <-done:
+				if err != nil {
+					t.Errorf("Serve returned %v after its context ended, want nil", err)
+				}
+			case <-time.After(15 * time.Second):
+				t.Fatal("Serve did not return within 15 s of its context ending")
+			}
+		})
+	}
+}
+
+// TestServeBadOptions: a bad address or scenario is an error naming it.
+func TestServeBadOptions(t *testing.T) {
+	cases := []struct {
+		opt  server.Options
+		want string
+	}{
+		{server.Options{Addr: "nonsense"}, "nonsense"},
+		{server.Options{Addr: "127.0.0.1:0", Scenario: "no-such-scenario"}, "no-such-scenario"},
+	}
+	for _, tc := range cases {
+		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+		err := server.Serve(ctx, tc.opt)
+		cancel()
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("Serve(%+v) = %v, want an error naming %q", tc.opt, err, tc.want)
+		}
+	}
+}
+
+// TestRunsAndWatchers: everyone at one address watches and controls one
+// run; new runs start from the runs page; other sites are refused.
+func TestRunsAndWatchers(t *testing.T) {
+	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
+	a, b := dial(t, base, "1"), dial(t, base, "1")
+	for _, cl := range []*client{a, b} {
+		cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	}
+	// One watcher changes Δt; the other sees the new config and the marker.
+	a.mustAck("set-dt", 90, nil)
+	var conf, mark msg
+	b.until(10*time.Second, "the change, seen by the other watcher", func(m msg) bool {
+		switch m.Type {
+		case "config":
+			conf = m
+		case "marker":
+			mark = m
+		}
+		return conf.Type != "" && mark.Type != ""
+	})
+	if conf.Dt != 90 || mark.Kind != "dt" {
+		t.Errorf("second watcher saw Δt = %g and marker %+v, want 90 and a dt marker", conf.Dt, mark)
+	}
+
+	// A new run from the runs page.
+	noRedirect := &http.Client{CheckRedirect: func(*http.Request, []*http.Request) error { return http.ErrUseLastResponse }}
+	resp, err := noRedirect.PostForm(base+"/runs", url.Values{"scenario": {"dipole"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	resp.Body.Close()
+	if resp.StatusCode != http.StatusSeeOther || resp.Header.Get("Location") != "/run/2" {
+		t.Fatalf("POST /runs: %s to %q, want 303 to /run/2", resp.Status, resp.Header.Get("Location"))
+	}
+	c := dial(t, base, "2")
+	c.until(10*time.Second, "the new run's config", func(m msg) bool {
+		if m.Type == "config" {
+			if m.Scheme != "al81" || m.Grid.Kind != "quad" {
+				t.Errorf("run 2 config = %+v, want the dipole scenario (al81 on quad)", m)
+			}
+			return true
+		}
+		return false
+	})
+
+	// Refusals: an unknown scenario, a cross-site form, a cross-site
+	// websocket.
+	resp, err = noRedirect.PostForm(base+"/runs", url.Values{"scenario": {"nope"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	body, _ := io.ReadAll(resp.Body)
+	resp.Body.Close()
+	if resp.StatusCode != http.StatusBadRequest || !strings.Contains(string(body), "nope") {
+		t.Errorf("POST /runs scenario=nope: %s, body without the name", resp.Status)
+	}
+	req, _ := http.NewRequest(http.MethodPost, base+"/runs", strings.NewReader("scenario=dipole"))
+	req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+	req.Header.Set("Origin", "http://elsewhere.example")
+	resp, err = noRedirect.Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	resp.Body.Close()
+	if resp.StatusCode != http.StatusForbidden {
+		t.Errorf("cross-site POST /runs: %s, want 403", resp.Status)
+	}
+	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	ws, _, err := websocket.Dial(ctx, "ws"+strings.TrimPrefix(base, "http")+"/run/1/ws",
+		&websocket.DialOptions{HTTPHeader: http.Header{"Origin": {"http://elsewhere.example"}}})
+	if err == nil {
+		ws.CloseNow()
+		t.Error("a websocket from another site's page was accepted")
+	}
+}

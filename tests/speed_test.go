@@ -1,0 +1,138 @@
+package tests
+
+import (
+	"fmt"
+	"testing"
+	"time"
+
+	"github.com/chromedp/chromedp"
+
+	"gyrebench/server"
+	"gyrebench/sim"
+	"gyrebench/sim/scenario"
+)
+
+// The speed goals of the workbench, measured rather than asserted:
+//
+//	go test -run '^$' -bench . -benchtime 1x ./tests/
+//
+// A 16 384-cell hexagonal run (n = 128) is streamed to one client; the
+// run's steps per second are compared with the same model stepped
+// headless, with the same number of workers.
+
+const hex128 = `title = "speed: shear layers on hex n = 128"
+[grid]
+kind = "hex"
+n = 128
+length = 2.0e6
+[physics]
+f0 = 1.0e-4
+depth = 1000.0
+[scheme]
+name = "trisk-energy"
+[time]
+integrator = "rk3"
+dt = 60.0
+duration = 1728000.0
+[initial]
+case = "shear-layer"
+`
+
+const speedSteps = 600
+const speedWorkers = 1
+
+// headless is the steps per second of the model alone, the best of two
+// runs (the first also warms the caches).
+func headless(b *testing.B) float64 {
+	return max(headlessOnce(b), headlessOnce(b))
+}
+
+func headlessOnce(b *testing.B) float64 {
+	b.Helper()
+	sc, err := scenario.Parse([]byte(hex128), "hex128")
+	if err != nil {
+		b.Fatal(err)
+	}
+	m, err := sim.NewModel(sc.Config, speedWorkers)
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer m.Close()
+	t0 := time.Now()
+	for i := 0; i < speedSteps; i++ {
+		if err := m.Step(); err != nil {
+			b.Fatal(err)
+		}
+	}
+	return speedSteps / time.Since(t0).Seconds()
+}
+
+// BenchmarkStreamToClient: a Go websocket client that reads everything.
+func BenchmarkStreamToClient(b *testing.B) {
+	for i := 0; i < b.N; i++ {
+		base := headless(b)
+		_, url := startServer(b, server.Options{Workers: speedWorkers, Scenario: writeScenario(b, "hex128", hex128)})
+		cl := dial(b, url, "1")
+		cl.mustAck("play", nil, nil)
+		stepsPerSecond(cl, 50) // settle
+		var frames, bytes int
+		t0 := time.Now()
+		var s0, s1 msg
+		cl.until(120*time.Second, "the run to advance", func(m msg) bool {
+			switch m.Type {
+			case "frame":
+				frames++
+				bytes = 40 + 4*int(m.bin.Count)
+			case "status":
+				if s0.Type == "" {
+					s0, t0, frames = m, time.Now(), 0
+				} else if m.Steps >= s0.Steps+speedSteps {
+					s1 = m
+					return true
+				}
+			}
+			return false
+		})
+		streamed := float64(s1.Steps-s0.Steps) / (s1.WallS - s0.WallS)
+		fps := float64(frames) / time.Since(t0).Seconds()
+		cl.mustAck("pause", nil, nil)
+		b.ReportMetric(base, "headless-steps/s")
+		b.ReportMetric(streamed, "streamed-steps/s")
+		b.ReportMetric(100*(1-streamed/base), "loss-%")
+		b.ReportMetric(fps, "frames/s")
+		b.ReportMetric(float64(bytes), "bytes/frame")
+	}
+}
+
+// BenchmarkStreamToBrowser: headless Chromium draws the stream.
+func BenchmarkStreamToBrowser(b *testing.B) {
+	for i := 0; i < b.N; i++ {
+		base := headless(b)
+		ctx := browser(b)
+		_, url := startServer(b, server.Options{Workers: speedWorkers, Scenario: writeScenario(b, "hex128", hex128)})
+		do(b, ctx, chromedp.Navigate(url+"/"))
+		poll(b, ctx, "the first frame", `window.gyrebench && window.gyrebench.firstFrameMs !== null && window.gyrebench.status !== null`, 30*time.Second)
+		first := eval[float64](b, ctx, `window.gyrebench.firstFrameMs`)
+		do(b, ctx, chromedp.Click(sel("play-pause")))
+		poll(b, ctx, "running", `window.gyrebench.status.state === 'running' && window.gyrebench.status.steps > 50`, 30*time.Second)
+		type mark struct {
+			Steps  float64 `json:"steps"`
+			Wall   float64 `json:"wall"`
+			Frames float64 `json:"frames"`
+			Now    float64 `json:"now"`
+		}
+		const snap = `({steps: window.gyrebench.status.steps, wall: window.gyrebench.status.wall_s, frames: +` + `document.querySelector('[data-role="field-canvas"]').dataset.frames, now: performance.now()})`
+		m0 := eval[mark](b, ctx, snap)
+		poll(b, ctx, "the run to advance", fmt.Sprintf(`window.gyrebench.status.steps >= %g`, m0.Steps+speedSteps), 120*time.Second)
+		m1 := eval[mark](b, ctx, snap)
+		streamed := (m1.Steps - m0.Steps) / (m1.Wall - m0.Wall)
+		fps := (m1.Frames - m0.Frames) / ((m1.Now - m0.Now) / 1000)
+		screenshot(b, ctx, "", "speed-hex128.png")
+		b.ReportMetric(base, "headless-steps/s")
+		b.ReportMetric(streamed, "streamed-steps/s")
+		b.ReportMetric(100*(1-streamed/base), "loss-%")
+		b.ReportMetric(fps, "browser-frames/s")
+		b.ReportMetric(first, "first-frame-ms")
+		b.ReportMetric(eval[float64](b, ctx, `window.gyrebench.drawMs`), "draw-ms")
+	}
+}
