@@ -83,7 +83,7 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state []float64) (*Mode
 	if err != nil {
 		return nil, err
 	}
-	m.phys = scheme.Physics{G: cfg.Physics.G, FVertex: coriolis(msh, cfg.Physics, axis)}
+	m.phys = scheme.Physics{G: cfg.Physics.G, FVertex: Coriolis(msh, cfg.Physics, axis)}
 	m.caseInfo = cs
 	bottom := make([]float64, nc)
 	cp := cases.Physics{G: cfg.Physics.G, F0: cfg.Physics.F0, Beta: cfg.Physics.Beta, Depth: cfg.Physics.Depth, Radius: cfg.Physics.Radius, Omega: cfg.Physics.Omega}
@@ -119,10 +119,10 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state []float64) (*Mode
 	return m, nil
 }
 
-// coriolis returns f at the vertices: f0 + β(y − Ly/2) on the plane,
+// Coriolis returns f at the vertices: f0 + β(y − Ly/2) on the plane,
 // 2Ω (axis · r̂) on the sphere: 2Ω sin(latitude) for the z axis, and the
 // rotated f of Williamson et al. (1992) case 2 for a tilted axis.
-func coriolis(msh *mesh.Mesh, p PhysicsConfig, axis [3]float64) []float64 {
+func Coriolis(msh *mesh.Mesh, p PhysicsConfig, axis [3]float64) []float64 {
 	f := make([]float64, msh.NVertices)
 	for v := range f {
 		if msh.Surface.Sphere {

@@ -50,11 +50,13 @@ func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return cmdBench(args[1:], stdout, stderr)
 	case "sweep":
 		return cmdSweep(ctx, args[1:], stdout, stderr)
+	case "modes":
+		return cmdModes(ctx, args[1:], stdout, stderr)
 	case "help", "-h", "--help":
 		usage(stdout)
 		return ExitOK
 	}
-	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, sweep, bench\n", args[0])
+	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, sweep, modes, bench\n", args[0])
 	return ExitBadInput
 }
 
@@ -67,6 +69,7 @@ func usage(w io.Writer) {
   gyrebench scenarios show NAME               print a built-in scenario
   gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W]
   gyrebench sweep FILE_OR_NAME --vary key=v1,v2,... [--set key=value]... --out DIR [--jobs J] [--jobs-file PATH] | --collect DIR
+  gyrebench modes [FILE_OR_NAME] [--grid G] [--n N] [--set key=value]... --out DIR [--verify-dt] [--extreme]
 `)
 }
 
