@@ -29,7 +29,7 @@ const (
 const day = 86400.0 // s
 
 func sphereCases() []*Case {
-	return []*Case{williamson2(), williamson5(), williamson6(), galewsky(), galewskyUnperturbed()}
+	return []*Case{williamson2(), williamson5(), williamson6(), galewsky(), galewskyUnperturbed(), twinHills()}
 }
 
 // RotationAxis returns the unit vector, in the mesh's Cartesian frame, of
