@@ -87,3 +87,20 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 		}
 	}
 }
+
+// PotentialVorticity sets q_v = (ζ_v + f_v)/h_v for vertices v in [lo, hi)
+// with ζ and h_v as in Vorticity, in one pass: multiplying through by A_v,
+// q_v = (Σ t d u + f_v A_v) / Σ K h.
+func (g Grid) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
+	start, edges, sign, cells := g.VertexEdgeStart, g.VertexEdges, g.VertexEdgeSign, g.VertexCells
+	d, kite, area := g.DualLength, g.VertexKiteArea, g.VertexArea
+	for v := lo; v < hi; v++ {
+		var c, m float64
+		for k := start[v]; k < start[v+1]; k++ {
+			e := edges[k]
+			c += float64(sign[k]) * (d[e] * u[e])
+			m += kite[k] * h[cells[k]]
+		}
+		q[v-lo] = (c + f[v]*area[v]) / m
+	}
+}

@@ -9,16 +9,18 @@ import "fmt"
 //
 // (Thuburn et al. 2009, J. Comput. Phys. 228, eq. 33; R = kite area over
 // cell area) without storing a weight per edge pair. Per cell, with
-// a_m = n_{m,i} x_{e_m} the outward values on its edges anticlockwise, the
-// partial sums G_j = Σ_k w_{j,j+k} a_{j+k} obey
+// a_m = n_{m,i} x_{e_m} the outward values on its n edges anticlockwise and
+// C_m = Σ_{i<m} R_{i,v_i} the kite fractions before edge m, the partial sums
+// G_j = Σ_k w_{j,j+k} a_{j+k} are, since Σ_m R = 1,
 //
-//	G_{j+1} = G_j − (a_j + a_{j+1})/2 + R_{i,v_j} Σ_m a_m,
+//	G_j = ½(A − a_j) + C_j A − B − L_j,
+//	A = Σ_m a_m,  B = Σ_m C_m a_m,  L_j = Σ_{m<j} a_m
 //
-// (subtract the two sums term by term; Σ_m R_{i,v_m} = 1), so a cell's n
-// sums cost O(n) instead of O(n²), and P_e = G^{c0}_{j0} − G^{c1}_{j1}.
-// The recurrence rounds differently from the direct sum, at the level of
-// a few ulps: the weights stay antisymmetric to round-off, which is what
-// the conservation tests check.
+// (split the sum at the wrap-around, where the running sum of R passes 1).
+// A cell's n sums cost O(n) with short independent add chains, and
+// P_e = G^{c0}_{j0} − G^{c1}_{j1}. This rounds differently from the direct
+// double sum, at the level of a few ulps of Σ|a|: the weights stay
+// antisymmetric to round-off, which is what the conservation tests check.
 type TRiSK struct {
 	g       Grid
 	invArea []float64 // 1/A_i, so that R = kite × invArea needs no division
@@ -58,73 +60,55 @@ func (t *TRiSK) Slots() int { return t.nSlots }
 // cells in [lo, hi).
 func (t *TRiSK) CellSums(G, x []float64, lo, hi int) {
 	start, edges, sign, kite := t.g.CellEdgeStart, t.g.CellEdges, t.g.CellEdgeSign, t.g.CellKiteArea
-	var a, fr [maxCellEdges]float64
+	var a, c [maxCellEdges]float64
 	for i := lo; i < hi; i++ {
 		k0, k1 := int(start[i]), int(start[i+1])
 		n := k1 - k0
 		inv := t.invArea[i]
-		sum := 0.0
+		var sumA, sumB, cm float64
 		for m := 0; m < n; m++ {
-			a[m] = float64(sign[k0+m]) * x[edges[k0+m]]
-			fr[m] = kite[k0+m] * inv
-			sum += a[m]
+			am := float64(sign[k0+m]) * x[edges[k0+m]]
+			a[m], c[m] = am, cm
+			sumA += am
+			sumB += cm * am
+			cm += kite[k0+m] * inv
 		}
-		scan(G[k0:k1:k1], a[:n:n], fr[:n:n], sum)
+		g := G[k0:k1:k1]
+		var l float64
+		for j := 0; j < n; j++ {
+			g[j] = 0.5*(sumA-a[j]) + c[j]*sumA - sumB - l
+			l += a[j]
+		}
 	}
 }
 
 // CellSums2 is CellSums for two fields at once.
 func (t *TRiSK) CellSums2(G, H, x, y []float64, lo, hi int) {
 	start, edges, sign, kite := t.g.CellEdgeStart, t.g.CellEdges, t.g.CellEdgeSign, t.g.CellKiteArea
-	var a, b, fr [maxCellEdges]float64
+	var a, b, c [maxCellEdges]float64
 	for i := lo; i < hi; i++ {
 		k0, k1 := int(start[i]), int(start[i+1])
 		n := k1 - k0
 		inv := t.invArea[i]
-		sa, sb := 0.0, 0.0
+		var sa, sb, ta, tb, cm float64
 		for m := 0; m < n; m++ {
 			e, s := edges[k0+m], float64(sign[k0+m])
-			a[m] = s * x[e]
-			b[m] = s * y[e]
-			fr[m] = kite[k0+m] * inv
-			sa += a[m]
-			sb += b[m]
+			am, bm := s*x[e], s*y[e]
+			a[m], b[m], c[m] = am, bm, cm
+			sa += am
+			sb += bm
+			ta += cm * am
+			tb += cm * bm
+			cm += kite[k0+m] * inv
 		}
-		scan2(G[k0:k1:k1], H[k0:k1:k1], a[:n:n], b[:n:n], fr[:n:n], sa, sb)
-	}
-}
-
-// scan fills G for one cell: G_0 directly, the rest by the recurrence.
-func scan(G, a, fr []float64, sum float64) {
-	n := len(a)
-	g0, s := 0.0, 0.0
-	for k := 1; k < n; k++ {
-		s += fr[k-1]
-		g0 += (0.5 - s) * a[k]
-	}
-	G[0] = g0
-	for j := 0; j+1 < n; j++ {
-		g0 += fr[j]*sum - 0.5*(a[j]+a[j+1])
-		G[j+1] = g0
-	}
-}
-
-// scan2 is scan for two fields, interleaved so that their add chains
-// overlap; each gives the same bits as scan.
-func scan2(G, H, a, b, fr []float64, sa, sb float64) {
-	n := len(a)
-	g0, h0, s := 0.0, 0.0, 0.0
-	for k := 1; k < n; k++ {
-		s += fr[k-1]
-		w := 0.5 - s
-		g0 += w * a[k]
-		h0 += w * b[k]
-	}
-	G[0], H[0] = g0, h0
-	for j := 0; j+1 < n; j++ {
-		g0 += fr[j]*sa - 0.5*(a[j]+a[j+1])
-		h0 += fr[j]*sb - 0.5*(b[j]+b[j+1])
-		G[j+1], H[j+1] = g0, h0
+		g, h := G[k0:k1:k1], H[k0:k1:k1]
+		var la, lb float64
+		for j := 0; j < n; j++ {
+			g[j] = 0.5*(sa-a[j]) + c[j]*sa - ta - la
+			h[j] = 0.5*(sb-b[j]) + c[j]*sb - tb - lb
+			la += a[j]
+			lb += b[j]
+		}
 	}
 }
 

@@ -17,7 +17,7 @@ type core struct {
 	nc, ne, nv int
 	flux       []float64 // edges: volume flux l_e h_e u_e
 	phi        []float64 // cells: K + g(h + b)
-	q, hv      []float64 // vertices: PV, thickness
+	q          []float64 // vertices: PV
 	qe         []float64 // edges: PV brought to the edge
 	qflux      []float64 // edges: q_e × flux
 	lu         []float64 // edges: l_e u_e, only when a scheme needs it (apvm)
@@ -36,8 +36,8 @@ func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 		nc: g.NCells, ne: g.NEdges, nv: g.NVertices,
 		flux: make([]float64, g.NEdges),
 		phi:  make([]float64, g.NCells),
-		q:    make([]float64, g.NVertices), hv: make([]float64, g.NVertices),
-		qe: make([]float64, g.NEdges), qflux: make([]float64, g.NEdges),
+		q:    make([]float64, g.NVertices),
+		qe:   make([]float64, g.NEdges), qflux: make([]float64, g.NEdges),
 		perp: ops.NewTRiSK(g),
 	}
 	c.ga = make([]float64, c.perp.Slots())
@@ -103,11 +103,7 @@ func (c *core) doCells(lo, hi int) {
 
 // doVertices sets q_v = (ζ_v + f_v)/h_v (Ringler et al. 2010, eq. 26).
 func (c *core) doVertices(lo, hi int) {
-	c.g.Vorticity(c.q[lo:hi], c.hv[lo:hi], c.x[c.nc:], c.x[:c.nc], lo, hi)
-	f := c.phys.FVertex
-	for v := lo; v < hi; v++ {
-		c.q[v] = (c.q[v] + f[v]) / c.hv[v]
-	}
+	c.g.PotentialVorticity(c.q[lo:hi], c.phys.FVertex, c.x[c.nc:], c.x[:c.nc], lo, hi)
 }
 
 // doEdgePV sets q_e = (q_{v0} + q_{v1})/2 and q_e F_e.
