@@ -65,12 +65,12 @@ func NewModel(cfg Config, workers int) (*Model, error) {
 	if err != nil {
 		return nil, err
 	}
-	return newModelOn(cfg, msh, workers, nil)
+	return newModelOn(cfg, msh, workers, nil, nil)
 }
 
 // newModelOn builds a model on an existing mesh; a non-nil state replaces
-// the initial condition.
-func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state []float64) (*Model, error) {
+// the initial condition and a non-nil bottom the case's bottom height.
+func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float64) (*Model, error) {
 	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
 	nc, ne := msh.NCells, msh.NEdges
 	m.x = make([]float64, nc+ne)
@@ -89,6 +89,9 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state []float64) (*Mode
 	cp := cases.Physics{G: cfg.Physics.G, F0: cfg.Physics.F0, Beta: cfg.Physics.Beta, Depth: cfg.Physics.Depth, Radius: cfg.Physics.Radius, Omega: cfg.Physics.Omega}
 	if err := cs.Init(msh, cp, cfg.Initial.Params, m.x[:nc], m.x[nc:], bottom); err != nil {
 		return nil, err
+	}
+	if bottomIn != nil {
+		copy(bottom, bottomIn)
 	}
 	for _, b := range bottom {
 		if b != 0 {
@@ -264,15 +267,22 @@ func (m *Model) SetState(x []float64, time float64, steps int64) error {
 }
 
 // Regrid returns a new model on another grid family or resolution of the
-// same domain, carrying the current state over: depth conservatively (total
-// mass kept to round-off), velocity reconstructed at cell centres and
-// projected on the new edge normals (package remap). Scheme, integrator,
-// Δt, time, step count and the reference invariants carry over, so drifts
-// stay relative to the run's start. The receiver is left unchanged and
-// usable; the caller closes whichever model it drops.
+// same domain, carrying the current state over: depth and bottom height
+// conservatively (total mass kept to round-off, a lake at rest stays at
+// rest), velocity reconstructed at cell centres and projected on the new
+// edge normals (package remap). Scheme, integrator, Δt, time, step count
+// and the reference invariants carry over, so drifts stay relative to the
+// run's start. The receiver is left unchanged and usable; the caller closes
+// whichever model it drops.
 func (m *Model) Regrid(kind string, n int) (*Model, error) {
+	return m.RegridOptimize(kind, n, m.cfg.Grid.Optimize)
+}
+
+// RegridOptimize is Regrid that also sets grid.optimize ("none" or
+// "lloyd", icosahedral grids only).
+func (m *Model) RegridOptimize(kind string, n int, optimize string) (*Model, error) {
 	cfg := m.cfg
-	cfg.Grid.Kind, cfg.Grid.N = kind, n
+	cfg.Grid.Kind, cfg.Grid.N, cfg.Grid.Optimize = kind, n, optimize
 	if !m.mesh.Surface.Sphere {
 		cfg.Grid.Height = m.mesh.Surface.Ly
 		if mesh.Kind(kind) != mesh.Icosahedral && m.mesh.Surface.Ly == mesh.NaturalHeight(mesh.Kind(kind), n, cfg.Grid.Length) {
@@ -292,7 +302,12 @@ func (m *Model) Regrid(kind string, n int) (*Model, error) {
 	}
 	x := make([]float64, msh.NCells+msh.NEdges)
 	r.Apply(x, m.x)
-	nm, err := newModelOn(cfg, msh, m.workers, x)
+	var bottom []float64
+	if m.phys.Bottom != nil {
+		bottom = make([]float64, msh.NCells)
+		r.Cells(bottom, m.phys.Bottom)
+	}
+	nm, err := newModelOn(cfg, msh, m.workers, x, bottom)
 	if err != nil {
 		return nil, err
 	}

@@ -255,3 +255,41 @@ func TestRegridKeepsMass(t *testing.T) {
 		t.Errorf("regrid to n=2: %v", err)
 	}
 }
+
+// Bottom topography: a lake at rest over a seamount stays at rest (the
+// free surface h + b is flat and the pressure gradient vanishes exactly,
+// since the scheme's gradient sees g(h + b)), also after a change of grid,
+// because depth and bottom are remapped by the same linear conservative map.
+func TestLakeAtRestOverSeamount(t *testing.T) {
+	cfg := DefaultConfig()
+	cfg.Grid = GridConfig{Kind: "hex", N: 16, Length: 1e6}
+	cfg.Initial = InitialConfig{Case: "seamount", Params: map[string]float64{"amplitude": 0}}
+	m := mustModel(t, cfg, 1)
+	check := func(m *Model, when string) {
+		t.Helper()
+		h, b := m.Depth(), m.Bottom()
+		if b == nil {
+			t.Fatalf("%s: the seamount case set no bottom", when)
+		}
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for i := range h {
+			lo, hi = min(lo, h[i]+b[i]), max(hi, h[i]+b[i])
+		}
+		if hi-lo > 1e-9 {
+			t.Errorf("%s: free surface spans %g m, want flat", when, hi-lo)
+		}
+		if inv := m.Invariants(); inv.MaxSpeed > 1e-12 {
+			t.Errorf("%s: max speed %g m/s, want rest", when, inv.MaxSpeed)
+		}
+	}
+	runFor(t, m, 3600)
+	check(m, "after an hour")
+	nm, err := m.Regrid("tri", 12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(nm.Close)
+	check(nm, "after the switch to tri")
+	runFor(t, nm, 3600)
+	check(nm, "an hour after the switch")
+}

@@ -24,7 +24,7 @@ func sphereModel(t testing.TB, cfg Config, optimize string) *Model {
 	if err != nil {
 		t.Fatal(err)
 	}
-	m, err := newModelOn(cfg, msh, 1, nil)
+	m, err := newModelOn(cfg, msh, 1, nil, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

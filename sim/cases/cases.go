@@ -100,7 +100,7 @@ func (c *Case) paramNames() []string {
 // All returns every case, planar first.
 func All() []*Case {
 	return append([]*Case{
-		geostrophicSteady(), gaussianBump(), shearLayer(), vortexPair(), turbulence(),
+		geostrophicSteady(), gaussianBump(), shearLayer(), vortexPair(), turbulence(), seamount(),
 	}, sphereCases()...)
 }
 
@@ -354,6 +354,45 @@ func turbulence() *Case {
 				s, _, _ := psi(m.CellX[i], m.CellY[i])
 				h[i] = p.Depth + p.F0/p.G*scale*s
 			}
+			return nil
+		},
+	}
+}
+
+func seamount() *Case {
+	return &Case{
+		Name: "seamount",
+		Doc:  "the balanced zonal jet of geostrophic-steady flowing over a Gaussian seamount: a Taylor column and a lee wave train",
+		Params: []Param{
+			{"amplitude", 20, "free-surface anomaly of the jet, m (0 gives a lake at rest)"},
+			{"height", 300, "seamount height above the flat bottom, m"},
+			{"width", 0.06, "seamount e-folding radius as a fraction of the domain width"},
+			{"x0", 0.5, "seamount centre x as a fraction of the domain width"},
+			{"y0", 0.25, "seamount centre y as a fraction of the domain height (0.25 is under the jet's core)"},
+		},
+		init: func(m *mesh.Mesh, p Physics, prm map[string]float64, h, u, b []float64) error {
+			if err := needRotation("seamount", p); err != nil {
+				return err
+			}
+			lx, ly := m.Surface.Lx, m.Surface.Ly
+			s := prm["width"] * lx
+			if !(s > 0) {
+				return fmt.Errorf("initial.width = %g: must be > 0", prm["width"])
+			}
+			if prm["height"] >= p.Depth-prm["amplitude"] {
+				return fmt.Errorf("initial.height = %g: the seamount must stay below the surface (physics.depth − amplitude = %g)", prm["height"], p.Depth-prm["amplitude"])
+			}
+			a, k := prm["amplitude"], 2*math.Pi/ly
+			x0, y0 := prm["x0"]*lx, prm["y0"]*ly
+			for i := range h {
+				dx, dy := wrap(m.CellX[i]-x0, lx), wrap(m.CellY[i]-y0, ly)
+				b[i] = prm["height"] * math.Exp(-(dx*dx+dy*dy)/(2*s*s))
+				// The free surface h + b is that of the steady jet.
+				h[i] = p.Depth + a*math.Sin(k*m.CellY[i]) - b[i]
+			}
+			setVelocity(m, u, func(x, y float64) (float64, float64) {
+				return -p.G / p.F0 * a * k * math.Cos(k*y), 0
+			})
 			return nil
 		},
 	}

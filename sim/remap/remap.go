@@ -1,6 +1,7 @@
-// Package remap moves a shallow-water state [h | u] from one planar C-grid
-// to another, for a user who switches grid family (quad, hex, tri) or
-// resolution in the middle of a run.
+// Package remap moves a shallow-water state [h | u] from one C-grid to
+// another of the same surface, for a user who switches grid family (quad,
+// hex, tri) or resolution on the plane, or icosahedral level or
+// optimisation (none, lloyd) on the sphere, in the middle of a run.
 //
 // # Cell fields: depth and bottom height
 //
@@ -47,16 +48,54 @@
 // value at the new edge point it is first order only, which is why the
 // linear fit is used here.
 //
-// Only the doubly periodic plane is supported, and only between meshes of
-// the same domain Lx × Ly (equal to 1e-9 relative); New returns an error
-// naming both domains otherwise. At their natural heights quad meshes are
+// On the doubly periodic plane a remap needs meshes of the same domain
+// Lx × Ly (equal to 1e-9 relative); New returns an error naming both
+// domains otherwise. At their natural heights quad meshes are
 // square and hex and tri meshes are Lx × Lx·√3/2 whatever n, so hex ↔ tri
 // and quad ↔ quad switches of any n work, and a quad ↔ hex/tri switch needs
 // both meshes built on one domain. Nothing here assumes regular cells: any
 // planar mesh of convex cells listed anticlockwise will do.
 //
+// # The sphere
+//
+// Between two sphere meshes of one radius (equal to 1e-12 relative; the
+// error names both radii otherwise, and a plane ↔ sphere switch is refused
+// naming both surfaces), cells are geodesic polygons, their sides
+// great-circle arcs. The depth map is the same formula with |P_i ∩ Q_j| the
+// spherical area of the intersection: the gnomonic projection maps great
+// circles to straight lines, so the cells are convex polygons in it and
+// Sutherland–Hodgman clipping is exact. It is done in homogeneous form,
+// clipping the corners, as unit vectors of R³, against the planes of the
+// new cell's sides; that needs no projection centre, only that two
+// overlapping cells lie in one open hemisphere, true at every icosahedral
+// level. The area of a piece is a fan of spherical triangles (Eriksson
+// 1990, Math. Mag. 63, 184–187). Candidate pairs come from a flood fill
+// from the old cell containing each new centre, and points are located by
+// walks between neighbours, each seeded from a neighbour's answer:
+// O(N_old + N_new) in all.
+//
+// Mass is kept to summation round-off for any h. A constant is kept, and
+// h stays within its old range, up to the mesh's own round-off in cell
+// areas: package mesh sums kites through the edge points, which lie off
+// the great circles through the cell corners by about ε/L (L the edge
+// length in radians), so its A_i differ from the corner polygons' areas by
+// about ε/L² relative, 1e-13 at level 4 and 2e-12 at level 6 (measured).
+//
+// The velocity fit has the same stencils and six unknowns, for the
+// tangent field
+//
+//	v(x) = Ω × x + P(x) [γ c + σ1 (e1 e1ᵀ − e2 e2ᵀ) x + σ2 (e1 e2ᵀ + e2 e1ᵀ) x],
+//
+// with Ω ∈ R³, P(x) = I − x xᵀ, c the old cell's centre and e1, e2 a basis
+// of its tangent plane: three rotations, a convergence and two strains,
+// which near c span every linear tangent field. So every solid-body
+// rotation (the wind of Williamson et al. 1992, cases 2 and 5) is
+// reproduced to round-off, and a smooth flow to second order (measured
+// ≈ 2 in the spacing).
+//
 // New costs O(N_old + N_new) time and memory; Apply is a sparse
-// matrix-vector product. A Remapper is meant to be built once per switch.
+// matrix-vector product. A Remapper is meant to be built once per switch
+// (icosahedral level 5 → 6 or 6 → 5: 0.3 to 0.5 s on one core).
 package remap
 
 import (
@@ -96,19 +135,24 @@ type Remapper struct {
 	edgeW     []float64
 
 	clipped int // (old, new) cell pairs clipped, to check the O(N) search
+	walked  int // cells stepped through by the point search on the sphere
 }
 
 // New precomputes the remap from src to dst. Both meshes must be planar
-// and cover the same periodic domain; otherwise the error names both
-// domain sizes.
+// and cover the same periodic domain, or both be sphere meshes of the
+// same radius; otherwise the error names both domains or radii.
 func New(src, dst *mesh.Mesh) (*Remapper, error) {
 	if src == nil || dst == nil {
 		return nil, fmt.Errorf("remap: nil mesh")
 	}
-	if src.Surface.Sphere || dst.Surface.Sphere {
-		return nil, fmt.Errorf("remap on the sphere: not available yet")
-	}
 	s, d := src.Surface, dst.Surface
+	if s.Sphere != d.Sphere {
+		return nil, fmt.Errorf("remap: the source %s n=%d %s but the destination %s n=%d %s; a remap needs two meshes of the same surface",
+			src.Kind, src.N, surfaceWords(s), dst.Kind, dst.N, surfaceWords(d))
+	}
+	if s.Sphere {
+		return newSphere(src, dst)
+	}
 	if !sameLength(s.Lx, d.Lx) || !sameLength(s.Ly, d.Ly) {
 		return nil, fmt.Errorf("remap: the source %s n=%d covers %.10g × %.10g m but the destination %s n=%d covers %.10g × %.10g m; "+
 			"a remap needs the same periodic domain (at their natural heights quad meshes are Lx × Lx, hex and tri meshes Lx × Lx·√3/2)",
@@ -183,6 +227,14 @@ func (r *Remapper) Apply(dst, src []float64) {
 	r.Velocity(dst[r.dstCells:], src[r.srcCells:])
 }
 
+// surfaceWords describes a surface for an error message.
+func surfaceWords(s mesh.Surface) string {
+	if s.Sphere {
+		return fmt.Sprintf("is a sphere of radius %.12g m", s.Radius)
+	}
+	return fmt.Sprintf("is a %.10g × %.10g m periodic plane", s.Lx, s.Ly)
+}
+
 func sameLength(a, b float64) bool {
 	return math.Abs(a-b) <= domainTol*math.Max(math.Abs(a), math.Abs(b))
 }
@@ -202,7 +254,8 @@ func sameMesh(a, b *mesh.Mesh) bool {
 		a.NCells != b.NCells || a.NEdges != b.NEdges {
 		return false
 	}
-	for _, p := range [][2][]float64{{a.EdgeX, b.EdgeX}, {a.EdgeY, b.EdgeY}, {a.NormalX, b.NormalX}, {a.NormalY, b.NormalY}} {
+	for _, p := range [][2][]float64{{a.EdgeX, b.EdgeX}, {a.EdgeY, b.EdgeY}, {a.EdgeZ, b.EdgeZ},
+		{a.NormalX, b.NormalX}, {a.NormalY, b.NormalY}, {a.NormalZ, b.NormalZ}} {
 		if len(p[0]) != len(p[1]) {
 			return false
 		}

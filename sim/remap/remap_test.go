@@ -338,9 +338,13 @@ func TestErrors(t *testing.T) {
 	if _, err := New(hex, other); err == nil {
 		t.Error("hex of two lengths: no error")
 	}
-	sphere := &mesh.Mesh{Kind: mesh.Icosahedral, Surface: mesh.Surface{Sphere: true, Radius: 6.4e6}}
-	if _, err := New(sphere, sphere); err == nil || err.Error() != "remap on the sphere: not available yet" {
-		t.Errorf("sphere: got %v", err)
+	// Plane ↔ sphere is refused (TestSphereErrors checks the message).
+	sphere, err := mesh.New(mesh.Spec{Kind: mesh.Icosahedral, N: 2, Radius: 6.4e6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := New(hex, sphere); err == nil || !strings.Contains(err.Error(), "same surface") {
+		t.Errorf("plane → sphere: got %v", err)
 	}
 	if _, err := New(nil, hex); err == nil {
 		t.Error("nil mesh: no error")
