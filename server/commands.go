@@ -17,8 +17,9 @@ import (
 	"gyrebench/sim/step"
 )
 
-// gridKinds are the grid families a live run can switch between.
-var gridKinds = []string{string(mesh.Quad), string(mesh.Hex), string(mesh.Tri)}
+// gridKinds are the grid families of the grid menu. A run switches
+// between the planar ones, or between icosahedral levels (sphere.go).
+var gridKinds = []string{string(mesh.Quad), string(mesh.Hex), string(mesh.Tri), string(mesh.Icosahedral)}
 
 // cmdError refuses a command: which field, the value given, and a message
 // that says what is allowed.
@@ -247,6 +248,10 @@ func (r *Run) apply(m clientMsg) error {
 		})
 	case "set-grid":
 		return r.setGrid(m.Value)
+	case "mark", "replay", "stop-replay":
+		return r.applyTimeline(m)
+	case "linear":
+		return r.linearOn(m.Value)
 	case "set-field":
 		name, ce := parseString(m.Value, "field")
 		if ce != nil {
@@ -312,7 +317,7 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&g); err != nil {
-		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side}", shown(raw), strings.Join(gridKinds, ", "))
+		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side, or the level on the sphere}", shown(raw), strings.Join(gridKinds, ", "))
 	}
 	cfg := r.m.Config()
 	msh := r.m.Mesh()
@@ -326,28 +331,26 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 	if !known {
 		return refuse("grid.kind", g.Kind, "grid.kind = %q: not a grid the workbench can switch to; allowed: %s", g.Kind, strings.Join(gridKinds, ", "))
 	}
+	if ce := surfaceSwitch(g.Kind, cfg, msh); ce != nil {
+		return ce
+	}
 	n := cfg.Grid.N
 	if len(g.N) > 0 {
 		var ce *cmdError
-		if n, ce = parseInt(g.N, "grid.n", "a whole number of cells per side"); ce != nil {
+		if n, ce = parseInt(g.N, "grid.n", resolutionWhat(g.Kind)); ce != nil {
 			return ce
 		}
 	}
 	if n == cfg.Grid.N && g.Kind == cfg.Grid.Kind {
 		return nil
 	}
-	nmax := maxLiveN(g.Kind, cfg, msh)
-	even := ""
-	if g.Kind != string(mesh.Quad) {
-		even = ", even"
-	}
-	if n > nmax {
-		return refuse("grid.n", strconv.Itoa(n), "grid.n = %d: too large for a live run; allowed on the %s grid: 4 ≤ n ≤ %d%s (at most %d cells)", n, g.Kind, nmax, even, MaxLiveCells)
+	if ce := resolutionRange(g.Kind, n, maxLiveN(g.Kind, cfg, msh)); ce != nil {
+		return ce
 	}
 	if _, err := liveSpec(g.Kind, n, cfg, msh).Cells(); err != nil {
 		return refuseErr("grid.n", strconv.Itoa(n), err)
 	}
-	label := fmt.Sprintf("grid: %s n = %d", g.Kind, n)
+	label := "grid: " + gridName(g.Kind, n)
 	return r.change("grid", label, func() error {
 		nm, err := r.m.Regrid(g.Kind, n)
 		if err != nil {

@@ -48,6 +48,31 @@
 // marker (a mid-run change), ring (the times of the states one can rewind
 // to), ack and error.
 //
+// The linear panel (linear_panel.go): the command "linear" turns on the
+// run's linear analysis; from then on, after every change of choice, every
+// watcher receives stability (the largest stable Δt of each integrator
+// from linear.StableDt's max|λ| on the run's grid, and the live Courant
+// number) and dispersion (the normal modes of a small copy of the grid,
+// for the dispersion diagram). An accepted set-dt or set-integrator that
+// leaves Δt past the prediction is answered by a warning (same fields as
+// an error) before its ack; it is not a refusal.
+//
+// Figures (figure_routes.go): GET /run/{id}/figure.png and figure.svg
+// render the displayed field server-side with package sim/figure.
+//
+// Timelines (timeline_run.go, timeline_routes.go): every command a run
+// takes is recorded with its step (package sim/timeline). The commands
+// mark (a labelled moment where a replay pauses), replay (a built-in
+// timeline name or an uploaded file's text) and stop-replay drive it, and
+// each watcher receives timeline messages with the record and the replay's
+// progress. GET /run/{id}/timeline.toml saves the record; GET
+// /run/{id}/final.nc writes the live state as `gyrebench run` would.
+//
+// Lockstep pairs (pair.go, pair_routes.go): /pair/{id} shows two runs from
+// one initial state that differ in chosen settings; each pair step advances
+// whichever side is behind in simulated time (both when level), and
+// commands name their side.
+//
 // Server to client, binary, little-endian, every section 4-byte aligned so
 // the browser reads it with typed-array views:
 //

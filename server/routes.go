@@ -35,9 +35,10 @@ var (
 		step.Euler:    "forward Euler",
 	}
 	gridLabels = map[string]string{
-		"quad": "quadrilateral",
-		"hex":  "hexagonal",
-		"tri":  "triangular",
+		"quad":        "quadrilateral",
+		"hex":         "hexagonal",
+		"tri":         "triangular",
+		"icosahedral": "icosahedral (sphere)",
 	}
 )
 
@@ -56,7 +57,11 @@ func (s *Server) routes() chi.Router {
 	r.Post("/runs", s.createRun)
 	r.Get("/run/{id}", s.serveRunPage)
 	r.Get("/run/{id}/ws", s.serveWS)
+	r.Get("/run/{id}/figure.png", s.serveFigure("png"))
+	r.Get("/run/{id}/figure.svg", s.serveFigure("svg"))
 	r.Get("/api/runs", s.serveRunsJSON)
+	s.mountTimeline(r) // timeline_routes.go
+	s.mountPairs(r)    // pair_routes.go
 	r.Get("/static/*", s.serveStatic)
 	r.NotFound(func(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "not found: "+req.URL.Path+" (the workbench is at /)", http.StatusNotFound)
@@ -177,7 +182,11 @@ func (s *Server) createRun(w http.ResponseWriter, req *http.Request) {
 // Sec-Fetch-Site, or else the Origin header, must say this site.
 func sameOrigin(req *http.Request) bool {
 	switch req.Header.Get("Sec-Fetch-Site") {
-	case "", "same-origin", "none":
+	case "same-origin":
+		// Set by the browser, never by a page. Origin can then be "null":
+		// the pages' Referrer-Policy is no-referrer.
+		return true
+	case "", "none":
 	default:
 		return false
 	}

@@ -45,12 +45,14 @@ const (
 	cmdClient cmdKind = iota
 	cmdJoin
 	cmdLeave
+	cmdFunc // run fn on the run's goroutine: results of background work, snapshots
 )
 
 type command struct {
 	kind cmdKind
 	sub  *subscriber
 	msg  clientMsg
+	fn   func(*Run)
 }
 
 // RunInfo is a read-only snapshot of a run, for pages and listings. The run
@@ -103,6 +105,9 @@ type Run struct {
 	subs   map[*subscriber]struct{}
 	frames chan *frame
 
+	lin linPanel      // the linear analysis (linear_panel.go)
+	tl  timelineState // the recorded timeline and a replay (timeline_run.go)
+
 	born                             time.Time
 	lastFrame, lastPoint, lastStatus time.Time
 	rateT                            time.Time
@@ -114,6 +119,17 @@ type Run struct {
 // newRun builds the model and starts the run's goroutine, which lives until
 // ctx ends.
 func newRun(ctx context.Context, id, scenario string, cfg sim.Config, workers, ringSize int, hello func(id string) []byte) (*Run, error) {
+	r, err := buildRun(ctx, id, scenario, cfg, workers, ringSize, hello)
+	if err != nil {
+		return nil, err
+	}
+	go r.loop(ctx)
+	return r, nil
+}
+
+// buildRun builds a run without starting its goroutine: newRun starts
+// one, a lockstep pair (pair.go) drives two runs from its own.
+func buildRun(ctx context.Context, id, scenario string, cfg sim.Config, workers, ringSize int, hello func(id string) []byte) (*Run, error) {
 	m, err := sim.NewModel(cfg, workers)
 	if err != nil {
 		return nil, err
@@ -130,8 +146,8 @@ func newRun(ctx context.Context, id, scenario string, cfg sim.Config, workers, r
 		born: time.Now(),
 	}
 	r.ring.init(ringSize)
+	r.lin.init(ctx)
 	r.install(m, scenario, cfg.Title)
-	go r.loop(ctx)
 	return r, nil
 }
 
@@ -204,6 +220,9 @@ func (r *Run) advance() {
 // step advances the model once; on a blow-up it pauses the run (the model
 // has kept the last good state) and reports false.
 func (r *Run) step() bool {
+	if r.tl.player != nil && !r.replayBeforeStep() {
+		return false
+	}
 	if r.rewound {
 		r.resumeFromRing()
 	}
@@ -260,6 +279,7 @@ func (r *Run) blownUp(bu *sim.BlowUpError, err error) {
 		b.X, b.Y = num(math.NaN()), num(math.NaN())
 	}
 	r.blow = b
+	r.recordBlowUp()
 	r.ring.push(r.m)
 	r.emitPoint()
 	r.emitFrame()
@@ -280,10 +300,15 @@ func (r *Run) handle(c command) {
 			r.pause()
 		}
 		r.publishInfo()
+	case cmdFunc:
+		c.fn(r)
 	case cmdClient:
-		if err := r.apply(c.msg); err != nil {
+		if err := r.applyRecorded(c.msg); err != nil {
 			c.sub.send(errorReply(c.msg, err))
 			return
+		}
+		if w := r.warning(c.msg); w != nil {
+			c.sub.send(*w)
 		}
 		c.sub.send(outMsg{typ: textMsg, data: mustJSON(struct {
 			Type string `json:"type"`
@@ -302,6 +327,8 @@ func (r *Run) join(s *subscriber) {
 	s.send(r.historyMsg())
 	s.send(r.ringMsg())
 	s.send(r.statusMsg())
+	s.send(r.timelineMsg())
+	r.linearJoin(s)
 	if f := r.buildFrame(); f != nil {
 		s.offer(f)
 		f.release()
@@ -323,6 +350,7 @@ func (r *Run) install(m *sim.Model, scenario, title string) {
 	r.ring.reset()
 	r.ring.push(m)
 	r.addPoint(r.pointNow())
+	r.startTimeline()
 	r.publishInfo()
 }
 
@@ -342,6 +370,7 @@ func (r *Run) afterInstall() {
 	r.emitStatus()
 	r.emitFrame()
 	r.publishInfo()
+	r.linearChanged()
 }
 
 // pause stops a running run and brings every subscriber up to date.
@@ -379,6 +408,7 @@ func (r *Run) change(kind, label string, apply func() error) error {
 	r.emitPoint()
 	r.emitStatus()
 	r.publishInfo()
+	r.linearChanged()
 	return nil
 }
 
@@ -489,9 +519,10 @@ func (r *Run) emitStatus() {
 
 // Limits a client may ask for on the current grid.
 type limits struct {
-	DtMax float64        `json:"dt_max"`
-	NMax  map[string]int `json:"n_max"`
-	NMin  int            `json:"n_min"`
+	DtMax    float64        `json:"dt_max"`
+	NMax     map[string]int `json:"n_max"`
+	NMin     int            `json:"n_min"`
+	NMinKind map[string]int `json:"n_min_kind"` // per family: the level on the sphere
 }
 
 func (r *Run) configMsg() outMsg {
@@ -509,6 +540,8 @@ func (r *Run) configMsg() outMsg {
 		Cells    int     `json:"cells"`
 		Edges    int     `json:"edges"`
 		Vertices int     `json:"vertices"`
+		Sphere   bool    `json:"sphere"`
+		Optimize string  `json:"optimize"`
 	}
 	return outMsg{typ: textMsg, data: mustJSON(struct {
 		Type       string `json:"type"`
@@ -522,9 +555,9 @@ func (r *Run) configMsg() outMsg {
 		Limits     limits `json:"limits"`
 	}{
 		"config", r.scenario, r.title,
-		grid{cfg.Grid.Kind, cfg.Grid.N, msh.Surface.Lx, msh.Surface.Ly, msh.NCells, msh.NEdges, msh.NVertices},
+		grid{cfg.Grid.Kind, cfg.Grid.N, msh.Surface.Lx, msh.Surface.Ly, msh.NCells, msh.NEdges, msh.NVertices, msh.Surface.Sphere, optimizeName(cfg.Grid.Optimize)},
 		cfg.Scheme.Name, cfg.Time.Integrator, num(cfg.Time.Dt), r.field.Name,
-		limits{DtMax: r.dtMax(), NMax: nmax, NMin: 4},
+		limits{DtMax: r.dtMax(), NMax: nmax, NMin: 4, NMinKind: nMinByKind()},
 	})}
 }
 

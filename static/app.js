@@ -4,7 +4,10 @@
 
 import { decodeBinary } from './protocol.js';
 import { FieldView } from './fieldview.js';
+import { SphereView, PROJECTIONS } from './globe.js';
+import { LinearPanel } from './linearpanel.js';
 import { SeriesPlot } from './seriesplot.js';
+import { TimelinePanel } from './timeline.js';
 import { drawColourBar, mapFor } from './colour.js';
 import { fmtClock, fmtNum } from './format.js';
 
@@ -21,6 +24,7 @@ const el = {
   field: $('field-select'), scenario: $('scenario-select'), load: $('load-scenario'),
   scrub: $('scrub'), scrubLabel: $('scrub-label'), message: $('message'), blowup: $('blowup'),
   log: $('log-drift'), large: $('large-type'), help: $('help'), overlay: $('help-overlay'), title: $('title'),
+  nLabel: $('resolution-label'), projection: $('projection-select'), projectionBox: $('projection'),
 };
 
 // For tests and measurements: the latest status (with the server's own
@@ -28,8 +32,17 @@ const el = {
 const hooks = { status: null, firstFrameMs: null, drawMs: 0 };
 window.gyrebench = hooks;
 
-const view = new FieldView(el.canvas);
+// The plane is drawn by FieldView, the sphere by SphereView (globe or
+// longitude–latitude map); view is whichever the current grid needs.
+const planeView = new FieldView(el.canvas);
+const sphereView = new SphereView(el.canvas);
+let view = planeView;
+const linear = new LinearPanel({
+  dtStable: $('dt-stable'), dtWarning: $('dt-warning'), plot: $('dispersion-plot'),
+  caption: $('dispersion-caption'), legend: $('dispersion-legend'),
+});
 const plot = new SeriesPlot(el.plot);
+const timeline = new TimelinePanel(send, showMessage); // record, mark, replay (timeline.js)
 
 const st = {
   ws: null, retry: 500, fields: [], config: null, status: null, geometry: null,
@@ -46,7 +59,10 @@ function connect() {
   ws.binaryType = 'arraybuffer';
   st.ws = ws;
   setRunState('connecting');
-  ws.onopen = () => { st.retry = 500; };
+  ws.onopen = () => {
+    st.retry = 500;
+    send('linear'); // the stable-Δt prediction and the dispersion diagram
+  };
   ws.onmessage = (ev) => {
     if (typeof ev.data === 'string') onJSON(JSON.parse(ev.data));
     else onBinary(ev.data);
@@ -90,7 +106,17 @@ function onJSON(m) {
       break;
     case 'point':
       plot.addPoint(m);
+      linear.onPoint(m);
       schedule('plot');
+      break;
+    case 'stability':
+      linear.onStability(m);
+      break;
+    case 'dispersion':
+      linear.onDispersion(m);
+      break;
+    case 'warning':
+      linear.onWarning(m);
       break;
     case 'history':
       plot.setHistory(m.points, m.markers);
@@ -99,6 +125,9 @@ function onJSON(m) {
     case 'marker':
       plot.addMarker(m);
       schedule('plot');
+      break;
+    case 'timeline':
+      timeline.update(m);
       break;
     case 'ring':
       st.ring = m;
@@ -126,6 +155,7 @@ function onBinary(buf) {
   }
   if (msg.kind === 'geometry') {
     st.geometry = msg;
+    useView(msg.sphere ? sphereView : planeView);
     view.setGeometry(msg);
     st.range = null;
     el.canvas.dataset.grid = st.config ? `${st.config.grid.kind} ${st.config.grid.n}` : '';
@@ -199,6 +229,7 @@ function drawField(now) {
   st.framesDrawn++;
   el.canvas.dataset.frames = String(st.framesDrawn);
   el.canvas.dataset.field = def.name;
+  el.canvas.dataset.drawn = view === sphereView ? sphereView.projection : 'plane'; // how the last frame was drawn
   if (st.framesDrawn === 1) {
     hooks.firstFrameMs = performance.now();
     el.canvas.dataset.firstFrameMs = hooks.firstFrameMs.toFixed(0);
@@ -248,7 +279,15 @@ function showConfig() {
   if (document.activeElement !== el.n) el.n.value = String(c.grid.n);
   el.dtHint.textContent = `allowed 0 < Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s here`;
   const nmax = c.limits.n_max[c.grid.kind];
-  el.gridHint.textContent = `${c.grid.cells} cells · n from ${c.limits.n_min} to ${nmax}${c.grid.kind === 'quad' ? '' : ', even'}`;
+  const nmin = (c.limits.n_min_kind && c.limits.n_min_kind[c.grid.kind]) || c.limits.n_min;
+  if (c.grid.sphere) {
+    el.nLabel.textContent = 'Refinement level n';
+    el.gridHint.textContent = `${c.grid.cells} cells (10·4ⁿ+2) · levels ${nmin} to ${nmax} · optimisation: ${c.grid.optimize}`;
+  } else {
+    el.nLabel.textContent = 'Cells per side n';
+    el.gridHint.textContent = `${c.grid.cells} cells · n from ${nmin} to ${nmax}${c.grid.kind === 'quad' ? '' : ', even'}`;
+  }
+  linear.onConfig(c);
   el.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
   schedule('field');
 }
@@ -333,10 +372,29 @@ function nextField() {
   send('set-field', st.fields[(i + 1) % st.fields.length].name);
 }
 
+// useView makes v the view that draws on the canvas.
+function useView(v) {
+  planeView.geom = v === planeView ? planeView.geom : null; // an idle view ignores the pointer
+  sphereView.active = v === sphereView;
+  el.projectionBox.hidden = v !== sphereView;
+  el.canvas.dataset.projection = v === sphereView ? sphereView.projection : 'plane';
+  if (v !== view) v.highlight = view.highlight;
+  view = v;
+}
+
+function setProjection(p) {
+  sphereView.setProjection(p);
+  el.projection.value = sphereView.projection;
+  if (view === sphereView) el.canvas.dataset.projection = sphereView.projection;
+  try { localStorage.setItem('gyrebench.projection', sphereView.projection); } catch { /* private mode */ }
+  schedule('field');
+}
+
 function setLarge(on) {
   document.body.classList.toggle('large', on);
   el.large.setAttribute('aria-pressed', String(on));
   plot.scale = on ? 1.6 : 1;
+  linear.setScale(on ? 1.6 : 1);
   try { localStorage.setItem('gyrebench.large', on ? '1' : '0'); } catch { /* private mode */ }
   requestAnimationFrame(() => { schedule('field'); schedule('plot'); });
 }
@@ -355,6 +413,9 @@ el.field.addEventListener('change', () => send('set-field', el.field.value));
 el.grid.addEventListener('change', setGrid);
 el.n.addEventListener('change', setGrid);
 el.dt.addEventListener('change', () => send('set-dt', numberOrText(el.dt.value)));
+el.dt.addEventListener('input', () => linear.onTyped(el.dt.value));
+el.dt.addEventListener('blur', () => linear.onTyped(''));
+el.projection.addEventListener('change', () => setProjection(el.projection.value));
 for (const input of [el.dt, el.n]) {
   input.addEventListener('keydown', (e) => { if (e.key === 'Enter') input.blur(); });
 }
@@ -364,7 +425,8 @@ el.log.addEventListener('change', () => { plot.log = el.log.checked; schedule('p
 el.large.addEventListener('click', () => setLarge(!document.body.classList.contains('large')));
 el.help.addEventListener('click', () => toggleHelp());
 el.overlay.addEventListener('click', (e) => { if (e.target === el.overlay) toggleHelp(false); });
-view.onchange = () => schedule('field');
+planeView.onchange = () => schedule('field');
+sphereView.onchange = () => schedule('field');
 
 document.addEventListener('keydown', (e) => {
   if (e.ctrlKey || e.metaKey || e.altKey) return;
@@ -378,6 +440,9 @@ document.addEventListener('keydown', (e) => {
     case 'r': case 'R': send('reset'); break;
     case 'f': case 'F': nextField(); break;
     case 'l': case 'L': setLarge(!document.body.classList.contains('large')); break;
+    case 'g': case 'G':
+      if (view === sphereView) setProjection(PROJECTIONS[(PROJECTIONS.indexOf(sphereView.projection) + 1) % PROJECTIONS.length]);
+      break;
     case '?': toggleHelp(); break;
     case '+': case '=': view.zoomBy(1.25); schedule('field'); break;
     case '-': case '_': view.zoomBy(0.8); schedule('field'); break;
@@ -390,5 +455,6 @@ new ResizeObserver(() => { schedule('field'); schedule('plot'); }).observe(el.ca
 new ResizeObserver(() => schedule('plot')).observe(el.plot);
 
 try { if (localStorage.getItem('gyrebench.large') === '1') setLarge(true); } catch { /* private mode */ }
+try { const p = localStorage.getItem('gyrebench.projection'); if (p) setProjection(p); } catch { /* private mode */ }
 plot.log = el.log.checked;
 connect();

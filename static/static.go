@@ -5,9 +5,16 @@
 //     wires the controls (the data-role hooks) and the keyboard.
 //   - protocol.js: decodes the binary geometry and field frames.
 //   - fieldview.js: draws a field on the grid's polygons with pan and zoom.
+//   - globe.js: draws a field on the sphere, as a rotatable globe or a
+//     longitude–latitude map.
+//   - linearpanel.js, dispersion.js: the predicted stable Δt beside the Δt
+//     control, its warning, and the dispersion diagram.
 //   - seriesplot.js: the live plot of invariants with change markers.
 //   - colour.js: the colour maps and the colour bar.
 //   - format.js: numbers and times for people.
+//   - timeline.js: saving, loading and replaying recorded timelines.
+//   - pair.js, pairplot.js, compare.css: the lockstep pair page (A, B and
+//     A − B on one view, both runs' invariants on one plot).
 package static
 
 import "embed"

@@ -32,6 +32,26 @@ type Options struct {
 	Workers     int       // goroutines for the tendency loops; ≤ 0 means 1
 	Progress    io.Writer // progress line (a terminal); nil for quiet
 	Description string    // carried into recipe.toml
+	// Schedule, when set, changes the run between steps and decides when
+	// it ends (a recorded timeline); the duration is then not used.
+	Schedule Schedule
+	// Recipe, when set, is written as recipe.toml instead of the scenario
+	// (a timeline writes itself, so that rerunning it repeats the run).
+	Recipe []byte
+}
+
+// A Schedule drives a run from outside, between steps: the events of a
+// recorded timeline (package sim/timeline). The runner calls Before at the
+// start and before every step.
+type Schedule interface {
+	// Before applies what is due at m's current step and returns the model
+	// to go on with and whether the run ends here. When it replaces the
+	// model (a grid change) it closes the one it replaced. A step count
+	// that goes back (a rewind) drops the later rows of series.csv.
+	Before(m *sim.Model) (next *sim.Model, end bool, err error)
+	// MaxStep is the largest step count the run reaches, for the progress
+	// line.
+	MaxStep() int64
 }
 
 // Summary is summary.json.
@@ -105,12 +125,12 @@ func Run(ctx context.Context, cfg sim.Config, opt Options) (*Summary, error) {
 	if err != nil {
 		return nil, err
 	}
-	defer model.Close()
+	r := &runner{model: model, cfg: cfg, opt: opt}
+	defer func() { r.model.Close() }() // a schedule may have replaced the model
 	if err := os.MkdirAll(opt.OutDir, 0o755); err != nil {
 		return nil, fmt.Errorf("--out %s: %w", opt.OutDir, err)
 	}
 
-	r := &runner{model: model, cfg: cfg, opt: opt}
 	if cfg.Output.Snapshots {
 		if err := r.openSnapshots(); err != nil {
 			return nil, err
@@ -130,6 +150,8 @@ type runner struct {
 	opt   Options
 
 	series   bytes.Buffer
+	rowSteps []int64 // the step of each series row
+	rowEnds  []int   // the end of each row in series
 	snapFile *atomicfile.File
 	snaps    *ncout.Snapshots
 	snapZeta []float64
@@ -149,7 +171,22 @@ func (r *runner) loop(ctx context.Context) error {
 	start := time.Now()
 	lastShown := start
 	defer func() { r.wall = time.Since(start) }()
-	for m.Steps() < total {
+	if r.opt.Schedule != nil {
+		total = r.opt.Schedule.MaxStep()
+	}
+	for r.opt.Schedule != nil || m.Steps() < total {
+		if s := r.opt.Schedule; s != nil {
+			end, err := r.schedule(s)
+			m = r.model
+			if err != nil {
+				r.endRow()
+				return err
+			}
+			if end {
+				r.endRow()
+				break
+			}
+		}
 		if err := ctx.Err(); err != nil {
 			r.endRow()
 			return fmt.Errorf("%w at step %d (t = %g s)", ErrInterrupted, m.Steps(), m.Time())
@@ -178,15 +215,34 @@ func (r *runner) loop(ctx context.Context) error {
 
 // endRow records the last good state if it is not the last row already.
 func (r *runner) endRow() {
-	every := max(int64(math.Round(r.cfg.Output.Every/r.cfg.Time.Dt)), 1)
-	if r.model.Steps()%every != 0 {
-		_ = r.record()
+	if n := len(r.rowSteps); n > 0 && r.rowSteps[n-1] == r.model.Steps() {
+		return
 	}
+	_ = r.record()
+}
+
+// schedule lets the schedule act before a step; after a rewind it drops
+// the series rows of the steps now undone.
+func (r *runner) schedule(s Schedule) (bool, error) {
+	nm, end, err := s.Before(r.model)
+	if nm != nil {
+		r.model = nm
+	}
+	steps := r.model.Steps()
+	k := len(r.rowSteps)
+	for k > 0 && r.rowSteps[k-1] > steps {
+		k--
+	}
+	if k < len(r.rowSteps) { // k ≥ 1: the row of step 0 always stays
+		r.series.Truncate(r.rowEnds[k-1])
+		r.rowSteps, r.rowEnds = r.rowSteps[:k], r.rowEnds[:k]
+	}
+	return end, err
 }
 
 func progress(w io.Writer, steps, total int64, t float64, elapsed time.Duration) {
 	const width = 30
-	frac := float64(steps) / float64(total)
+	frac := min(max(float64(steps)/float64(max(total, 1)), 0), 1)
 	bar := strings.Repeat("=", int(frac*width)) + strings.Repeat(" ", width-int(frac*width))
 	rate := float64(steps) / elapsed.Seconds()
 	eta := time.Duration(float64(total-steps)/rate) * time.Second
@@ -223,6 +279,7 @@ func (r *runner) record() error {
 		row = append(row, "", "", "")
 	}
 	r.series.WriteString(strings.Join(row, ",") + "\n")
+	r.rowSteps, r.rowEnds = append(r.rowSteps, m.Steps()), append(r.rowEnds, r.series.Len())
 	if r.snaps != nil {
 		m.Diagnostics().Vorticity(r.snapZeta, nil, m.State())
 		if err := r.snaps.Write(m.Time(), m.Depth(), m.Velocity(), r.snapZeta); err != nil {
@@ -270,9 +327,11 @@ func stateFields(h, u, zeta []float64) []ncout.Field {
 	}
 }
 
-// finish writes every file from the model's current (last good) state.
-func (r *runner) finish(runErr error) error {
-	m := r.model
+// FinalFile builds final.nc for m's current state: depth, normal
+// velocity, relative and potential vorticity and the bottom height on m's
+// mesh, with m's current scheme and integrator in the global attributes.
+// The file refers to m's state until it is written.
+func FinalFile(m *sim.Model) (*ncout.File, error) {
 	msh := m.Mesh()
 	zeta := make([]float64, msh.NVertices)
 	pv := make([]float64, msh.NVertices)
@@ -285,13 +344,28 @@ func (r *runner) finish(runErr error) error {
 		ncout.Field{Name: "potential_vorticity", Location: ncout.Node, Units: "m-1 s-1", LongName: "potential vorticity (zeta + f) / h", CellMeasures: ncout.NodeAreaMeasure, Data: pv},
 		ncout.Field{Name: "bottom_height", Location: ncout.Face, Units: "m", LongName: "bottom height above the reference level", CellMeasures: ncout.FaceAreaMeasure, Data: bottom},
 	)
-	nc, err := ncout.MeshFile(msh, meta(r.cfg), fields)
+	return ncout.MeshFile(msh, meta(m.Config()), fields)
+}
+
+// WriteFinal writes final.nc for m's current state to path, as a run
+// does, atomically. The workbench uses it for a live run's state, so that
+// a live run and its headless replay are compared file to file.
+func WriteFinal(path string, m *sim.Model) error {
+	nc, err := FinalFile(m)
+	if err == nil {
+		err = ncout.WriteFile(path, nc)
+	}
 	if err != nil {
 		return fmt.Errorf("final.nc: %w", err)
 	}
+	return nil
+}
+
+// finish writes every file from the model's current (last good) state.
+func (r *runner) finish(runErr error) error {
 	dir := r.opt.OutDir
-	if err := ncout.WriteFile(filepath.Join(dir, "final.nc"), nc); err != nil {
-		return fmt.Errorf("final.nc: %w", err)
+	if err := WriteFinal(filepath.Join(dir, "final.nc"), r.model); err != nil {
+		return err
 	}
 	if r.snaps != nil {
 		if err := r.snaps.Close(); err != nil {
@@ -320,7 +394,10 @@ func (r *runner) finish(runErr error) error {
 	}
 	// The recipe is the scenario as given, so rerunning it repeats the run
 	// from the start.
-	recipe := scenario.Format(r.cfg, r.opt.Description)
+	recipe := r.opt.Recipe
+	if recipe == nil {
+		recipe = scenario.Format(r.cfg, r.opt.Description)
+	}
 	if err := atomicfile.WriteFile(filepath.Join(dir, "recipe.toml"), func(w io.Writer) error {
 		_, err := w.Write(recipe)
 		return err

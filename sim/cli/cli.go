@@ -24,6 +24,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
 	"gyrebench/sim/scenario"
+	"gyrebench/sim/timeline"
 )
 
 // Exit codes.
@@ -65,6 +66,7 @@ func usage(w io.Writer) {
 
   gyrebench serve [--addr 127.0.0.1:8080]     the live workbench in the browser
   gyrebench run FILE_OR_NAME [--set key=value]... [--out DIR] [--workers W]
+                                              FILE may be a recorded timeline (saved in the workbench)
   gyrebench scenarios                         list the built-in scenarios
   gyrebench scenarios show NAME               print a built-in scenario
   gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W]
@@ -85,6 +87,9 @@ func Load(fileOrName string) (*scenario.Scenario, error) {
 		data, err := os.ReadFile(fileOrName)
 		if err != nil {
 			return nil, err
+		}
+		if timeline.Is(data) {
+			return nil, fmt.Errorf("%s is a timeline file: 'gyrebench run' replays it; this command takes a scenario", fileOrName)
 		}
 		return scenario.Parse(data, fileOrName)
 	}
@@ -134,22 +139,19 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "gyrebench run: --workers = %d: must be between 1 and 256\n", *workers)
 		return ExitBadInput
 	}
-	sc, err := Load(pos[0])
+	sc, tl, err := loadRun(pos[0], sets) // a scenario, or a recorded timeline (timeline.go)
 	if err != nil {
 		fmt.Fprintf(stderr, "gyrebench run: %v\n", err)
 		return ExitBadInput
-	}
-	for _, s := range sets {
-		if err := scenario.Set(&sc.Config, s); err != nil {
-			fmt.Fprintf(stderr, "gyrebench run: %v\n", err)
-			return ExitBadInput
-		}
 	}
 	dir := *out
 	if dir == "" {
 		dir = "run-" + strings.TrimSuffix(baseName(pos[0]), ".toml")
 	}
 	opt := batch.Options{OutDir: dir, Workers: *workers, Description: sc.Description}
+	if tl != nil {
+		opt.Schedule, opt.Recipe = timeline.NewPlayer(tl), tl.Format()
+	}
 	if isTerminal(stderr) {
 		opt.Progress = stderr
 	}

@@ -1,0 +1,169 @@
+package server
+
+import (
+	"bytes"
+	"context"
+	"fmt"
+	"net/http"
+	"net/url"
+	"strconv"
+	"strings"
+
+	"github.com/go-chi/chi/v5"
+
+	"gyrebench/sim"
+	"gyrebench/sim/figure"
+	"gyrebench/sim/mesh"
+)
+
+// Figures for slides: GET /run/{id}/figure.png and /run/{id}/figure.svg
+// render the run's displayed field (or ?field=NAME) as it is now, with a
+// colour bar and a title naming the run's choices and simulated time
+// (figure.Title), on the server with package sim/figure, so that a figure
+// does not depend on the browser. ?width= and ?height= set the size in
+// pixels (default defaultFigureW × defaultFigureH). The sphere is drawn as
+// a longitude–latitude map.
+
+const (
+	defaultFigureW, defaultFigureH = 1600, 900
+	// maxFigureSide bounds a live figure below figure.MaxSide: a
+	// 4096 × 4096 PNG is 64 MB of pixels while it is painted.
+	maxFigureSide = 4096
+)
+
+// figureSnap is what a figure needs from a run, copied on the run's
+// goroutine. The mesh is immutable and shared.
+type figureSnap struct {
+	mesh *mesh.Mesh
+	vals []float64
+	def  *fieldDef
+	cfg  sim.Config
+	t    float64
+}
+
+// snapshotField copies field name ("" = the displayed one) of the current
+// state.
+func (r *Run) snapshotField(name string) (figureSnap, error) {
+	def := r.field
+	if name != "" {
+		f, err := lookupField(name)
+		if err != nil {
+			return figureSnap{}, err
+		}
+		def = f
+	}
+	vals := r.scratch.values(def, r.m)
+	return figureSnap{mesh: r.m.Mesh(), vals: append([]float64(nil), vals...), def: def, cfg: r.m.Config(), t: r.m.Time()}, nil
+}
+
+// figureData asks the run's goroutine for a snapshot.
+func (r *Run) figureData(ctx context.Context, name string) (figureSnap, error) {
+	type reply struct {
+		s   figureSnap
+		err error
+	}
+	ch := make(chan reply, 1)
+	if !r.submit(ctx, command{kind: cmdFunc, fn: func(r *Run) {
+		s, err := r.snapshotField(name)
+		ch <- reply{s, err}
+	}}) {
+		return figureSnap{}, fmt.Errorf("run %s has stopped", r.id)
+	}
+	select {
+	case rep := <-ch:
+		return rep.s, rep.err
+	case <-r.done:
+		return figureSnap{}, fmt.Errorf("run %s has stopped", r.id)
+	case <-ctx.Done():
+		return figureSnap{}, ctx.Err()
+	}
+}
+
+// figureSize reads a size parameter: absent means def.
+func figureSize(q url.Values, key string, def, lo int) (int, error) {
+	s := strings.TrimSpace(q.Get(key))
+	if s == "" {
+		return def, nil
+	}
+	v, err := strconv.Atoi(s)
+	if err != nil || v < lo || v > maxFigureSide {
+		return 0, fmt.Errorf("%s = %q: allowed a whole number of pixels from %d to %d", key, s, lo, maxFigureSide)
+	}
+	return v, nil
+}
+
+func (s *Server) serveFigure(format string) http.HandlerFunc {
+	return func(w http.ResponseWriter, req *http.Request) {
+		id := chi.URLParam(req, "id")
+		run := s.Run(id)
+		if run == nil {
+			http.Error(w, "no run "+strconv.Quote(id)+"; the open runs are listed at /runs", http.StatusNotFound)
+			return
+		}
+		q := req.URL.Query()
+		for k := range q {
+			if k != "width" && k != "height" && k != "field" {
+				http.Error(w, fmt.Sprintf("%s: unknown parameter; allowed: width, height, field", k), http.StatusBadRequest)
+				return
+			}
+		}
+		width, err := figureSize(q, "width", defaultFigureW, figure.MinWidth)
+		if err != nil {
+			http.Error(w, err.Error(), http.StatusBadRequest)
+			return
+		}
+		height, err := figureSize(q, "height", defaultFigureH, figure.MinHeight)
+		if err != nil {
+			http.Error(w, err.Error(), http.StatusBadRequest)
+			return
+		}
+		snap, err := run.figureData(req.Context(), q.Get("field"))
+		if err != nil {
+			http.Error(w, err.Error(), http.StatusBadRequest)
+			return
+		}
+		loc := figure.Face
+		if snap.def.Loc == OnVertices {
+			loc = figure.Node
+		}
+		signed := snap.def.Map == "diverging"
+		if snap.def.Map == "auto" {
+			lo, hi := minMax(snap.vals)
+			signed = lo < 0 && hi > 0
+		}
+		var b bytes.Buffer
+		err = figure.Render(&b, format, snap.mesh, snap.vals, loc, figure.Options{
+			Title: figure.Title(snap.cfg, snap.t), Label: snap.def.Label, Units: plainUnits(snap.def.Units),
+			Signed: signed, Width: width, Height: height,
+		})
+		if err != nil {
+			http.Error(w, "rendering the figure: "+err.Error(), http.StatusInternalServerError)
+			return
+		}
+		h := w.Header()
+		if format == "png" {
+			h.Set("Content-Type", "image/png")
+		} else {
+			h.Set("Content-Type", "image/svg+xml; charset=utf-8")
+		}
+		h.Set("Cache-Control", "no-store")
+		h.Set("Content-Disposition", fmt.Sprintf(`inline; filename="gyrebench-run%s-%s-%s.%s"`, id, snap.def.Name, strings.ReplaceAll(figure.SimTime(snap.t), " ", ""), format))
+		_, _ = w.Write(b.Bytes())
+	}
+}
+
+// plainUnits writes units with superscript exponents as plain ones, in the
+// UDUNITS style ("s⁻¹" → "s-1", "m² s⁻²" → "m2 s-2"): the figure's face has
+// no superscript minus.
+func plainUnits(u string) string {
+	return strings.NewReplacer("⁻", "-", "⁰", "0", "¹", "1", "²", "2", "³", "3", "⁴", "4", "⁵", "5", "⁶", "6", "⁷", "7", "⁸", "8", "⁹", "9").Replace(u)
+}
+
+// minMax returns the range of v, which is not empty.
+func minMax(v []float64) (lo, hi float64) {
+	lo, hi = v[0], v[0]
+	for _, x := range v {
+		lo, hi = min(lo, x), max(hi, x)
+	}
+	return lo, hi
+}

@@ -1,0 +1,385 @@
+package timeline
+
+import (
+	"errors"
+	"math"
+	"reflect"
+	"strings"
+	"testing"
+
+	"gyrebench/sim"
+)
+
+// small is a quick planar run: a Gaussian bump on a 16 × 16 hexagonal
+// f-plane, which sheds gravity waves and leaves a balanced vortex.
+func small() sim.Config {
+	cfg := sim.DefaultConfig()
+	cfg.Title = "timeline test"
+	cfg.Grid = sim.GridConfig{Kind: "hex", N: 16, Length: 1e6}
+	cfg.Initial.Case = "gaussian-bump"
+	cfg.Initial.Params = map[string]float64{"amplitude": 20, "width": 0.1}
+	cfg.Time.Dt = 60
+	cfg.Time.Duration = 86400
+	return cfg
+}
+
+func newModel(t testing.TB, cfg sim.Config, workers int) *sim.Model {
+	t.Helper()
+	m, err := sim.NewModel(cfg, workers)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m
+}
+
+// live drives a model the way the workbench does, calling the Model
+// directly, and writes down the timeline as it goes. ring holds the state
+// at every step since the last grid change, as the workbench's ring of
+// recent states does (there: every tenth step).
+type live struct {
+	t      *testing.T
+	m      *sim.Model
+	tl     Timeline
+	ring   map[int64][]float64
+	times  map[int64]float64
+	states [][]float64 // the state just before each event
+}
+
+func startLive(t *testing.T, cfg sim.Config) *live {
+	l := &live{t: t, m: newModel(t, cfg, 1), tl: Timeline{Config: cfg}}
+	l.resetRing()
+	return l
+}
+
+func (l *live) resetRing() {
+	l.ring, l.times = map[int64][]float64{}, map[int64]float64{}
+	l.keep()
+}
+
+func (l *live) keep() {
+	l.ring[l.m.Steps()] = append([]float64(nil), l.m.State()...)
+	l.times[l.m.Steps()] = l.m.Time()
+}
+
+func (l *live) steps(n int) {
+	l.t.Helper()
+	for i := 0; i < n; i++ {
+		if err := l.m.Step(); err != nil {
+			l.t.Fatal(err)
+		}
+		l.keep()
+	}
+}
+
+func (l *live) event(e Event) {
+	l.t.Helper()
+	e.Step, e.Time = l.m.Steps(), l.m.Time()
+	l.states = append(l.states, append([]float64(nil), l.m.State()...))
+	var err error
+	switch e.Cmd {
+	case SetScheme:
+		err = l.m.SetScheme(e.Scheme)
+	case SetIntegrator:
+		err = l.m.SetIntegrator(e.Integrator)
+	case SetDt:
+		err = l.m.SetDt(e.Dt)
+	case SetGrid:
+		var nm *sim.Model
+		nm, err = l.m.Regrid(e.Kind, e.N)
+		if err == nil {
+			l.m.Close()
+			l.m = nm
+			l.resetRing()
+		}
+	case Rewind:
+		e.ToTime = l.times[e.ToStep]
+		err = l.m.SetState(l.ring[e.ToStep], l.times[e.ToStep], e.ToStep)
+		for s := range l.ring {
+			if s > e.ToStep {
+				delete(l.ring, s)
+			}
+		}
+	case BlowUp:
+		if !errors.As(l.m.Step(), new(*sim.BlowUpError)) {
+			l.t.Fatal("the live step did not blow up")
+		}
+	}
+	if err != nil {
+		l.t.Fatal(err)
+	}
+	l.tl.Events = append(l.tl.Events, e)
+}
+
+func (l *live) end() *Timeline {
+	l.tl.EndStep, l.tl.EndTime = l.m.Steps(), l.m.Time()
+	return &l.tl
+}
+
+func sameBits(a, b []float64) (int, bool) {
+	if len(a) != len(b) {
+		return -1, false
+	}
+	for i := range a {
+		if math.Float64bits(a[i]) != math.Float64bits(b[i]) {
+			return i, false
+		}
+	}
+	return 0, true
+}
+
+// replay plays tl on a fresh model with the driver calls of the workbench
+// (Next, Apply, Done, Keep, Step), checking the state before every event
+// against want, and returns the final model.
+func replay(t *testing.T, tl *Timeline, workers int, want [][]float64) *sim.Model {
+	t.Helper()
+	p := NewPlayer(tl)
+	m := newModel(t, tl.Config, workers)
+	k := 0
+	for {
+		for p.Next(m) != nil {
+			if i, ok := sameBits(m.State(), want[k]); !ok {
+				t.Fatalf("before event %d (%s at step %d): replayed state differs from the live one at index %d", k+1, p.Next(m), m.Steps(), i)
+			}
+			a, err := p.Apply(m)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if a.Model != m {
+				m.Close()
+				m = a.Model
+			}
+			k++
+		}
+		if p.Done(m) {
+			break
+		}
+		p.Keep(m)
+		if err := m.Step(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if k != len(tl.Events) {
+		t.Fatalf("replay applied %d events of %d", k, len(tl.Events))
+	}
+	return m
+}
+
+// TestReplayIsBitIdentical records a live sequence with a scheme switch,
+// a Δt change, a grid switch, a rewind and an integrator switch, writes it
+// as a file, reads it back and replays it: the state before every event
+// and at the end is the live one bit for bit, with one worker or three.
+func TestReplayIsBitIdentical(t *testing.T) {
+	l := startLive(t, small())
+	l.event(Event{Cmd: Play})
+	l.steps(15)
+	l.event(Event{Cmd: SetScheme, Scheme: "trisk-enstrophy"})
+	l.steps(10)
+	l.event(Event{Cmd: Mark, Label: `half-way "look" — here`})
+	l.event(Event{Cmd: SetDt, Dt: 30})
+	l.steps(10)
+	l.event(Event{Cmd: SetGrid, Kind: "quad", N: 16})
+	l.steps(12)
+	l.event(Event{Cmd: Pause})
+	l.event(Event{Cmd: Rewind, ToStep: 40})
+	l.event(Event{Cmd: SetIntegrator, Integrator: "rk4"})
+	l.steps(7)
+	tl := l.end()
+	final := append([]float64(nil), l.m.State()...)
+	finalT := l.m.Time()
+	l.m.Close()
+
+	data := tl.Format()
+	back, err := Parse(data, "recorded.toml")
+	if err != nil {
+		t.Fatalf("reading the written timeline: %v\n%s", err, data)
+	}
+	// The scenario comes back with the case's defaults filled in.
+	if !reflect.DeepEqual(back.Events, tl.Events) || back.EndStep != tl.EndStep || back.EndTime != tl.EndTime || string(back.Format()) != string(data) {
+		t.Fatalf("timeline after a write and a read:\n%s\nwant\n%s", back.Format(), data)
+	}
+	for _, workers := range []int{1, 3} {
+		m := replay(t, back, workers, l.states)
+		if i, ok := sameBits(m.State(), final); !ok {
+			t.Errorf("workers = %d: final replayed state differs from the live one at index %d", workers, i)
+		}
+		if m.Time() != finalT || m.Steps() != tl.EndStep || m.Config().Grid.Kind != "quad" || m.Config().Time.Integrator != "rk4" {
+			t.Errorf("workers = %d: replay ended at step %d, t = %g on %s with %s; want step %d, t = %g on quad with rk4",
+				workers, m.Steps(), m.Time(), m.Config().Grid.Kind, m.Config().Time.Integrator, tl.EndStep, finalT)
+		}
+		m.Close()
+	}
+}
+
+// TestReplayBlowUp: a run stepped past its stable Δt blows up; the live
+// user lowers Δt and goes on. The replay re-takes the failing step, then
+// matches. A blow-up event where the replay does not blow up is an error.
+func TestReplayBlowUp(t *testing.T) {
+	cfg := small()
+	cfg.Time.Dt = 900 // gravity-wave Courant number about 1.4: rk3 is unstable
+	l := startLive(t, cfg)
+	for l.m.Step() == nil { // the failed step leaves the last good state
+		l.keep()
+		if l.m.Steps() > 500 {
+			t.Fatal("no blow-up within 500 steps")
+		}
+	}
+	l.tl.Events = append(l.tl.Events, Event{Step: l.m.Steps(), Time: l.m.Time(), Cmd: BlowUp})
+	l.states = append(l.states, append([]float64(nil), l.m.State()...))
+	l.event(Event{Cmd: Rewind, ToStep: 1})
+	l.event(Event{Cmd: SetDt, Dt: 60})
+	l.steps(20)
+	tl := l.end()
+	if tl.Events[0].Step < 2 {
+		t.Fatalf("the run blew up at step %d; the test wants a later blow-up", tl.Events[0].Step)
+	}
+	t.Logf("Δt = 900 s blew up taking step %d", tl.Events[0].Step+1)
+	if err := tl.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	m := replay(t, tl, 1, l.states)
+	if i, ok := sameBits(m.State(), l.m.State()); !ok {
+		t.Errorf("final replayed state differs from the live one at index %d", i)
+	}
+	m.Close()
+
+	// The same blow-up event one step earlier, where the step succeeds.
+	bad := *tl
+	bad.Events = append([]Event(nil), tl.Events...)
+	bad.Events[0].Step--
+	p := NewPlayer(&bad)
+	m = newModel(t, bad.Config, 1)
+	defer m.Close()
+	for p.Next(m) == nil {
+		if err := m.Step(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	_, err := p.Apply(m)
+	if err == nil || !strings.Contains(err.Error(), "diverged") || !strings.Contains(err.Error(), "event 1 of 3") {
+		t.Errorf("a blow-up event where the step succeeds: error %v, want one saying the replay diverged, naming event 1 of 3", err)
+	}
+}
+
+// good is a valid timeline file; the bad cases below each change a line.
+const good = `title = "t"
+[grid]
+kind = "hex"
+n = 16
+length = 1.0e6
+[time]
+integrator = "rk3"
+dt = 60.0
+duration = 86400.0
+[initial]
+case = "gaussian-bump"
+
+[timeline]
+version = 1
+end_step = 100
+end_time = 6000.0
+
+[[event]]
+step = 10
+time = 600.0
+cmd = "set-scheme"
+scheme = "apvm"
+
+[[event]]
+step = 20
+time = 1200.0
+cmd = "set-grid"
+kind = "quad"
+n = 16
+
+[[event]]
+step = 30
+time = 1800.0
+cmd = "rewind"
+to_step = 25
+`
+
+func TestParseGood(t *testing.T) {
+	tl, err := Parse([]byte(good), "good.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []Event{
+		{Step: 10, Time: 600, Cmd: SetScheme, Scheme: "apvm"},
+		{Step: 20, Time: 1200, Cmd: SetGrid, Kind: "quad", N: 16},
+		{Step: 30, Time: 1800, Cmd: Rewind, ToStep: 25},
+	}
+	if !reflect.DeepEqual(tl.Events, want) || tl.EndStep != 100 || tl.Config.Grid.Kind != "hex" || tl.Config.Scheme.Name != "trisk-energy" {
+		t.Errorf("parsed %+v, end %d, grid %s, scheme %s", tl.Events, tl.EndStep, tl.Config.Grid.Kind, tl.Config.Scheme.Name)
+	}
+	if !Is([]byte(good)) {
+		t.Error("Is(a timeline) = false")
+	}
+	if Is([]byte("title = \"a scenario\"\n[grid]\nn = 8\n")) || Is([]byte("[[[not toml")) {
+		t.Error("Is(a scenario or junk) = true")
+	}
+}
+
+// TestParseBad: every malformed timeline is refused with a message naming
+// the event (index and line) and the field.
+func TestParseBad(t *testing.T) {
+	cases := []struct {
+		name, from, to string
+		want           []string // all must appear in the message
+	}{
+		{"unknown command", `cmd = "set-scheme"`, `cmd = "set-colour"`, []string{"event 1 of 3", "line 18", "cmd", "set-colour", "allowed: set-scheme"}},
+		{"out of order", "step = 20\n", "step = 5\n", []string{"event 2 of 3", "step", "step = 5 comes before step 10"}},
+		{"past the end", "step = 10\n", "step = 300\n", []string{"event 1 of 3", "step = 300", "end_step = 100"}},
+		{"end before the last event", "end_step = 100", "end_step = 12", []string{"end_step = 12", "before step 25"}},
+		{"unknown scheme", `scheme = "apvm"`, `scheme = "upwind"`, []string{"event 1 of 3", "scheme", "upwind", "allowed"}},
+		{"al81 off quad", `scheme = "apvm"`, `scheme = "al81"`, []string{"event 1 of 3", "scheme", "al81", "quad"}},
+		{"odd hex n", "kind = \"quad\"\nn = 16", "kind = \"hex\"\nn = 15", []string{"event 2 of 3", "n", "15"}},
+		{"unknown grid", `kind = "quad"`, `kind = "pentagon"`, []string{"event 2 of 3", "kind", "pentagon", "allowed"}},
+		{"sphere from the plane", "kind = \"quad\"\nn = 16", "kind = \"icosahedral\"\nn = 3", []string{"event 2 of 3", "kind", "icosahedral", "plane"}},
+		{"fractional step", "step = 10\n", "step = 10.5\n", []string{"event 1 of 3", "step", "whole number"}},
+		{"step as text", "step = 10\n", "step = \"ten\"\n", []string{"event 1 of 3", "step", `"ten"`}},
+		{"key of another command", `scheme = "apvm"`, "scheme = \"apvm\"\ndt = 30.0", []string{"event 1 of 3", "dt", "unknown key", "allowed: step, time, cmd, scheme"}},
+		{"missing value", "kind = \"quad\"\nn = 16", `kind = "quad"`, []string{"event 2 of 3", "n", "missing"}},
+		{"rewind forward", "to_step = 25", "to_step = 31", []string{"event 3 of 3", "to_step = 31"}},
+		{"rewind across the grid change", "to_step = 25", "to_step = 15", []string{"event 3 of 3", "to_step = 15", "grid change at step 20"}},
+		{"negative time", "time = 600.0", "time = -1.0", []string{"event 1 of 3", "time", "-1"}},
+		{"no timeline table", "[timeline]\nversion = 1\nend_step = 100\nend_time = 6000.0\n", "", []string{"no [timeline] table"}},
+		{"wrong version", "version = 1", "version = 2", []string{"timeline.version = 2"}},
+		{"unknown timeline key", "end_time = 6000.0", "end_time = 6000.0\nspeed = 2", []string{"timeline.speed", "unknown key"}},
+		{"bad scenario key", "[grid]\n", "[grid]\ncolour = \"red\"\n", []string{"grid.colour", "unknown key"}},
+		{"not TOML", "[[event]]\nstep = 10", "[[event]]\nstep = = 10", []string{"bad.toml:"}},
+		{"snapshots and a grid change", "[initial]", "[output]\nsnapshots = true\n[initial]", []string{"event 2 of 3", "snapshots"}},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			src := strings.Replace(good, tc.from, tc.to, 1)
+			if src == good {
+				t.Fatalf("the case does not change the file (%q not found)", tc.from)
+			}
+			_, err := Parse([]byte(src), "bad.toml")
+			if err == nil {
+				t.Fatalf("accepted:\n%s", src)
+			}
+			for _, w := range tc.want {
+				if !strings.Contains(err.Error(), w) {
+					t.Errorf("message %q does not contain %q", err, w)
+				}
+			}
+		})
+	}
+}
+
+func TestCheckLabel(t *testing.T) {
+	for _, tc := range []struct {
+		label string
+		ok    bool
+	}{
+		{"the vortices merge", true},
+		{"Δt halves: “watch”", true},
+		{"two\nlines", false},
+		{strings.Repeat("x", MaxLabel+1), false},
+	} {
+		if err := CheckLabel(tc.label); (err == nil) != tc.ok {
+			t.Errorf("CheckLabel(%.20q) = %v, want ok = %v", tc.label, err, tc.ok)
+		}
+	}
+}

@@ -1,0 +1,393 @@
+// The pair page: two runs in lockstep (server/pair.go). Draws A and B with
+// one shared colour scale, A − B with its own scale centred on zero when
+// both are on the same grid, and both runs' invariants overlaid. The three
+// views pan and zoom together.
+
+import { decodeBinary } from './protocol.js';
+import { FieldView } from './fieldview.js';
+import { PairPlot } from './pairplot.js';
+import { drawColourBar, mapFor, DIVERGING } from './colour.js';
+import { fmtClock, fmtNum } from './format.js';
+
+const q = (role, side) => document.querySelector(side ? `[data-role="${role}"][data-side="${side}"]` : `[data-role="${role}"]`);
+
+const root = document.querySelector('.wb.pair');
+const pairID = root.dataset.pair;
+const SIDES = ['a', 'b'];
+const TAGS = { 1: 'a', 2: 'b', 3: 'diff' };
+
+const el = {
+  bar: q('colour-bar'), diffBar: q('diff-bar'), diffCanvas: q('diff-canvas'), diffNote: q('diff-note'),
+  diffCaption: q('caption', 'diff'), plot: q('series-plot'), state: q('run-state'), note: q('pair-note'),
+  play: q('play-pause'), step: q('step-once'), reset: q('reset'), field: q('field-select'),
+  message: q('message'), log: q('log-drift'), large: q('large-type'), title: q('title'),
+};
+
+function sideEls(s) {
+  return {
+    canvas: q('field-canvas', s), time: q('sim-time', s), steps: q('steps', s), caption: q('caption', s),
+    scheme: q('scheme-select', s), integrator: q('integrator-select', s), dt: q('dt-input', s),
+    grid: q('grid-select', s), n: q('resolution-input', s), hint: q('grid-hint', s), summary: q('side-summary', s),
+  };
+}
+
+const sides = {};
+for (const s of SIDES) {
+  const e = sideEls(s);
+  sides[s] = { name: s.toUpperCase(), el: e, view: new FieldView(e.canvas), config: null, status: null, geometry: null, frame: null, drawn: 0 };
+}
+const diff = { view: new FieldView(el.diffCanvas), frame: null, drawn: 0 };
+const plot = new PairPlot(el.plot);
+
+const st = {
+  ws: null, retry: 500, fields: [], pair: null, nextID: 1, range: null, scheduled: false,
+};
+
+// For tests: the latest pair status and each side's.
+window.gyrebench = { pair: null, sides };
+
+// ---- connection ---------------------------------------------------------
+
+function connect() {
+  const proto = location.protocol === 'https:' ? 'wss' : 'ws';
+  const ws = new WebSocket(`${proto}://${location.host}/pair/${encodeURIComponent(pairID)}/ws`);
+  ws.binaryType = 'arraybuffer';
+  st.ws = ws;
+  setState('connecting');
+  ws.onopen = () => { st.retry = 500; };
+  ws.onmessage = (ev) => {
+    if (typeof ev.data === 'string') {
+      const { side, msg } = JSON.parse(ev.data);
+      if (side) onSide(sides[side], side, msg);
+      else onPair(msg);
+    } else {
+      onBinary(ev.data);
+    }
+  };
+  ws.onclose = (ev) => {
+    if (st.ws !== ws) return;
+    setState('disconnected');
+    showMessage(ev.reason ? `Connection closed: ${ev.reason}. Reconnecting…` : 'Connection lost. Reconnecting…', 'info');
+    setTimeout(connect, st.retry);
+    st.retry = Math.min(st.retry * 2, 8000);
+  };
+}
+
+function send(cmd, value, side) {
+  if (!st.ws || st.ws.readyState !== WebSocket.OPEN) {
+    showMessage(`Not connected: “${cmd}” was not sent.`, 'error');
+    return;
+  }
+  const msg = { id: st.nextID++, cmd };
+  if (side) msg.side = side;
+  if (value !== undefined) msg.value = value;
+  st.ws.send(JSON.stringify(msg));
+}
+
+// ---- messages -----------------------------------------------------------
+
+function onSide(s, name, m) {
+  const i = SIDES.indexOf(name);
+  switch (m.type) {
+    case 'hello':
+      st.fields = m.fields;
+      break;
+    case 'config':
+      s.config = m;
+      showConfig(s);
+      break;
+    case 'status':
+      s.status = m;
+      showSide(s);
+      break;
+    case 'point':
+      plot.addPoint(i, m);
+      schedule();
+      break;
+    case 'history':
+      plot.setHistory(i, m.points, m.markers);
+      schedule();
+      break;
+    case 'marker':
+      plot.addMarker(i, m);
+      schedule();
+      break;
+    default: // ring, timeline, the linear panel's messages: not shown here
+  }
+}
+
+function onPair(m) {
+  switch (m.type) {
+    case 'pair':
+      st.pair = m;
+      window.gyrebench.pair = m;
+      setState(m.state);
+      showPair();
+      break;
+    case 'ack':
+      if (el.message.classList.contains('error')) hideMessage();
+      break;
+    case 'error':
+      showMessage(m.message, 'error');
+      for (const s of SIDES) showConfig(sides[s]);
+      break;
+  }
+}
+
+function onBinary(buf) {
+  const tag = TAGS[new Uint8Array(buf, 3, 1)[0]];
+  let msg;
+  try {
+    msg = decodeBinary(buf);
+  } catch (err) {
+    showMessage(`Could not read a message from the server: ${err.message}`, 'error');
+    return;
+  }
+  if (msg.kind === 'geometry') {
+    const s = sides[tag];
+    if (!s) return;
+    s.geometry = msg;
+    s.view.setGeometry(msg);
+    s.frame = null;
+    if (tag === 'a') {
+      diff.view.setGeometry(msg);
+      diff.frame = null;
+    }
+    syncViews(s.view);
+    st.range = null;
+    return;
+  }
+  if (tag === 'diff') {
+    if (!sides.a.geometry || msg.gen !== sides.a.geometry.gen) return;
+    diff.frame = msg;
+  } else {
+    const s = sides[tag];
+    if (!s || !s.geometry || msg.gen !== s.geometry.gen) return;
+    s.frame = msg;
+  }
+  schedule();
+}
+
+// ---- drawing ------------------------------------------------------------
+
+function schedule() {
+  if (st.scheduled) return;
+  st.scheduled = true;
+  requestAnimationFrame(draw);
+}
+
+function textScale() { return document.body.classList.contains('large') ? 1.6 : 1; }
+
+// sharedRange is the colour range of A and B together: it widens at once
+// and narrows slowly, so colours do not flicker.
+function sharedRange(def, frames) {
+  let lo = Infinity, hi = -Infinity;
+  for (const f of frames) { lo = Math.min(lo, f.min); hi = Math.max(hi, f.max); }
+  const map = mapFor(def, lo, hi);
+  if (map.name === 'diverging') {
+    const a = Math.max(Math.abs(lo), Math.abs(hi)) || 1e-30;
+    lo = -a; hi = a;
+  }
+  if (!(hi > lo)) {
+    const d = Math.abs(lo) * 1e-6 || 1e-12;
+    lo -= d; hi += d;
+  }
+  const key = `${def.name}|${map.name}`;
+  const r = st.range;
+  if (!r || r.key !== key) {
+    st.range = { key, lo, hi, map };
+  } else {
+    const k = 0.08;
+    r.lo = lo < r.lo ? lo : r.lo + (lo - r.lo) * k;
+    r.hi = hi > r.hi ? hi : r.hi + (hi - r.hi) * k;
+  }
+  return st.range;
+}
+
+function symbol(label) {
+  const parts = label.split(' ');
+  return parts[parts.length - 1];
+}
+
+function draw() {
+  st.scheduled = false;
+  const frames = SIDES.map((s) => sides[s].frame).filter((f) => f);
+  const def = frames.length ? st.fields[frames[0].field] : null;
+  if (def && frames.every((f) => f.field === frames[0].field)) {
+    const r = sharedRange(def, frames);
+    for (const name of SIDES) {
+      const s = sides[name];
+      if (!s.frame) continue;
+      s.view.resize();
+      s.view.setFrame(s.frame, r.map, r.lo, r.hi);
+      s.view.render();
+      s.drawn++;
+      s.el.canvas.dataset.frames = String(s.drawn);
+      s.el.canvas.dataset.field = def.name;
+      s.el.canvas.dataset.steps = String(s.frame.steps);
+      s.el.canvas.dataset.lo = String(r.lo);
+      s.el.canvas.dataset.hi = String(r.hi);
+    }
+    drawColourBar(el.bar, r.map, r.lo, r.hi, def, textScale());
+  }
+  drawDiff(def);
+  plot.render();
+}
+
+function drawDiff(def) {
+  const same = !st.pair || st.pair.same_grid;
+  el.diffNote.hidden = same;
+  el.diffCanvas.hidden = !same;
+  const f = diff.frame;
+  if (!same || !f || !def || f.field !== st.fields.indexOf(def)) {
+    if (!same) {
+      el.diffCaption.textContent = '';
+      el.diffBar.getContext('2d').clearRect(0, 0, el.diffBar.width, el.diffBar.height);
+    }
+    return;
+  }
+  const a = Math.max(Math.abs(f.min), Math.abs(f.max));
+  diff.view.resize();
+  diff.view.setFrame(f, DIVERGING, -(a || 1), a || 1);
+  diff.view.render();
+  diff.drawn++;
+  const c = el.diffCanvas.dataset;
+  c.frames = String(diff.drawn);
+  c.maxAbs = String(a);
+  c.steps = String(f.steps);
+  const sym = symbol(def.label);
+  el.diffCaption.textContent = a === 0 ? '= 0 everywhere: identical' : `max |${sym}_A − ${sym}_B| = ${fmtNum(a, 3)} ${def.units}`;
+  if (a > 0) {
+    drawColourBar(el.diffBar, DIVERGING, -a, a, { label: `${sym}A−${sym}B`, units: def.units }, textScale());
+  } else {
+    el.diffBar.getContext('2d').clearRect(0, 0, el.diffBar.width, el.diffBar.height);
+  }
+}
+
+// syncViews gives every view the pan and zoom of src.
+function syncViews(src) {
+  for (const v of [sides.a.view, sides.b.view, diff.view]) {
+    if (v === src || !v.geom || !src.view || !src.geom) continue;
+    const e1 = v.geom.extent, e2 = src.geom.extent;
+    if (e1.x1 !== e2.x1 || e1.y1 !== e2.y1) continue;
+    v.view = { ...src.view };
+    v.fitted = src.fitted;
+    v.rasterKey = '';
+  }
+  schedule();
+}
+
+for (const v of [sides.a.view, sides.b.view, diff.view]) v.onchange = () => syncViews(v);
+
+// ---- controls -----------------------------------------------------------
+
+function setState(s) {
+  el.state.textContent = s;
+  el.state.dataset.state = s;
+  el.play.textContent = s === 'running' ? 'Pause' : 'Play';
+  const live = s === 'running' || s === 'paused';
+  for (const b of [el.play, el.step, el.reset]) b.disabled = !live;
+}
+
+function showConfig(s) {
+  const c = s.config;
+  if (!c) return;
+  const e = s.el;
+  e.scheme.value = c.scheme;
+  e.integrator.value = c.integrator;
+  e.grid.value = c.grid.kind;
+  if (document.activeElement !== e.dt) e.dt.value = String(c.dt);
+  if (document.activeElement !== e.n) e.n.value = String(c.grid.n);
+  el.field.value = c.field;
+  const nmax = c.limits.n_max[c.grid.kind];
+  e.hint.textContent = `${c.grid.cells} cells · Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s · n up to ${nmax}`;
+  const summary = `${c.grid.kind} n = ${c.grid.n} · ${c.scheme} · ${c.integrator} · Δt = ${fmtNum(c.dt, 4)} s`;
+  e.summary.textContent = summary;
+  e.caption.textContent = summary;
+  e.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
+  e.canvas.dataset.scheme = c.scheme;
+  if (s === sides.a) {
+    el.title.textContent = c.title;
+    document.title = `pair ${pairID}: ${c.title} · gyrebench`;
+  }
+  schedule();
+}
+
+function showSide(s) {
+  const m = s.status;
+  s.el.time.textContent = fmtClock(m.t);
+  s.el.time.dataset.seconds = String(m.t);
+  s.el.steps.textContent = String(m.steps);
+  if (m.blowup) showMessage(`${s.name} blew up at step ${m.blowup.step}, t = ${fmtClock(m.blowup.t)}: lower its Δt and press Play.`, 'error');
+}
+
+function showPair() {
+  const p = st.pair;
+  const lead = p.lead ? `${p.lead.toUpperCase()} leads by ${fmtNum(Math.abs(p.t[0] - p.t[1]), 3)} s` : 'in step';
+  el.note.textContent = `${lead}${p.same_grid ? '' : ' · different grids: no A − B'}`;
+  el.note.dataset.sameGrid = String(p.same_grid);
+  schedule();
+}
+
+function showMessage(text, kind) {
+  el.message.hidden = false;
+  el.message.textContent = text;
+  el.message.className = `message ${kind}`;
+}
+
+function hideMessage() {
+  el.message.hidden = true;
+  el.message.textContent = '';
+}
+
+function numberOrText(s) {
+  const t = s.trim();
+  const x = Number(t);
+  return t !== '' && Number.isFinite(x) ? x : t;
+}
+
+function togglePlay() { send(st.pair && st.pair.state === 'running' ? 'pause' : 'play'); }
+
+function setLarge(on) {
+  document.body.classList.toggle('large', on);
+  el.large.setAttribute('aria-pressed', String(on));
+  plot.scale = on ? 1.6 : 1;
+  requestAnimationFrame(schedule);
+}
+
+for (const name of SIDES) {
+  const e = sides[name].el;
+  e.scheme.addEventListener('change', () => send('set-scheme', e.scheme.value, name));
+  e.integrator.addEventListener('change', () => send('set-integrator', e.integrator.value, name));
+  e.dt.addEventListener('change', () => send('set-dt', numberOrText(e.dt.value), name));
+  const grid = () => send('set-grid', { kind: e.grid.value, n: numberOrText(e.n.value) }, name);
+  e.grid.addEventListener('change', grid);
+  e.n.addEventListener('change', grid);
+  for (const input of [e.dt, e.n]) input.addEventListener('keydown', (ev) => { if (ev.key === 'Enter') input.blur(); });
+}
+el.play.addEventListener('click', togglePlay);
+el.step.addEventListener('click', () => send('step'));
+el.reset.addEventListener('click', () => send('reset'));
+el.field.addEventListener('change', () => send('set-field', el.field.value));
+el.log.addEventListener('change', () => { plot.log = el.log.checked; schedule(); });
+el.large.addEventListener('click', () => setLarge(!document.body.classList.contains('large')));
+
+document.addEventListener('keydown', (e) => {
+  if (e.ctrlKey || e.metaKey || e.altKey) return;
+  const tag = e.target && e.target.tagName;
+  if (tag === 'INPUT' || tag === 'SELECT' || tag === 'TEXTAREA') return;
+  if (tag === 'BUTTON' && (e.key === ' ' || e.key === 'Enter')) return;
+  switch (e.key) {
+    case ' ': e.preventDefault(); togglePlay(); break;
+    case 's': case 'S': send('step'); break;
+    case 'r': case 'R': send('reset'); break;
+    case 'l': case 'L': setLarge(!document.body.classList.contains('large')); break;
+    case '0': for (const v of [sides.a.view, sides.b.view, diff.view]) v.fit(); schedule(); break;
+    default:
+  }
+});
+
+new ResizeObserver(schedule).observe(document.querySelector('.pair-views'));
+new ResizeObserver(schedule).observe(el.plot);
+plot.log = el.log.checked;
+connect();
