@@ -9,7 +9,6 @@ import (
 	"fmt"
 	"os"
 	"os/signal"
-	"runtime"
 	"syscall"
 
 	"gyrebench/server"
@@ -33,7 +32,7 @@ func serve(ctx context.Context, args []string) int {
 	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
 	addr := fs.String("addr", "127.0.0.1:8080", "listen address; anything but loopback exposes the workbench to the network")
 	scenario := fs.String("scenario", "", "built-in scenario name or scenario file to open (default: the built-in default)")
-	workers := fs.Int("workers", runtime.NumCPU(), "goroutines per run for the tendency loops")
+	workers := fs.Int("workers", 0, "goroutines per run for the tendency loops (0: by mesh size)")
 	ring := fs.Int("ring", 64, "recent states kept per run for scrubbing back after a blow-up")
 	if err := fs.Parse(args); err != nil {
 		return cli.ExitBadInput

@@ -28,7 +28,7 @@ import (
 // Options configure the workbench.
 type Options struct {
 	Addr     string // listen address; "" = 127.0.0.1:8080
-	Workers  int    // goroutines per run for the engine's loops; ≤ 0 = 1
+	Workers  int    // goroutines per run for the engine's loops; ≤ 0 = by mesh size (sim.AutoWorkers)
 	RingSize int    // recent states kept per run; ≤ 0 = DefaultRingSize
 	// Scenario opens the first run: a built-in name or a scenario file;
 	// "" = scenarios.Default.
@@ -80,9 +80,6 @@ type staticFile struct {
 // New builds the workbench and its first run. It does not listen; use it
 // as an http.Handler (tests do), or call Serve.
 func New(opt Options) (*Server, error) {
-	if opt.Workers <= 0 {
-		opt.Workers = 1
-	}
 	if opt.RingSize <= 0 {
 		opt.RingSize = DefaultRingSize
 	}

@@ -29,7 +29,7 @@ import (
 // Options controls a headless run.
 type Options struct {
 	OutDir      string    // where the files go; created if missing
-	Workers     int       // goroutines for the tendency loops; ≤ 0 means 1
+	Workers     int       // goroutines for the tendency loops; ≤ 0 means by mesh size
 	Progress    io.Writer // progress line (a terminal); nil for quiet
 	Description string    // carried into recipe.toml
 	// Schedule, when set, changes the run between steps and decides when
@@ -416,7 +416,7 @@ func (r *runner) makeSummary(runErr error) *Summary {
 		Title: c.Title, Grid: c.Grid.Kind, N: c.Grid.N,
 		Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices, SpacingM: msh.Spacing(),
 		Scheme: c.Scheme.Name, Integrator: c.Time.Integrator, Dt: c.Time.Dt,
-		Steps: m.Steps(), TimeS: m.Time(), WallSeconds: r.wall.Seconds(), Workers: max(r.opt.Workers, 1),
+		Steps: m.Steps(), TimeS: m.Time(), WallSeconds: r.wall.Seconds(), Workers: m.Workers(),
 		Mass: inv.Mass, Energy: inv.Energy, PotentialEnstrophy: inv.PotentialEnstrophy,
 		MassRelDrift:      diag.RelDrift(inv.Mass, ini.Mass),
 		EnergyRelDrift:    diag.RelDrift(inv.Energy, ini.Energy),

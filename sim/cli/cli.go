@@ -126,7 +126,7 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	var sets multi
 	fs.Var(&sets, "set", "override a scenario key, e.g. --set time.dt=30 (repeatable)")
 	out := fs.String("out", "", "output folder (default: run-<scenario>)")
-	workers := fs.Int("workers", runtime.NumCPU(), "goroutines for the tendency loops")
+	workers := fs.Int("workers", 0, "goroutines for the tendency loops (0: by mesh size, see sim.AutoWorkers)")
 	pos, err := parseInterleaved(fs, args)
 	if err != nil {
 		return ExitBadInput
@@ -135,8 +135,8 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintln(stderr, "gyrebench run: want exactly one scenario file or built-in name; see 'gyrebench scenarios'")
 		return ExitBadInput
 	}
-	if *workers < 1 || *workers > 256 {
-		fmt.Fprintf(stderr, "gyrebench run: --workers = %d: must be between 1 and 256\n", *workers)
+	if *workers < 0 || *workers > 256 {
+		fmt.Fprintf(stderr, "gyrebench run: --workers = %d: must be between 0 (automatic) and 256\n", *workers)
 		return ExitBadInput
 	}
 	sc, tl, err := loadRun(pos[0], sets) // a scenario, or a recorded timeline (timeline.go)
