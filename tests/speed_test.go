@@ -136,3 +136,32 @@ func BenchmarkStreamToBrowser(b *testing.B) {
 		b.ReportMetric(eval[float64](b, ctx, `window.gyrebench.drawMs`), "draw-ms")
 	}
 }
+
+// BenchmarkStreamSphereToBrowser: headless Chromium draws the Galewsky jet
+// on icosahedral level 6 (40 962 cells, rk3) as a globe; it reports the
+// frames the browser drew per second and the run's steps per second.
+func BenchmarkStreamSphereToBrowser(b *testing.B) {
+	for i := 0; i < b.N; i++ {
+		ctx := browser(b)
+		_, url := startServer(b, server.Options{Workers: speedWorkers, Scenario: "galewsky"})
+		do(b, ctx, chromedp.Navigate(url+"/"))
+		poll(b, ctx, "the first frame", `window.gyrebench && window.gyrebench.firstFrameMs !== null && window.gyrebench.status !== null`, 30*time.Second)
+		first := eval[float64](b, ctx, `window.gyrebench.firstFrameMs`)
+		do(b, ctx, chromedp.Click(sel("play-pause")))
+		poll(b, ctx, "running", `window.gyrebench.status.state === 'running' && window.gyrebench.status.steps > 20`, 30*time.Second)
+		type mark struct {
+			Steps  float64 `json:"steps"`
+			Wall   float64 `json:"wall"`
+			Frames float64 `json:"frames"`
+			Now    float64 `json:"now"`
+		}
+		const snap = `({steps: window.gyrebench.status.steps, wall: window.gyrebench.status.wall_s, frames: +` + `document.querySelector('[data-role="field-canvas"]').dataset.frames, now: performance.now()})`
+		m0 := eval[mark](b, ctx, snap)
+		poll(b, ctx, "the run to advance", fmt.Sprintf(`window.gyrebench.status.steps >= %g`, m0.Steps+200), 120*time.Second)
+		m1 := eval[mark](b, ctx, snap)
+		screenshot(b, ctx, "", "speed-galewsky-level6.png")
+		b.ReportMetric((m1.Steps-m0.Steps)/(m1.Wall-m0.Wall), "streamed-steps/s")
+		b.ReportMetric((m1.Frames-m0.Frames)/((m1.Now-m0.Now)/1000), "browser-frames/s")
+		b.ReportMetric(first, "first-frame-ms")
+	}
+}
