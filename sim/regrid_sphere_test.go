@@ -2,6 +2,7 @@ package sim
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"gyrebench/sim/diag"
@@ -83,5 +84,35 @@ func TestRegridSphereKeepsMass(t *testing.T) {
 		if d := diag.RelDrift(m.Invariants().Mass, m.Initial().Mass); math.Abs(d) > 1e-13 {
 			t.Errorf("%s: mass drift over the run, two switches included: %.2e", c.name, d)
 		}
+	}
+}
+
+// RegridOptimize switches between the bisected and the Lloyd-relaxed grid
+// of one level and back, keeping the mass to round-off.
+func TestRegridOptimizeKeepsMass(t *testing.T) {
+	cfg := DefaultConfig()
+	cfg.Grid = GridConfig{Kind: "icosahedral", N: 3}
+	cfg.Initial = InitialConfig{Case: "williamson-5"}
+	cfg.Time = TimeConfig{Integrator: "rk3", Dt: 900, Duration: 86400}
+	m := mustModel(t, cfg, 1)
+	mass := m.Invariants().Mass
+	for _, opt := range []string{"lloyd", "none"} {
+		nm, err := m.RegridOptimize("icosahedral", 3, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Cleanup(nm.Close)
+		if nm.Config().Grid.Optimize != opt {
+			t.Errorf("grid.optimize = %q after switching to %q", nm.Config().Grid.Optimize, opt)
+		}
+		if got := nm.Invariants().Mass; math.Abs(got-mass) > 1e-13*mass {
+			t.Errorf("to %s: mass %.17g → %.17g", opt, mass, got)
+		}
+		m = nm
+		runFor(t, m, 3600)
+		mass = m.Invariants().Mass
+	}
+	if _, err := m.RegridOptimize("hex", 16, "lloyd"); err == nil || !strings.Contains(err.Error(), "grid.optimize") {
+		t.Errorf("lloyd on the plane: %v, want an error naming grid.optimize", err)
 	}
 }
