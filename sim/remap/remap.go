@@ -507,20 +507,7 @@ func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) er
 	}
 	r.edgeFrom = make([]int32, r.edgeStart[ne])
 	r.edgeW = make([]float64, r.edgeStart[ne])
-	// The new edges of each old cell, by a counting sort on host.
-	first := make([]int32, nc+1)
-	for _, i := range host {
-		first[i+1]++
-	}
-	for i := 0; i < nc; i++ {
-		first[i+1] += first[i]
-	}
-	byHost := make([]int32, ne)
-	fill := append([]int32(nil), first[:nc]...)
-	for e, i := range host {
-		byHost[fill[i]] = int32(e)
-		fill[i]++
-	}
+	first, byHost := groupByHost(host, nc)
 	var phi [][6]float64
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {
@@ -693,4 +680,23 @@ func (l *chol6) solve(b *[6]float64) {
 		}
 		b[p] = s / l[p][p]
 	}
+}
+
+// groupByHost lists, for each old cell i, the new edges whose point lies in
+// it: byHost[first[i]:first[i+1]], by a counting sort on host.
+func groupByHost(host []int32, nc int) (first, byHost []int32) {
+	first = make([]int32, nc+1)
+	for _, i := range host {
+		first[i+1]++
+	}
+	for i := 0; i < nc; i++ {
+		first[i+1] += first[i]
+	}
+	byHost = make([]int32, len(host))
+	fill := append([]int32(nil), first[:nc]...)
+	for e, i := range host {
+		byHost[fill[i]] = int32(e)
+		fill[i]++
+	}
+	return first, byHost
 }

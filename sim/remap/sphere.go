@@ -451,20 +451,7 @@ func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) er
 	}
 	r.edgeFrom = make([]int32, r.edgeStart[ne])
 	r.edgeW = make([]float64, r.edgeStart[ne])
-	// The new edges of each old cell, by a counting sort on the host.
-	first := make([]int32, nc+1)
-	for _, i := range edgeHost {
-		first[i+1]++
-	}
-	for i := 0; i < nc; i++ {
-		first[i+1] += first[i]
-	}
-	byHost := make([]int32, ne)
-	fill := append([]int32(nil), first[:nc]...)
-	for e, i := range edgeHost {
-		byHost[fill[i]] = int32(e)
-		fill[i]++
-	}
+	first, byHost := groupByHost(edgeHost, nc)
 	var phi [][6]float64
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {
