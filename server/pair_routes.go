@@ -389,7 +389,21 @@ func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
 	subs := [3]*subscriber{cl.side[0], cl.side[1], cl.own}
 	tags := [3]string{"a", "b", ""}
 	bins := [3]byte{tagA, tagB, tagDiff}
-	var msgs []outMsg
+	type taken struct {
+		msgs     []outMsg
+		f        *frame
+		skipped  uint32
+		overflow bool
+	}
+	var got [3]taken
+	release := func() {
+		for i := range got {
+			if got[i].f != nil {
+				got[i].f.release()
+				got[i].f = nil
+			}
+		}
+	}
 	var buf []byte
 	for {
 		select {
@@ -399,19 +413,25 @@ func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
 		case <-subs[1].wake:
 		case <-subs[2].wake:
 		}
-		for i, sub := range subs {
-			var f *frame
-			var skipped uint32
-			var overflow bool
-			msgs, f, skipped, overflow = sub.take(msgs)
-			if overflow {
-				if f != nil {
-					f.release()
-				}
+		// The pair's own messages are taken first and written last: the
+		// pair goroutine queues a side's messages (a new config, geometry)
+		// before its own ack or A − B frame, so whatever the snapshot of
+		// its own queue holds has its side messages already queued, and
+		// the client sees them in that order.
+		for _, i := range [3]int{2, 0, 1} {
+			g := &got[i]
+			g.msgs, g.f, g.skipped, g.overflow = subs[i].take(g.msgs)
+		}
+		for i := range got {
+			if got[i].overflow {
+				release()
 				c.Close(websocket.StatusPolicyViolation, "client too slow: it stopped reading messages; reload the page to reconnect")
 				return
 			}
-			for k, m := range msgs {
+		}
+		for i := range got {
+			g := &got[i]
+			for k, m := range g.msgs {
 				data := m.data
 				if m.typ == textMsg {
 					data = wrapSide(buf[:0], tags[i], m.data)
@@ -421,18 +441,18 @@ func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
 				}
 				buf = data
 				if err := write(ctx, c, m.typ, data); err != nil {
-					if f != nil {
-						f.release()
-					}
+					release()
 					return
 				}
-				msgs[k] = outMsg{}
+				g.msgs[k] = outMsg{}
 			}
-			if f != nil {
-				buf = patchSkipped(buf, f.buf, skipped)
+			if g.f != nil {
+				buf = patchSkipped(buf, g.f.buf, g.skipped)
 				buf[3] = bins[i]
-				f.release()
+				g.f.release()
+				g.f = nil
 				if err := write(ctx, c, binMsg, buf); err != nil {
+					release()
 					return
 				}
 			}
