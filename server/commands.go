@@ -317,7 +317,7 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&g); err != nil {
-		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side, or the level on the sphere}", shown(raw), strings.Join(gridKinds, ", "))
+		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side, or the level on the sphere, \"optimize\" (sphere only): \"none\" or \"lloyd\"}", shown(raw), strings.Join(gridKinds, ", "))
 	}
 	cfg := r.m.Config()
 	msh := r.m.Mesh()
@@ -341,7 +341,17 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 			return ce
 		}
 	}
-	if n == cfg.Grid.N && g.Kind == cfg.Grid.Kind {
+	opt := cfg.Grid.Optimize
+	if g.Optimize != nil {
+		switch {
+		case !isSphereKind(g.Kind):
+			return refuse("grid.optimize", *g.Optimize, "grid.optimize = %q: only icosahedral grids are optimised; leave it out for %s", *g.Optimize, g.Kind)
+		case *g.Optimize != mesh.OptimizeNone && *g.Optimize != mesh.OptimizeLloyd:
+			return refuse("grid.optimize", *g.Optimize, "grid.optimize = %q: allowed: %q (the bisected icosahedron) or %q (centroidal Lloyd relaxation)", *g.Optimize, mesh.OptimizeNone, mesh.OptimizeLloyd)
+		}
+		opt = *g.Optimize
+	}
+	if n == cfg.Grid.N && g.Kind == cfg.Grid.Kind && optimizeName(opt) == optimizeName(cfg.Grid.Optimize) {
 		return nil
 	}
 	if ce := resolutionRange(g.Kind, n, maxLiveN(g.Kind, cfg, msh)); ce != nil {
@@ -351,8 +361,11 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 		return refuseErr("grid.n", strconv.Itoa(n), err)
 	}
 	label := "grid: " + gridName(g.Kind, n)
+	if isSphereKind(g.Kind) && optimizeName(opt) != optimizeName(cfg.Grid.Optimize) {
+		label += ", " + optimizeName(opt)
+	}
 	return r.change("grid", label, func() error {
-		nm, err := r.m.Regrid(g.Kind, n)
+		nm, err := r.m.RegridOptimize(g.Kind, n, opt)
 		if err != nil {
 			return refuseErr("grid", shown(raw), err)
 		}

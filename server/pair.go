@@ -377,7 +377,7 @@ func (p *Pair) checkGrid() {
 	a, b := p.side[0].m, p.side[1].m
 	ca, cb := a.Config().Grid, b.Config().Grid
 	ma, mb := a.Mesh(), b.Mesh()
-	p.same = ca.Kind == cb.Kind && ca.N == cb.N && ca.Optimize == cb.Optimize &&
+	p.same = ca.Kind == cb.Kind && ca.N == cb.N && optimizeName(ca.Optimize) == optimizeName(cb.Optimize) &&
 		ma.NCells == mb.NCells && ma.NEdges == mb.NEdges && ma.NVertices == mb.NVertices && ma.Surface == mb.Surface
 }
 

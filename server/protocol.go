@@ -27,8 +27,9 @@ type clientMsg struct {
 
 // gridValue is the value of set-grid.
 type gridValue struct {
-	Kind string          `json:"kind"`
-	N    json.RawMessage `json:"n"`
+	Kind     string          `json:"kind"`
+	N        json.RawMessage `json:"n"`
+	Optimize *string         `json:"optimize"` // icosahedral only; absent keeps the run's
 }
 
 // commands lists the client commands, for messages.

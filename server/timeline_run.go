@@ -108,9 +108,14 @@ func (r *Run) applyRecorded(m clientMsg) error {
 			r.record(timeline.Event{Cmd: timeline.SetDt, Dt: cfg.Time.Dt})
 		}
 	case "set-grid":
-		changed = cfg.Grid.Kind != b.cfg.Grid.Kind || cfg.Grid.N != b.cfg.Grid.N
+		changed = cfg.Grid.Kind != b.cfg.Grid.Kind || cfg.Grid.N != b.cfg.Grid.N ||
+			optimizeName(cfg.Grid.Optimize) != optimizeName(b.cfg.Grid.Optimize)
 		if changed {
-			r.record(timeline.Event{Cmd: timeline.SetGrid, Kind: cfg.Grid.Kind, N: cfg.Grid.N})
+			e := timeline.Event{Cmd: timeline.SetGrid, Kind: cfg.Grid.Kind, N: cfg.Grid.N}
+			if isSphereKind(cfg.Grid.Kind) {
+				e.Optimize = optimizeName(cfg.Grid.Optimize)
+			}
+			r.record(e)
 		}
 	case "scrub":
 		r.recordRewind(b)
@@ -373,12 +378,13 @@ func eventValue(e timeline.Event) json.RawMessage {
 	case timeline.SetDt:
 		return mustJSON(e.Dt)
 	}
-	return mustJSON(gridJSON{Kind: e.Kind, N: e.N})
+	return mustJSON(gridJSON{Kind: e.Kind, N: e.N, Optimize: e.Optimize})
 }
 
 type gridJSON struct {
-	Kind string `json:"kind"`
-	N    int    `json:"n"`
+	Kind     string `json:"kind"`
+	N        int    `json:"n"`
+	Optimize string `json:"optimize,omitempty"`
 }
 
 // replayRewound brings the run's history in line after the replay set the

@@ -24,6 +24,7 @@ const el = {
   field: $('field-select'), scenario: $('scenario-select'), load: $('load-scenario'),
   scrub: $('scrub'), scrubLabel: $('scrub-label'), message: $('message'), blowup: $('blowup'),
   log: $('log-drift'), large: $('large-type'), help: $('help'), overlay: $('help-overlay'), title: $('title'),
+  optimize: $('optimize-select'), optimizeBox: $('optimize'),
   nLabel: $('resolution-label'), projection: $('projection-select'), projectionBox: $('projection'),
 };
 
@@ -280,15 +281,18 @@ function showConfig() {
   el.dtHint.textContent = `allowed 0 < Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s here`;
   const nmax = c.limits.n_max[c.grid.kind];
   const nmin = (c.limits.n_min_kind && c.limits.n_min_kind[c.grid.kind]) || c.limits.n_min;
+  el.optimizeBox.hidden = !c.grid.sphere;
   if (c.grid.sphere) {
+    el.optimize.value = c.grid.optimize;
     el.nLabel.textContent = 'Refinement level n';
-    el.gridHint.textContent = `${c.grid.cells} cells (10·4ⁿ+2) · levels ${nmin} to ${nmax} · optimisation: ${c.grid.optimize}`;
+    el.gridHint.textContent = `${c.grid.cells} cells (10·4ⁿ+2) · levels ${nmin} to ${nmax}`;
   } else {
     el.nLabel.textContent = 'Cells per side n';
     el.gridHint.textContent = `${c.grid.cells} cells · n from ${nmin} to ${nmax}${c.grid.kind === 'quad' ? '' : ', even'}`;
   }
   linear.onConfig(c);
   el.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
+  el.canvas.dataset.optimize = c.grid.sphere ? c.grid.optimize : '';
   schedule('field');
 }
 
@@ -363,7 +367,9 @@ function togglePlay() {
 }
 
 function setGrid() {
-  send('set-grid', { kind: el.grid.value, n: numberOrText(el.n.value) });
+  const g = { kind: el.grid.value, n: numberOrText(el.n.value) };
+  if (g.kind === 'icosahedral') g.optimize = el.optimize.value;
+  send('set-grid', g);
 }
 
 function nextField() {
@@ -412,6 +418,7 @@ el.integrator.addEventListener('change', () => send('set-integrator', el.integra
 el.field.addEventListener('change', () => send('set-field', el.field.value));
 el.grid.addEventListener('change', setGrid);
 el.n.addEventListener('change', setGrid);
+el.optimize.addEventListener('change', setGrid);
 el.dt.addEventListener('change', () => send('set-dt', numberOrText(el.dt.value)));
 el.dt.addEventListener('input', () => linear.onTyped(el.dt.value));
 el.dt.addEventListener('blur', () => linear.onTyped(''));

@@ -213,12 +213,15 @@ export class SeriesPlot {
       ctx.setLineDash([]);
       // Labels sit in the first free row to the right of the line.
       const w = ctx.measureText(m.label).width + fs * 0.8;
+      // With every row taken, the newest label covers the one it
+      // replaces entirely, so that two never print over each other.
       let row = rows.findIndex((r) => r < x);
       if (row < 0) row = rows.indexOf(Math.min(...rows));
+      const covered = Math.max(w, rows[row] - x);
       rows[row] = x + w;
       const ly = yTop + fs * (0.3 + 1.3 * row);
-      ctx.fillStyle = 'rgba(15,19,24,0.85)';
-      ctx.fillRect(x + 2, ly - 1, w - fs * 0.4, fs * 1.25);
+      ctx.fillStyle = covered > w ? 'rgb(15,19,24)' : 'rgba(15,19,24,0.85)';
+      ctx.fillRect(x + 2, ly - 1, covered - fs * 0.4, fs * 1.25);
       ctx.fillStyle = colour;
       ctx.fillText(m.label, x + fs * 0.3, ly);
     }

@@ -95,6 +95,7 @@ type gridInfo struct {
 	N        int    `json:"n"`
 	Cells    int    `json:"cells"`
 	Vertices int    `json:"vertices"`
+	Optimize string `json:"optimize"`
 }
 
 type blowUp struct {

@@ -68,7 +68,23 @@ func TestSphereBrowser(t *testing.T) {
 	// A coarser level: the map's polar bands and the cell outlines show.
 	typeInto(t, ctx, "resolution-input", "3")
 	poll(t, ctx, "level 3", canvas+`.dataset.grid === 'icosahedral 3' && `+canvas+`.dataset.drawn === 'lonlat'`, wait)
-	screenshot(t, ctx, sel("field-canvas"), "sphere-05-lonlat-level3.png")
+	level3 := screenshot(t, ctx, sel("field-canvas"), "sphere-05-lonlat-level3.png")
+	// The same level, not relaxed (williamson-6 is on a Lloyd grid): the
+	// generators move back to the bisected icosahedron's, the cells change.
+	if eval[bool](t, ctx, role("optimize")+`.hidden`) || eval[string](t, ctx, role("optimize-select")+`.value`) != "lloyd" {
+		t.Errorf("on the Lloyd sphere the generator control is hidden %v, reads %q; want shown, lloyd",
+			eval[bool](t, ctx, role("optimize")+`.hidden`), eval[string](t, ctx, role("optimize-select")+`.value`))
+	}
+	choose(t, ctx, "optimize-select", "none")
+	poll(t, ctx, "the bisected grid", canvas+`.dataset.optimize === 'none' && `+canvas+`.dataset.grid === 'icosahedral 3' && `+canvas+`.dataset.drawn === 'lonlat'`, wait)
+	bisected := screenshot(t, ctx, sel("field-canvas"), "sphere-05b-lonlat-level3-bisected.png")
+	if d := differing(level3, bisected); d < 0.01 {
+		t.Errorf("the bisected level 3 differs from the Lloyd-relaxed one in %.2f %% of the canvas, want at least 1 %%", 100*d)
+	} else {
+		t.Logf("undoing the Lloyd relaxation changed %.0f %% of the map", 100*d)
+	}
+	choose(t, ctx, "optimize-select", "lloyd")
+	poll(t, ctx, "the Lloyd grid again", canvas+`.dataset.optimize === 'lloyd'`, wait)
 	choose(t, ctx, "field-select", "vorticity")
 	poll(t, ctx, "vorticity on the map", canvas+`.dataset.field === 'vorticity'`, wait)
 	screenshot(t, ctx, sel("field-canvas"), "sphere-06-lonlat-level3-vorticity.png")
@@ -107,6 +123,6 @@ func TestSphereBrowser(t *testing.T) {
 	// And back to the plane by loading a planar scenario.
 	choose(t, ctx, "scenario-select", "dipole")
 	do(t, ctx, chromedp.Click(sel("load-scenario")))
-	poll(t, ctx, "the plane again", canvas+`.dataset.drawn === 'plane' && `+role("projection")+`.hidden && `+role("resolution-label")+`.textContent === 'Cells per side n'`, wait)
+	poll(t, ctx, "the plane again", canvas+`.dataset.drawn === 'plane' && `+role("projection")+`.hidden && `+role("optimize")+`.hidden && `+role("resolution-label")+`.textContent === 'Cells per side n'`, wait)
 	screenshot(t, ctx, "", "sphere-10-plane-again.png")
 }

@@ -1,9 +1,13 @@
 package tests
 
 import (
+	"bytes"
 	"context"
 	"encoding/binary"
+	"fmt"
 	"math"
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 	"time"
@@ -11,6 +15,8 @@ import (
 	"github.com/coder/websocket"
 
 	"gyrebench/server"
+	"gyrebench/sim/cli"
+	"gyrebench/sim/timeline"
 )
 
 // smallHex is a small planar run to start from; the sphere is loaded into
@@ -231,4 +237,119 @@ func TestSphereLive(t *testing.T) {
 		t.Errorf("mass across the level 5 → 4 switch: %.17g → %.17g (relative %.2g), want round-off", before.MassAbs, after.MassAbs, rel)
 	}
 	cl.mustAck("pause", nil, nil)
+}
+
+// TestSphereOptimizeSwitch: mid-run, the icosahedral grid switches between
+// the bisected icosahedron and its Lloyd-relaxed (centroidal) form at the
+// same level; the switch moves the cell corners, keeps the mass to
+// round-off, is marked, is refused for a planar grid or an unknown value,
+// and is recorded so that a headless replay of the saved timeline ends on
+// the live run's final.nc byte for byte.
+func TestSphereOptimizeSwitch(t *testing.T) {
+	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "small-hex", smallHex)})
+	cl := dial(t, base, "1")
+
+	if r := cl.reply(cl.send("set-grid", map[string]any{"kind": "hex", "n": 16, "optimize": "lloyd"}), nil); r.Type != "error" || r.fieldName() != "grid.optimize" {
+		t.Errorf("optimize on the hex grid: %s on %q %q; want an error on grid.optimize", r.Type, r.fieldName(), r.Message)
+	}
+	var cfg msg
+	cl.mustAck("load", "williamson-2", func(m msg) {
+		if m.Type == "config" {
+			cfg = m
+		}
+	})
+	cl.mustAck("set-grid", map[string]any{"kind": "icosahedral", "n": 3}, func(m msg) {
+		if m.Type == "config" {
+			cfg = m
+		}
+	})
+	if cfg.Grid.N != 3 || cfg.Grid.Optimize != "lloyd" {
+		t.Fatalf("after a level change: grid %+v; want level 3, still lloyd (williamson-2's)", cfg.Grid)
+	}
+	lloyd := currentGeometry(t, base, "1")
+	if r := cl.reply(cl.send("set-grid", map[string]any{"kind": "icosahedral", "n": 3, "optimize": "spring"}), nil); r.Type != "error" || r.fieldName() != "grid.optimize" || !strings.Contains(r.Message, `"lloyd"`) {
+		t.Errorf("optimize = spring: %s on %q %q; want an error on grid.optimize listing none and lloyd", r.Type, r.fieldName(), r.Message)
+	}
+
+	for k, opt := range []string{"none", "lloyd"} {
+		for range 3 {
+			cl.mustAck("step", nil, nil)
+		}
+		var before, after, mark msg
+		cl.mustAck("set-grid", map[string]any{"kind": "icosahedral", "n": 3, "optimize": opt}, func(m msg) {
+			switch {
+			case m.Type == "config":
+				cfg = m
+			case m.Type == "marker":
+				mark = m
+			case m.Type == "point" && mark.Type == "":
+				before = m
+			case m.Type == "point" && after.Type == "":
+				after = m
+			}
+		})
+		if cfg.Grid.Optimize != opt || cfg.Grid.N != 3 {
+			t.Fatalf("after set-grid optimize = %s: grid %+v", opt, cfg.Grid)
+		}
+		if mark.Kind != "grid" || !strings.Contains(mark.Label, opt) {
+			t.Errorf("marker of the switch to %s: %+v; want a grid marker naming it", opt, mark)
+		}
+		if before.Type == "" || after.Type == "" {
+			t.Fatalf("switch to %s: no invariant points on both sides", opt)
+		}
+		if rel := math.Abs(after.MassAbs-before.MassAbs) / before.MassAbs; rel > 1e-12 {
+			t.Errorf("mass across the switch to %s: %.17g → %.17g (relative %.2g), want round-off", opt, before.MassAbs, after.MassAbs, rel)
+		}
+		g := currentGeometry(t, base, "1")
+		moved := 0.0
+		for i := range g.cellXY {
+			if i%2 == 1 { // latitude, degrees
+				moved = max(moved, math.Abs(float64(g.cellXY[i]-lloyd.cellXY[i])))
+			}
+		}
+		// Lloyd relaxation moves the corners by a fraction of a cell
+		// (level 3: cells about 7.5° across); it does not renumber them.
+		if k == 0 && !(moved > 0.01) {
+			t.Errorf("bisected against Lloyd-relaxed level 3: corners moved at most %g° in latitude; want them to differ", moved)
+		}
+		if k == 1 && moved != 0 {
+			t.Errorf("back to Lloyd: corners %g° from the first Lloyd grid's; want the same grid", moved)
+		}
+	}
+	for range 3 {
+		cl.mustAck("step", nil, nil)
+	}
+
+	data := get(t, base+"/run/1/timeline.toml")
+	live := get(t, base+"/run/1/final.nc")
+	tl, err := timeline.Parse(data, "saved.toml")
+	if err != nil {
+		t.Fatalf("the saved timeline does not parse: %v\n%s", err, data)
+	}
+	var grids []string
+	for _, e := range tl.Events {
+		if e.Cmd == timeline.SetGrid {
+			grids = append(grids, fmt.Sprintf("%d %s", e.N, e.Optimize))
+		}
+	}
+	if got, want := strings.Join(grids, ", "), "3 lloyd, 3 none, 3 lloyd"; got != want {
+		t.Errorf("recorded set-grid events (level, optimize): %s; want %s", got, want)
+	}
+	dir := t.TempDir()
+	file := filepath.Join(dir, "saved.toml")
+	if err := os.WriteFile(file, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var stdout, stderr bytes.Buffer
+	out := filepath.Join(dir, "replay")
+	if code := cli.Main(context.Background(), []string{"run", file, "--out", out}, &stdout, &stderr); code != cli.ExitOK {
+		t.Fatalf("gyrebench run saved.toml: exit %d: %s", code, stderr.String())
+	}
+	headless, err := os.ReadFile(filepath.Join(out, "final.nc"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(headless, live) {
+		t.Errorf("the headless replay's final.nc (%d bytes) differs from the live run's (%d bytes)", len(headless), len(live))
+	}
 }

@@ -63,7 +63,8 @@
 //	set-scheme      scheme = NAME
 //	set-integrator  integrator = NAME
 //	set-dt          dt = SECONDS
-//	set-grid        kind = KIND, n = N
+//	set-grid        kind = KIND, n = N, optimize = "none" | "lloyd" (optional,
+//	                icosahedral only; left out, the run keeps its own)
 //	mark            label = TEXT        (a moment a replay in the workbench pauses at)
 //	rewind          to_step = STEP, to_time = SECONDS (optional, for people)
 //	blow-up         (no keys)

@@ -77,13 +77,13 @@ var keysOf = map[Cmd][]string{
 	SetScheme:     {"scheme"},
 	SetIntegrator: {"integrator"},
 	SetDt:         {"dt"},
-	SetGrid:       {"kind", "n"},
+	SetGrid:       {"kind", "n", "optimize"},
 	Mark:          {"label"},
 	Rewind:        {"to_step", "to_time"},
 }
 
 // optional keys may be left out.
-var optional = map[string]bool{"time": true, "to_time": true}
+var optional = map[string]bool{"time": true, "to_time": true, "optimize": true}
 
 // Parse reads a timeline file and validates it (Validate). name is used
 // in messages (a file name).
@@ -246,6 +246,9 @@ func event(raw map[string]any, index, total, line int) (Event, error) {
 				err = fail("n", "n = %d: out of range", n)
 			}
 			e.N = int(n)
+		}
+		if _, ok := raw["optimize"]; ok {
+			e.Optimize = str("optimize")
 		}
 	case Mark:
 		e.Label = str("label")

@@ -86,7 +86,11 @@ func (p *Player) Apply(m *sim.Model) (Applied, error) {
 		case SetDt:
 			err = m.SetDt(e.Dt)
 		case SetGrid:
-			a.Model, err = m.Regrid(e.Kind, e.N)
+			opt := m.Config().Grid.Optimize
+			if e.Optimize != "" {
+				opt = e.Optimize
+			}
+			a.Model, err = m.RegridOptimize(e.Kind, e.N, opt)
 		case Rewind:
 			s := p.snaps[e.ToStep]
 			switch {

@@ -49,6 +49,7 @@ type Event struct {
 	Dt         float64 // set-dt, s
 	Kind       string  // set-grid
 	N          int     // set-grid
+	Optimize   string  // set-grid: "none" or "lloyd" (icosahedral); "" keeps the run's
 	Label      string  // mark
 	ToStep     int64   // rewind: the step whose state it goes back to
 	ToTime     float64 // rewind: the simulated time then, s; for people
@@ -73,6 +74,9 @@ func (e Event) String() string {
 	case SetDt:
 		return "Δt = " + strconv.FormatFloat(e.Dt, 'g', 4, 64) + " s"
 	case SetGrid:
+		if e.Optimize != "" {
+			return fmt.Sprintf("grid: %s n = %d, %s", e.Kind, e.N, e.Optimize)
+		}
 		return fmt.Sprintf("grid: %s n = %d", e.Kind, e.N)
 	case Mark:
 		return "mark: " + e.Label
@@ -94,7 +98,7 @@ func (e Event) Noop(cfg sim.Config) bool {
 	case SetDt:
 		return e.Dt == cfg.Time.Dt
 	case SetGrid:
-		return e.Kind == cfg.Grid.Kind && e.N == cfg.Grid.N
+		return e.Kind == cfg.Grid.Kind && e.N == cfg.Grid.N && (e.Optimize == "" || e.Optimize == optimizeName(cfg.Grid.Optimize))
 	case Play, Pause:
 		return true
 	}
@@ -135,6 +139,9 @@ func (tl *Timeline) Format() []byte {
 			fmt.Fprintf(&b, "dt = %s\n", num(e.Dt))
 		case SetGrid:
 			fmt.Fprintf(&b, "kind = %s\nn = %d\n", quote(e.Kind), e.N)
+			if e.Optimize != "" {
+				fmt.Fprintf(&b, "optimize = %s\n", quote(e.Optimize))
+			}
 		case Mark:
 			fmt.Fprintf(&b, "label = %s\n", quote(e.Label))
 		case Rewind:
@@ -265,6 +272,9 @@ func (tl *Timeline) validate(lines []int) error {
 				return fail("kind", "kind = %s: unknown grid; allowed: %s", quote(e.Kind), kindList())
 			}
 			try.Grid.Kind, try.Grid.N = e.Kind, e.N
+			if e.Optimize != "" {
+				try.Grid.Optimize = e.Optimize
+			}
 			if cfg.Output.Snapshots {
 				return fail("kind", "output.snapshots = true: snapshots.nc holds one grid, and this event changes it; set output.snapshots = false")
 			}
@@ -350,4 +360,12 @@ func kindList() string {
 		s[i] = string(k)
 	}
 	return strings.Join(s, ", ")
+}
+
+// optimizeName is grid.optimize with the default spelled out.
+func optimizeName(opt string) string {
+	if opt == "" {
+		return mesh.OptimizeNone
+	}
+	return opt
 }

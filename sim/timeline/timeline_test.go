@@ -2,6 +2,7 @@ package timeline
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"reflect"
 	"strings"
@@ -348,6 +349,8 @@ func TestParseBad(t *testing.T) {
 		{"bad scenario key", "[grid]\n", "[grid]\ncolour = \"red\"\n", []string{"grid.colour", "unknown key"}},
 		{"not TOML", "[[event]]\nstep = 10", "[[event]]\nstep = = 10", []string{"bad.toml:"}},
 		{"snapshots and a grid change", "[initial]", "[output]\nsnapshots = true\n[initial]", []string{"event 2 of 3", "snapshots"}},
+		{"optimize on a planar grid", "kind = \"quad\"\nn = 16", "kind = \"quad\"\nn = 16\noptimize = \"lloyd\"", []string{"event 2 of 3", "optimize", "lloyd"}},
+		{"optimize as a number", "kind = \"quad\"\nn = 16", "kind = \"quad\"\nn = 16\noptimize = 1", []string{"event 2 of 3", "optimize", "must be a string"}},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -381,5 +384,97 @@ func TestCheckLabel(t *testing.T) {
 		if err := CheckLabel(tc.label); (err == nil) != tc.ok {
 			t.Errorf("CheckLabel(%.20q) = %v, want ok = %v", tc.label, err, tc.ok)
 		}
+	}
+}
+
+// sphereGood is a timeline on the sphere that switches the Lloyd
+// relaxation off and on, and changes the level keeping it.
+const sphereGood = `title = "t"
+[grid]
+kind = "icosahedral"
+n = 3
+optimize = "lloyd"
+[time]
+integrator = "rk3"
+dt = 600.0
+duration = 86400.0
+[initial]
+case = "williamson-2"
+
+[timeline]
+version = 1
+end_step = 30
+
+[[event]]
+step = 10
+cmd = "set-grid"
+kind = "icosahedral"
+n = 3
+optimize = "none"
+
+[[event]]
+step = 20
+cmd = "set-grid"
+kind = "icosahedral"
+n = 2
+`
+
+// TestOptimizeEvents: set-grid carries grid.optimize when it is given,
+// keeps the run's when it is not, survives Format and Parse, and is
+// refused for an unknown value.
+func TestOptimizeEvents(t *testing.T) {
+	tl, err := Parse([]byte(sphereGood), "sphere.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []Event{
+		{Step: 10, Cmd: SetGrid, Kind: "icosahedral", N: 3, Optimize: "none"},
+		{Step: 20, Cmd: SetGrid, Kind: "icosahedral", N: 2},
+	}
+	if !reflect.DeepEqual(tl.Events, want) {
+		t.Fatalf("parsed %+v, want %+v", tl.Events, want)
+	}
+	again, err := Parse(tl.Format(), "formatted.toml")
+	if err != nil || !reflect.DeepEqual(again.Events, want) {
+		t.Fatalf("Format then Parse: %+v, %v; want %+v", again.Events, err, want)
+	}
+	if s := want[0].String(); !strings.Contains(s, "none") {
+		t.Errorf("event text %q does not name the optimisation", s)
+	}
+	if !want[1].Noop(sim.Config{Grid: sim.GridConfig{Kind: "icosahedral", N: 2, Optimize: "lloyd"}}) ||
+		want[0].Noop(sim.Config{Grid: sim.GridConfig{Kind: "icosahedral", N: 3, Optimize: "lloyd"}}) ||
+		!want[0].Noop(sim.Config{Grid: sim.GridConfig{Kind: "icosahedral", N: 3}}) {
+		t.Error("Noop: a set-grid without optimize must match any optimisation; one with optimize = none must match none (or unset) only")
+	}
+
+	// The replay: the grid after each event is the one named.
+	m := newModel(t, tl.Config, 1)
+	p := NewPlayer(tl)
+	var seen []string
+	for {
+		due := p.Next(m) != nil
+		var done bool
+		if m, done, err = p.Before(m); err != nil {
+			t.Fatal(err)
+		}
+		if due {
+			g := m.Config().Grid
+			seen = append(seen, fmt.Sprintf("%d %s", g.N, g.Optimize))
+		}
+		if done {
+			break
+		}
+		if err := m.Step(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	m.Close()
+	if got := strings.Join(seen, ", "); got != "3 none, 2 none" {
+		t.Errorf("grids after the events (level, optimize): %s; want 3 none, 2 none", got)
+	}
+
+	bad := strings.Replace(sphereGood, `optimize = "none"`, `optimize = "spring"`, 1)
+	if _, err := Parse([]byte(bad), "bad.toml"); err == nil || !strings.Contains(err.Error(), "spring") || !strings.Contains(err.Error(), "event 1 of 2") {
+		t.Errorf("optimize = spring: %v; want an error naming event 1 of 2 and the value", err)
 	}
 }
