@@ -73,6 +73,12 @@
 // whichever side is behind in simulated time (both when level), and
 // commands name their side.
 //
+// Sweeps (sweep_routes.go): /sweeps/new starts a sweep (package sweep) in
+// its own folder under Options.SweepDir, one at a time, under the server's
+// context; /sweep/{id} shows its progress from a server-sent event stream
+// (/sweep/{id}/events), then its plots and files, which are served only by
+// the names the sweep wrote.
+//
 // Server to client, binary, little-endian, every section 4-byte aligned so
 // the browser reads it with typed-array views:
 //

@@ -62,6 +62,7 @@ func (s *Server) routes() chi.Router {
 	r.Get("/api/runs", s.serveRunsJSON)
 	s.mountTimeline(r) // timeline_routes.go
 	s.mountPairs(r)    // pair_routes.go
+	s.mountSweeps(r)   // sweep_routes.go
 	r.Get("/static/*", s.serveStatic)
 	r.NotFound(func(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "not found: "+req.URL.Path+" (the workbench is at /)", http.StatusNotFound)

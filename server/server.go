@@ -34,6 +34,10 @@ type Options struct {
 	// "" = scenarios.Default.
 	Scenario string
 	Stderr   io.Writer // where the URL and warnings go; nil = discard
+	// SweepDir holds the sweeps started from the workbench, one new
+	// folder each; "" = gyrebench/sweeps under os.UserCacheDir(). It is
+	// created when the first sweep starts.
+	SweepDir string
 }
 
 // DefaultAddr is where Serve listens when Options.Addr is empty.

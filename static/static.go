@@ -15,6 +15,8 @@
 //   - timeline.js: saving, loading and replaying recorded timelines.
 //   - pair.js, pairplot.js, compare.css: the lockstep pair page (A, B and
 //     A − B on one view, both runs' invariants on one plot).
+//   - sweep.js, sweep.css: the sweep pages (the form, the progress
+//     stream, the plots when it ends).
 package static
 
 import "embed"

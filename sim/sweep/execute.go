@@ -25,6 +25,9 @@ type Options struct {
 	// nil when the run failed before writing anything; err is the run's
 	// error (a *sim.BlowUpError, batch.ErrInterrupted, or another).
 	Done func(done, total int, r *Run, sum *batch.Summary, err error)
+	// Started, when not nil, is called as each run begins, from the
+	// goroutine that runs it, serialised with Done.
+	Started func(r *Run)
 }
 
 // Outcome counts how the runs of Execute ended.
@@ -68,6 +71,11 @@ func Execute(ctx context.Context, p *Plan, dir string, opt Options) (*Result, Ou
 					continue // ended while this index was on its way: not started
 				}
 				r := &p.Runs[i]
+				if opt.Started != nil {
+					mu.Lock()
+					opt.Started(r)
+					mu.Unlock()
+				}
 				sum, err := batch.Run(ctx, r.Config, batch.Options{
 					OutDir: filepath.Join(dir, r.Name), Workers: opt.Workers, Description: p.Description,
 				})

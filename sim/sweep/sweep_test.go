@@ -303,17 +303,24 @@ func TestConvergenceSweep(t *testing.T) {
 	dir := t.TempDir()
 	p := mustPlan(t, geostrophic(), nil, "grid.kind=quad,hex", "grid.n=8,16,32")
 	calls := 0
+	started := map[int]bool{}
 	res, out, err := Execute(context.Background(), p, dir, Options{Jobs: 2, Workers: 1,
+		Started: func(r *Run) {
+			if started[r.Index] {
+				t.Errorf("Started(%s) twice", r.Name)
+			}
+			started[r.Index] = true
+		},
 		Done: func(done, total int, r *Run, sum *batch.Summary, err error) {
 			calls++
-			if done != calls || total != 6 || err != nil || sum == nil {
-				t.Errorf("Done(%d, %d, %s, %v, %v) as call %d", done, total, r.Name, sum, err, calls)
+			if done != calls || total != 6 || err != nil || sum == nil || !started[r.Index] {
+				t.Errorf("Done(%d, %d, %s, %v, %v) as call %d, started %v", done, total, r.Name, sum, err, calls, started[r.Index])
 			}
 		}})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if out != (Outcome{Runs: 6}) || calls != 6 {
+	if out != (Outcome{Runs: 6}) || calls != 6 || len(started) != 6 {
 		t.Errorf("outcome %+v after %d Done calls, want 6 runs, no blow-up", out, calls)
 	}
 	recs := readCSV(t, filepath.Join(dir, CSVFile))
