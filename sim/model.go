@@ -25,13 +25,19 @@ type Model struct {
 	pool    *par.Pool
 	phys    scheme.Physics
 
-	sch   scheme.Scheme
-	integ step.Integrator
-	tend  step.Tendency
+	sch    scheme.Scheme
+	integ  step.Integrator
+	rewind step.Rewinder // integ, when it can undo its last step; else nil
+	tend   step.Tendency
+	// staged and stager are integ and sch when both can fuse the update of
+	// a stage into the tendency's last pass (step.StagedStepper); else nil.
+	staged step.StagedStepper
+	stager step.Stager
 
-	x, good []float64 // state [h | u], and the last good one
-	time    float64
-	steps   int64
+	x     []float64 // state [h | u]
+	good  []float64 // the state before the step in progress, when rewind is nil
+	time  float64
+	steps int64
 
 	calc     *diag.Calculator
 	initial  diag.Invariants
@@ -76,7 +82,6 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float
 	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
 	nc, ne := msh.NCells, msh.NEdges
 	m.x = make([]float64, nc+ne)
-	m.good = make([]float64, nc+ne)
 	cs, err := cases.Lookup(cfg.Initial.Case)
 	if err != nil {
 		return nil, err
@@ -145,10 +150,11 @@ func Coriolis(msh *mesh.Mesh, p PhysicsConfig, axis [3]float64) []float64 {
 
 // AutoWorkers is the number of workers a model of ncells uses when none is
 // asked for: one per 100 000 cells, up to the number of CPUs. Measured on a
-// 2-core machine (trisk-energy, rk3): two workers give 1.67× on 262 144
-// hexagons, nothing on 16 384, and lose 25 % on the 40 962 cells of an
-// icosahedral level 6, where the per-loop hand-off and the scattered
-// neighbour order cost more than the split saves.
+// 2-core machine shared with other work (trisk-energy, rk3): two workers
+// give 1.8× on 262 144 hexagons, but on average lose 15 % on 16 384 and
+// 25 % on the 40 962 cells of an icosahedral level 6, where a pass lasts
+// a fraction of a millisecond and a worker that the other programs delay
+// holds up every one of them.
 func AutoWorkers(ncells int) int {
 	return max(1, min(runtime.NumCPU(), ncells/100000))
 }
@@ -204,6 +210,7 @@ func (m *Model) setScheme(name string) error {
 	s.SetDt(m.cfg.Time.Dt)
 	m.sch = s
 	m.tend = s.Tendency
+	m.stager, _ = s.(step.Stager)
 	m.cfg.Scheme.Name = name
 	return nil
 }
@@ -219,11 +226,16 @@ func (m *Model) SetScheme(name string) error {
 
 // SetIntegrator switches the time integrator.
 func (m *Model) SetIntegrator(name string) error {
-	in, err := step.New(name, len(m.x), step.Options{Asselin: m.cfg.Time.Asselin})
+	in, err := step.New(name, len(m.x), step.Options{Asselin: m.cfg.Time.Asselin, For: m.pool.For})
 	if err != nil {
 		return err
 	}
 	m.integ = in
+	m.rewind, _ = in.(step.Rewinder)
+	m.staged, _ = in.(step.StagedStepper)
+	if m.rewind == nil && m.good == nil {
+		m.good = make([]float64, len(m.x))
+	}
 	m.cfg.Time.Integrator = name
 	return nil
 }
@@ -243,11 +255,21 @@ func (m *Model) SetDt(dt float64) error {
 // non-finite value or a non-positive depth, the state is put back as it
 // was and a *BlowUpError is returned.
 func (m *Model) Step() error {
-	copy(m.good, m.x)
-	m.integ.Step(m.tend, m.x, m.cfg.Time.Dt)
+	if m.rewind == nil {
+		copy(m.good, m.x)
+	}
+	if m.staged != nil && m.stager != nil {
+		m.staged.StepStaged(m.stager, m.x, m.cfg.Time.Dt)
+	} else {
+		m.integ.Step(m.tend, m.x, m.cfg.Time.Dt)
+	}
 	if bad := m.check(); bad != nil {
 		bad.Step, bad.Time = m.steps+1, m.time
-		copy(m.x, m.good)
+		if m.rewind != nil {
+			m.rewind.Rewind(m.x)
+		} else {
+			copy(m.x, m.good)
+		}
 		m.integ.Restart()
 		return bad
 	}
@@ -256,17 +278,43 @@ func (m *Model) Step() error {
 	return nil
 }
 
-// check returns the first bad value of the state, or nil.
+// check returns the first bad value of the state, or nil. It scans blocks
+// without a branch per value and looks for the culprit only in a block
+// that failed: the scan runs after every step.
 func (m *Model) check() *BlowUpError {
 	nc := m.mesh.NCells
-	for i, h := range m.x[:nc] {
-		if !(h > 0) || math.IsInf(h, 0) {
-			return &BlowUpError{Cell: i, Edge: -1, Value: h}
+	const block = 512
+	h, u := m.x[:nc], m.x[nc:]
+	for lo := 0; lo < len(h); lo += block {
+		b := h[lo:min(lo+block, len(h))]
+		// min catches h ≤ 0 and −Inf, the sum of h − h a NaN or +Inf.
+		low, nan := math.Inf(1), 0.0
+		for _, v := range b {
+			low = min(low, v)
+			nan += v - v
+		}
+		if low > 0 && nan == 0 {
+			continue
+		}
+		for i, v := range b {
+			if !(v > 0 && v <= math.MaxFloat64) {
+				return &BlowUpError{Cell: lo + i, Edge: -1, Value: v}
+			}
 		}
 	}
-	for e, u := range m.x[nc:] {
-		if math.IsNaN(u) || math.IsInf(u, 0) {
-			return &BlowUpError{Cell: -1, Edge: e, Value: u}
+	for lo := 0; lo < len(u); lo += block {
+		b := u[lo:min(lo+block, len(u))]
+		nan := 0.0
+		for _, v := range b {
+			nan += v - v // NaN for NaN and ±Inf, else 0
+		}
+		if nan == 0 {
+			continue
+		}
+		for e, v := range b {
+			if v-v != 0 {
+				return &BlowUpError{Cell: -1, Edge: lo + e, Value: v}
+			}
 		}
 	}
 	return nil

@@ -216,23 +216,27 @@ func cmdScenarios(args []string, stdout, stderr io.Writer) int {
 
 // BenchResult is the JSON object printed by bench.
 type BenchResult struct {
-	Grid                string  `json:"grid"`
-	N                   int     `json:"n"`
-	Cells               int     `json:"cells"`
-	Edges               int     `json:"edges"`
-	Vertices            int     `json:"vertices"`
-	Workers             int     `json:"workers"`
-	Steps               int     `json:"steps"`
-	Seconds             float64 `json:"seconds"`
-	StepsPerSecond      float64 `json:"steps_per_second"`
-	CellStepsPerSecond  float64 `json:"cell_steps_per_second"`
-	Scheme              string  `json:"scheme"`
-	Integrator          string  `json:"integrator"`
-	GoMaxProcs          int     `json:"gomaxprocs"`
-	MeshBuildSeconds    float64 `json:"mesh_build_seconds"`
-	PeakHeapMegabytes   float64 `json:"peak_heap_megabytes"`
-	LiveHeapMegabytes   float64 `json:"live_heap_megabytes"`
-	BytesAllocatedSteps uint64  `json:"bytes_allocated_during_steps"`
+	Grid               string  `json:"grid"`
+	N                  int     `json:"n"`
+	Cells              int     `json:"cells"`
+	Edges              int     `json:"edges"`
+	Vertices           int     `json:"vertices"`
+	Workers            int     `json:"workers"`
+	Steps              int     `json:"steps"`
+	Seconds            float64 `json:"seconds"`
+	StepsPerSecond     float64 `json:"steps_per_second"`
+	CellStepsPerSecond float64 `json:"cell_steps_per_second"`
+	// FastestStepSeconds is the shortest single step: on a machine shared
+	// with other work it is steadier than the mean.
+	FastestStepSeconds     float64 `json:"fastest_step_seconds"`
+	FastestCellStepsPerSec float64 `json:"fastest_cell_steps_per_second"`
+	Scheme                 string  `json:"scheme"`
+	Integrator             string  `json:"integrator"`
+	GoMaxProcs             int     `json:"gomaxprocs"`
+	MeshBuildSeconds       float64 `json:"mesh_build_seconds"`
+	PeakHeapMegabytes      float64 `json:"peak_heap_megabytes"`
+	LiveHeapMegabytes      float64 `json:"live_heap_megabytes"`
+	BytesAllocatedSteps    uint64  `json:"bytes_allocated_during_steps"`
 }
 
 func cmdBench(args []string, stdout, stderr io.Writer) int {
@@ -280,11 +284,14 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	runtime.GC() // so that the live heap below is the model's, not the build's garbage
 	runtime.ReadMemStats(&before)
 	start := time.Now()
+	fastest := time.Duration(1<<63 - 1)
 	for i := 0; i < *steps; i++ {
+		t0 := time.Now()
 		if err := m.Step(); err != nil {
 			fmt.Fprintf(stderr, "gyrebench bench: %v\n", err)
 			return ExitBlewUp
 		}
+		fastest = min(fastest, time.Since(t0))
 	}
 	sec := time.Since(start).Seconds()
 	runtime.ReadMemStats(&after)
@@ -292,9 +299,11 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	res := BenchResult{
 		Grid: *grid, N: *n, Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices,
 		Workers: *workers, Steps: *steps, Seconds: sec,
-		StepsPerSecond:     float64(*steps) / sec,
-		CellStepsPerSecond: float64(*steps) * float64(msh.NCells) / sec,
-		Scheme:             *schemeName, Integrator: *integ, GoMaxProcs: runtime.GOMAXPROCS(0),
+		StepsPerSecond:         float64(*steps) / sec,
+		CellStepsPerSecond:     float64(*steps) * float64(msh.NCells) / sec,
+		FastestStepSeconds:     fastest.Seconds(),
+		FastestCellStepsPerSec: float64(msh.NCells) / fastest.Seconds(),
+		Scheme:                 *schemeName, Integrator: *integ, GoMaxProcs: runtime.GOMAXPROCS(0),
 		MeshBuildSeconds:    build.Seconds(),
 		PeakHeapMegabytes:   float64(after.HeapSys) / (1 << 20),
 		LiveHeapMegabytes:   float64(before.HeapAlloc) / (1 << 20),

@@ -1,9 +1,6 @@
 package mesh
 
-import (
-	"math"
-	"sort"
-)
+import "math"
 
 // planeCells describes a doubly periodic planar mesh as polygons: the
 // generators fill it in and build derives every other array from it.
@@ -11,7 +8,17 @@ type planeCells struct {
 	lx, ly    float64
 	cx, cy    []float64 // cell centres
 	vx, vy    []float64 // vertex positions
-	cellVerts [][]int32 // vertices of each cell, anticlockwise
+	deg       int       // vertices per cell
+	cellVerts []int32   // vertices of cell i, anticlockwise: [deg·i, deg·(i+1))
+}
+
+// newPlaneCells returns an empty description sized for nc cells of deg
+// vertices and nv vertices, so that the generators' appends never regrow.
+func newPlaneCells(lx, ly float64, nc, nv, deg int) *planeCells {
+	return &planeCells{lx: lx, ly: ly, deg: deg,
+		cx: make([]float64, 0, nc), cy: make([]float64, 0, nc),
+		vx: make([]float64, 0, nv), vy: make([]float64, 0, nv),
+		cellVerts: make([]int32, 0, deg*nc)}
 }
 
 // wrap returns the periodic image of d closest to zero.
@@ -29,27 +36,37 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 	t.NCells, t.NVertices = nc, nv
 
 	// Edges, in order of discovery; the first cell to meet an edge is c0.
-	type pair struct{ a, b int32 }
-	sides := 0
-	for _, vs := range p.cellVerts {
-		sides += len(vs)
+	// Each side is looked up among the edges already found at its lower
+	// vertex: a chain through the edge numbers, a few links long. The
+	// chains borrow the storage that finishVertices fills with the vertex
+	// edges later (one value per side): on a torus NVertices = NEdges −
+	// NCells, so both fit, and the build leaves little garbage behind.
+	sides := len(p.cellVerts)
+	vertexEdges := make([]int32, max(sides, nv+sides/2))
+	head := vertexEdges[:nv] // last edge found whose lower vertex is v, or −1
+	for v := range head {
+		head[v] = -1
 	}
-	edgeOf := make(map[pair]int32, sides/2)
+	next := vertexEdges[nv:nv:len(vertexEdges)] // the edge found before e at the same lower vertex
 	t.CellEdgeStart = make([]int32, nc+1)
 	t.CellsOnEdge = make([]int32, 0, sides)
 	t.VerticesOnEdge = make([]int32, 0, sides)
 	t.CellEdges = make([]int32, 0, sides)
 	t.CellEdgeSign = make([]int8, 0, sides)
-	t.CellVertices = make([]int32, 0, sides)
-	for i, vs := range p.cellVerts {
+	for i := 0; i < nc; i++ {
+		vs := p.cellVerts[i*p.deg : (i+1)*p.deg]
 		for k := range vs {
 			va, vb := vs[k], vs[(k+1)%len(vs)]
-			key := pair{min(va, vb), max(va, vb)}
-			e, ok := edgeOf[key]
+			lo, hi := min(va, vb), max(va, vb)
+			e := head[lo]
+			for e >= 0 && max(t.VerticesOnEdge[2*e], t.VerticesOnEdge[2*e+1]) != hi {
+				e = next[e]
+			}
 			sign := int8(-1)
-			if !ok {
+			if e < 0 {
 				e = int32(len(t.CellsOnEdge) / 2)
-				edgeOf[key] = e
+				next = append(next, head[lo])
+				head[lo] = e
 				t.CellsOnEdge = append(t.CellsOnEdge, int32(i), -1)
 				t.VerticesOnEdge = append(t.VerticesOnEdge, va, vb)
 				sign = 1
@@ -58,10 +75,18 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 			}
 			t.CellEdges = append(t.CellEdges, e)
 			t.CellEdgeSign = append(t.CellEdgeSign, sign)
-			t.CellVertices = append(t.CellVertices, vb)
 		}
 		t.CellEdgeStart[i+1] = int32(len(t.CellEdges))
 	}
+	// The vertex after side k is the polygon's vertex k+1: rotating each
+	// polygon by one turns the description into CellVertices in place.
+	for i := 0; i < nc; i++ {
+		vs := p.cellVerts[i*p.deg : (i+1)*p.deg]
+		v0 := vs[0]
+		copy(vs, vs[1:])
+		vs[len(vs)-1] = v0
+	}
+	t.CellVertices, p.cellVerts = p.cellVerts, nil
 	t.NEdges = len(t.CellsOnEdge) / 2
 	ne := t.NEdges
 
@@ -103,7 +128,7 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 			g.CellArea[i] += a
 		}
 	}
-	m.finishVertices(func(v int, e int32) float64 {
+	m.finishVertices(vertexEdges[:sides], func(v int, e int32) float64 {
 		x, y := wrap(c.EdgeX[e]-p.vx[v], p.lx), wrap(c.EdgeY[e]-p.vy[v], p.ly)
 		return math.Atan2(y, x)
 	})
@@ -116,28 +141,36 @@ func (p *planeCells) rel(i int, x, y float64) (float64, float64) {
 
 // finishVertices fills the vertex CSR arrays and the vertex areas from the
 // edge and cell arrays. angle(v, e) orders the edges around a vertex.
-func (m *Mesh) finishVertices(angle func(v int, e int32) float64) {
+// vertexEdges, when not nil, is the storage for VertexEdges (2·NEdges
+// values, whatever they hold).
+func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) float64) {
 	t := &m.Topology
 	g := &m.Metric
 	nv := t.NVertices
-	count := make([]int32, nv+1)
+	start := make([]int32, nv+1)
 	for e := 0; e < t.NEdges; e++ {
-		count[t.VerticesOnEdge[2*e]+1]++
-		count[t.VerticesOnEdge[2*e+1]+1]++
+		start[t.VerticesOnEdge[2*e]+1]++
+		start[t.VerticesOnEdge[2*e+1]+1]++
 	}
 	for v := 0; v < nv; v++ {
-		count[v+1] += count[v]
+		start[v+1] += start[v]
 	}
-	t.VertexEdgeStart = count
-	t.VertexEdges = make([]int32, count[nv])
-	fill := append([]int32(nil), count[:nv]...)
+	if vertexEdges == nil {
+		vertexEdges = make([]int32, start[nv])
+	}
+	t.VertexEdges = vertexEdges[:start[nv]]
+	// start[v] serves as v's insertion point, which leaves it at the
+	// start of v+1; shifting by one puts the starts back.
 	for e := 0; e < t.NEdges; e++ {
 		for s := 0; s < 2; s++ {
 			v := t.VerticesOnEdge[2*e+s]
-			t.VertexEdges[fill[v]] = int32(e)
-			fill[v]++
+			t.VertexEdges[start[v]] = int32(e)
+			start[v]++
 		}
 	}
+	copy(start[1:], start[:nv])
+	start[0] = 0
+	t.VertexEdgeStart = start
 	// Kite area of (cell, vertex), looked up from the cell side.
 	kite := func(i, v int32) float64 {
 		lo, hi := t.EdgesOfCell(int(i))
@@ -152,10 +185,22 @@ func (m *Mesh) finishVertices(angle func(v int, e int32) float64) {
 	t.VertexCells = make([]int32, len(t.VertexEdges))
 	g.VertexKiteArea = make([]float64, len(t.VertexEdges))
 	g.VertexArea = make([]float64, nv)
+	var ang []float64
 	for v := 0; v < nv; v++ {
 		lo, hi := t.EdgesOfVertex(v)
 		es := t.VertexEdges[lo:hi]
-		sort.Slice(es, func(a, b int) bool { return angle(v, es[a]) < angle(v, es[b]) })
+		// Insertion sort by angle: a vertex has a handful of edges, and a
+		// sort.Slice closure per vertex would be most of the build's garbage.
+		ang = ang[:0]
+		for _, e := range es {
+			ang = append(ang, angle(v, e))
+		}
+		for a := 1; a < len(es); a++ {
+			for b := a; b > 0 && ang[b] < ang[b-1]; b-- {
+				ang[b], ang[b-1] = ang[b-1], ang[b]
+				es[b], es[b-1] = es[b-1], es[b]
+			}
+		}
 		for k := lo; k < hi; k++ {
 			e := t.VertexEdges[k]
 			// n_e is anticlockwise about v1; walking anticlockwise past edge

@@ -422,7 +422,7 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 	// Around a Voronoi vertex the edges are dual to its triangle's edges,
 	// whose midpoints are anticlockwise about the circumcentre in the
 	// triangle's own order (the kite test catches a centre outside).
-	m.finishVertices(func(v int, e int32) float64 {
+	m.finishVertices(nil, func(v int, e int32) float64 {
 		j := 0
 		for tr.triE[3*v+j] != e {
 			j++

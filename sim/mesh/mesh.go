@@ -134,8 +134,9 @@ type Mesh struct {
 }
 
 // MaxCells bounds the size of a mesh so that a mistyped resolution fails
-// with a message instead of exhausting memory. About 1 kB per cell is held
-// by a running model, so this is a few GB.
+// with a message instead of exhausting memory. About 700 bytes per cell are
+// held by a running model on hexagons (480 of them by the mesh), so this is
+// a few GB.
 const MaxCells = 4 << 20
 
 // Spec says which mesh to build.

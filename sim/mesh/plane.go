@@ -29,7 +29,7 @@ func planeRows(kind Kind, n int, length, height float64) int {
 func newQuad(n int, length, height float64) *Mesh {
 	rows := planeRows(Quad, n, length, height)
 	dx, dy := length/float64(n), height/float64(rows)
-	p := &planeCells{lx: length, ly: height}
+	p := newPlaneCells(length, height, n*rows, n*rows, 4)
 	id := func(i, j int) int32 { return int32(((j+rows)%rows)*n + (i+n)%n) }
 	for j := 0; j < rows; j++ {
 		for i := 0; i < n; i++ {
@@ -37,7 +37,7 @@ func newQuad(n int, length, height float64) *Mesh {
 			p.cy = append(p.cy, (float64(j)+0.5)*dy)
 			p.vx = append(p.vx, float64(i)*dx)
 			p.vy = append(p.vy, float64(j)*dy)
-			p.cellVerts = append(p.cellVerts, []int32{id(i, j), id(i+1, j), id(i+1, j+1), id(i, j+1)})
+			p.cellVerts = append(p.cellVerts, id(i, j), id(i+1, j), id(i+1, j+1), id(i, j+1))
 		}
 	}
 	return p.build(Quad, n)
@@ -60,7 +60,7 @@ func newHex(n int, length, height float64) *Mesh {
 	// (c, upper-left, upper-right) and (c, right, upper-right).
 	top := (dx*dx/4 + dy*dy) / (2 * dy)
 	side := (dy*dy - dx*dx/4) / (2 * dy)
-	p := &planeCells{lx: length, ly: height}
+	p := newPlaneCells(length, height, n*rows, 2*n*rows, 6)
 	cell := func(i, j int) int { return ((j+rows)%rows)*n + (i+n)%n }
 	for j := 0; j < rows; j++ {
 		for i := 0; i < n; i++ {
@@ -81,14 +81,14 @@ func newHex(n int, length, height float64) *Mesh {
 		for i := 0; i < n; i++ {
 			up := func(c int) int32 { return int32(2 * c) }
 			right := func(c int) int32 { return int32(2*c + 1) }
-			p.cellVerts = append(p.cellVerts, []int32{
+			p.cellVerts = append(p.cellVerts,
 				right(cell(i, j)),      // 30°
 				up(cell(i, j)),         // 90°
 				right(cell(i-1, j)),    // 150°
 				up(cell(i+ll, j-1)),    // 210°
 				right(cell(i+ll, j-1)), // 270°
 				up(cell(i+lr, j-1)),    // 330°
-			})
+			)
 		}
 	}
 	return p.build(Hex, n)

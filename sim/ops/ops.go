@@ -90,17 +90,35 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 
 // PotentialVorticity sets q_v = (ζ_v + f_v)/h_v for vertices v in [lo, hi)
 // with ζ and h_v as in Vorticity, in one pass: multiplying through by A_v,
-// q_v = (Σ t d u + f_v A_v) / Σ K h.
+// q_v = (Σ t d u + f_v A_v) / Σ K h. Vertices of three edges (hexagonal and
+// icosahedral grids) take a straight-line path with the same arithmetic.
 func (g Grid) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 	start, edges, sign, cells := g.VertexEdgeStart, g.VertexEdges, g.VertexEdgeSign, g.VertexCells
 	d, kite, area := g.DualLength, g.VertexKiteArea, g.VertexArea
-	for v := lo; v < hi; v++ {
+	q, f, area = q[:hi-lo], f[lo:hi], area[lo:hi]
+	f, area = f[:len(q)], area[:len(q)]
+	k1 := int(start[lo])
+	for j := range q {
+		k0 := k1
+		k1 = int(start[lo+j+1])
 		var c, m float64
-		for k := start[v]; k < start[v+1]; k++ {
-			e := edges[k]
-			c += float64(sign[k]) * (d[e] * u[e])
-			m += kite[k] * h[cells[k]]
+		if k1-k0 == 3 {
+			es, cs := (*[3]int32)(edges[k0:k1]), (*[3]int32)(cells[k0:k1])
+			ss, ks := (*[3]int8)(sign[k0:k1]), (*[3]float64)(kite[k0:k1])
+			e0, e1, e2 := es[0], es[1], es[2]
+			c += float64(ss[0]) * (d[e0] * u[e0])
+			c += float64(ss[1]) * (d[e1] * u[e1])
+			c += float64(ss[2]) * (d[e2] * u[e2])
+			m += ks[0] * h[cs[0]]
+			m += ks[1] * h[cs[1]]
+			m += ks[2] * h[cs[2]]
+		} else {
+			for k := k0; k < k1; k++ {
+				e := edges[k]
+				c += float64(sign[k]) * (d[e] * u[e])
+				m += kite[k] * h[cells[k]]
+			}
 		}
-		q[v-lo] = (c + f[v]*area[v]) / m
+		q[j] = (c + f[j]*area[j]) / m
 	}
 }

@@ -27,10 +27,13 @@ var epsSign = 1.0
 
 type al81 struct {
 	core
+	phi     []float64 // cells: Bernoulli function K + g(h + b)
 	invDual []float64
 	nb      [][6]int32   // V_NE, V_NW, V_SW, V_SE, U_E, U_W
 	sg      [][6]float64 // sign into the local frame / d_e (fluxes are volume fluxes)
 	corner  [][8]int32   // c0: NE, NW, SW, SE; c1: NE, NW, SW, SE
+
+	phaseCells, phaseMomentum func(lo, hi int)
 }
 
 func newAL81(g ops.Grid, phys Physics, pool *par.Pool) *al81 {
@@ -70,18 +73,49 @@ func newAL81(g ops.Grid, phys Physics, pool *par.Pool) *al81 {
 			cv[k1(2)], cv[k1(3)], cv[k1(0)], cv[k1(1)], // c1: NE, NW, SW, SE
 		}
 	}
+	s.phi = make([]float64, g.NCells)
 	s.bind()
+	s.phaseCells = s.cells
 	s.phaseMomentum = s.momentum
 	return s
 }
 
-func (s *al81) Name() string              { return AL81 }
-func (s *al81) SetDt(float64)             {}
-func (s *al81) Tendency(dst, x []float64) { s.run(dst, x) }
+func (s *al81) Name() string  { return AL81 }
+func (s *al81) SetDt(float64) {}
+func (s *al81) Tendency(dst, x []float64) {
+	s.x, s.dst = x, dst
+	s.pool.For(s.nv, s.phaseVertices)
+	s.pool.For(s.ne, s.phaseEdges)
+	s.pool.For(s.nc, s.phaseCells)
+	s.pool.For(s.ne, s.phaseMomentum)
+	s.x, s.dst = nil, nil
+}
+
+// cells sets ∂h/∂t = −div F and Φ = K + g(h + b), as trisk's cell pass.
+func (s *al81) cells(lo, hi int) {
+	h, dh := s.x[:s.nc], s.dst[:s.nc]
+	start, edges, sign := s.g.CellEdgeStart, s.g.CellEdges, s.g.CellEdgeSign
+	b, grav := s.phys.Bottom, s.phys.G
+	for i := lo; i < hi; i++ {
+		var sd, sk float64
+		for k := start[i]; k < start[i+1]; k++ {
+			p := &s.fk[edges[k]]
+			sd += float64(sign[k]) * p[0]
+			sk += p[1]
+		}
+		inv := s.invArea[i]
+		hb := h[i]
+		if b != nil {
+			hb += b[i]
+		}
+		s.phi[i] = 0.25*sk*inv + grav*hb
+		dh[i] = -(sd * inv)
+	}
+}
 
 func (s *al81) momentum(lo, hi int) {
 	du := s.dst[s.nc:]
-	q, F := s.q, s.flux
+	q, fk := s.q, s.fk
 	cells := s.g.CellsOnEdge
 	const w = 1.0 / 24
 	for e := lo; e < hi; e++ {
@@ -95,8 +129,8 @@ func (s *al81) momentum(lo, hi int) {
 		eps0 := w * (ne0 + nw0 - sw0 - se0)
 		eps1 := w * (ne1 + nw1 - sw1 - se1)
 		nb, sg := &s.nb[e], &s.sg[e]
-		du[e] = alpha*sg[0]*F[nb[0]] + beta*sg[1]*F[nb[1]] + gamma*sg[2]*F[nb[2]] + delta*sg[3]*F[nb[3]] -
-			eps1*sg[4]*F[nb[4]] + eps0*sg[5]*F[nb[5]] -
+		du[e] = alpha*sg[0]*fk[nb[0]][0] + beta*sg[1]*fk[nb[1]][0] + gamma*sg[2]*fk[nb[2]][0] + delta*sg[3]*fk[nb[3]][0] -
+			eps1*sg[4]*fk[nb[4]][0] + eps0*sg[5]*fk[nb[5]][0] -
 			(s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
 	}
 }

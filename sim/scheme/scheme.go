@@ -25,7 +25,10 @@
 //
 // A scheme sees topology and metric (ops.Grid), never coordinates.
 // Tendency allocates nothing; its loops run on a par.Pool and give
-// bit-identical results for any number of workers.
+// bit-identical results for any number of workers. The TRiSK schemes also
+// have Stage (the step.Stager contract), which finishes a Runge–Kutta
+// stage in the tendency's own last passes, so that rk3 stores no tendency
+// and makes no separate sweep over the state to apply it.
 package scheme
 
 import (

@@ -202,6 +202,13 @@ func TestZeroAllocations(t *testing.T) {
 			if a := testing.AllocsPerRun(20, func() { s.Tendency(dx, f.x) }); a != 0 {
 				t.Errorf("%s workers=%d: %v allocations per tendency", name, w, a)
 			}
+			x, x0 := append([]float64(nil), f.x...), append([]float64(nil), f.x...)
+			st := s.(interface {
+				Stage(x, x0 []float64, a, b, dt float64)
+			})
+			if a := testing.AllocsPerRun(20, func() { st.Stage(x, x0, 0.75, 0.25, 1e-3) }); a != 0 {
+				t.Errorf("%s workers=%d: %v allocations per stage", name, w, a)
+			}
 		}
 		pool.Close()
 	}

@@ -39,6 +39,34 @@ type Integrator interface {
 	Restart()
 }
 
+// Rewinder is implemented by integrators that keep the state at the start
+// of their last step (the Runge–Kutta methods), so that a caller who must
+// undo a step needs no copy of its own.
+type Rewinder interface {
+	// Rewind sets x back to the state at the start of the last Step.
+	Rewind(x []float64)
+}
+
+// Stager is a tendency that also finishes a Runge–Kutta stage in the same
+// sweep over the mesh, so that the tendency itself never needs storing:
+// Stage sets
+//
+//	x ← a x0 + b (x + Δt f(x))
+//
+// in place, with x0 only read; a = 0, b = 1 give x + Δt f(x) exactly, and
+// x0 is not read then. The arithmetic must be exactly that, element by
+// element, so that a staged step and a plain one agree bit for bit.
+type Stager interface {
+	Stage(x, x0 []float64, a, b, dt float64)
+}
+
+// StagedStepper is implemented by integrators whose every stage has the
+// form of Stager (rk3). StepStaged advances x exactly as Step does with the
+// stager's tendency, and needs no tendency vector.
+type StagedStepper interface {
+	StepStaged(s Stager, x []float64, dt float64)
+}
+
 // ImaginaryAxisLimit returns the largest |ωΔt| for which the integrator is
 // stable on the imaginary axis, or 0 when it is unstable for every ω ≠ 0.
 // For leapfrog it accounts for the Robert–Asselin filter, which lowers the
@@ -84,7 +112,16 @@ type Options struct {
 	// 0 means the default 0.05. Customary values are 0.01–0.2 (common
 	// practice).
 	Asselin float64
+	// For runs the integrator's element-wise loops: it must call body on
+	// contiguous ranges that cover [0, n) once each and return when all are
+	// done (par.Pool.For does). Every element is computed the same way
+	// whatever the ranges, so results do not depend on it. nil runs the
+	// loops in the calling goroutine.
+	For func(n int, body func(lo, hi int))
 }
+
+// serial is the default Options.For.
+func serial(n int, body func(lo, hi int)) { body(0, n) }
 
 // DefaultAsselin is the default Robert–Asselin coefficient.
 const DefaultAsselin = 0.05
@@ -101,18 +138,42 @@ func New(name string, n int, opt Options) (Integrator, error) {
 	if opt.Asselin < 0 || opt.Asselin >= 0.5 {
 		return nil, fmt.Errorf("time.asselin = %g: must be in [0, 0.5)", opt.Asselin)
 	}
+	loop := opt.For
+	if loop == nil {
+		loop = serial
+	}
+	// Fresh scratch is written once here, so that the first step does not
+	// pay for faulting its pages in (on a virtual machine, milliseconds per
+	// MB the first time).
+	vec := func() []float64 {
+		v := make([]float64, n)
+		clear(v)
+		return v
+	}
 	switch name {
 	case RK3:
-		return &ssprk3{x0: make([]float64, n), k: make([]float64, n)}, nil
+		s := &ssprk3{loop: loop, x0: vec()}
+		s.stages = [3]func(lo, hi int){s.stage1, s.stage2, s.stage3}
+		s.save = s.doSave
+		return s, nil
 	case RK4:
-		return &rk4{x0: make([]float64, n), xs: make([]float64, n), k: make([]float64, n), acc: make([]float64, n)}, nil
+		s := &rk4{loop: loop, x0: vec(), xs: vec(), k: vec(), acc: vec()}
+		s.stages = [4]func(lo, hi int){s.stage1, s.stage2, s.stage3, s.stage4}
+		return s, nil
 	case Leapfrog:
-		return &leapfrog{nu: opt.asselin(), prev: make([]float64, n), k: make([]float64, n)}, nil
+		s := &leapfrog{loop: loop, nu: opt.asselin(), prev: vec(), k: vec()}
+		s.first, s.next = s.doFirst, s.doNext
+		return s, nil
 	case Euler:
-		return &euler{k: make([]float64, n)}, nil
+		s := &euler{loop: loop, k: vec()}
+		s.update = s.doUpdate
+		return s, nil
 	}
 	return nil, fmt.Errorf("time.integrator = %q: unknown; allowed: %s", name, strings.Join(Names, ", "))
 }
+
+// The element-wise loops below are method values built once, so that a
+// step allocates nothing; x and dt of the step in progress are fields.
 
 // ssprk3 is the three-stage, third-order strong-stability-preserving
 // Runge–Kutta method of Shu & Osher (1988, J. Comput. Phys. 77, 439–471,
@@ -121,52 +182,126 @@ func New(name string, n int, opt Options) (Integrator, error) {
 //	x1 = x + Δt f(x)
 //	x2 = ¾ x + ¼ (x1 + Δt f(x1))
 //	x' = ⅓ x + ⅔ (x2 + Δt f(x2))
-type ssprk3 struct{ x0, k []float64 }
+type ssprk3 struct {
+	loop   func(n int, body func(lo, hi int))
+	x0, k  []float64 // k only once Step is used: StepStaged needs none
+	x      []float64
+	dt     float64
+	stages [3]func(lo, hi int)
+	save   func(lo, hi int)
+}
 
-func (s *ssprk3) Name() string { return RK3 }
-func (s *ssprk3) Restart()     {}
+func (s *ssprk3) Name() string       { return RK3 }
+func (s *ssprk3) Restart()           {}
+func (s *ssprk3) Rewind(x []float64) { copy(x, s.x0) }
 func (s *ssprk3) Step(f Tendency, x []float64, dt float64) {
-	x0, k := s.x0, s.k
-	copy(x0, x)
-	f(k, x)
-	for i := range x {
-		x[i] = x0[i] + dt*k[i]
+	if s.k == nil {
+		s.k = make([]float64, len(s.x0))
 	}
-	f(k, x)
+	s.x, s.dt = x, dt
+	for _, stage := range s.stages {
+		f(s.k, x)
+		s.loop(len(x), stage)
+	}
+	s.x = nil
+}
+
+// The stage coefficients of StepStaged are those of stage1–stage3.
+func (s *ssprk3) StepStaged(st Stager, x []float64, dt float64) {
+	s.x = x
+	s.loop(len(x), s.save)
+	s.x = nil
+	st.Stage(x, s.x0, 0, 1, dt)
+	st.Stage(x, s.x0, 0.75, 0.25, dt)
+	st.Stage(x, s.x0, 1.0/3, 2.0/3, dt)
+}
+
+func (s *ssprk3) doSave(lo, hi int) { copy(s.x0[lo:hi], s.x[lo:hi]) }
+
+// stage1 also saves the start of the step, which f(k, x) has only read.
+func (s *ssprk3) stage1(lo, hi int) {
+	x, x0, k, dt := s.x[lo:hi], s.x0[lo:hi], s.k[lo:hi], s.dt
+	x0, k = x0[:len(x)], k[:len(x)]
+	for i, xi := range x {
+		x0[i] = xi
+		x[i] = xi + dt*k[i]
+	}
+}
+
+func (s *ssprk3) stage2(lo, hi int) {
+	x, x0, k, dt := s.x[lo:hi], s.x0[lo:hi], s.k[lo:hi], s.dt
+	x0, k = x0[:len(x)], k[:len(x)]
 	for i := range x {
 		x[i] = 0.75*x0[i] + 0.25*(x[i]+dt*k[i])
 	}
-	f(k, x)
+}
+
+func (s *ssprk3) stage3(lo, hi int) {
+	x, x0, k, dt := s.x[lo:hi], s.x0[lo:hi], s.k[lo:hi], s.dt
+	x0, k = x0[:len(x)], k[:len(x)]
+	const third, twoThirds = 1.0 / 3, 2.0 / 3
 	for i := range x {
-		x[i] = x0[i]/3 + 2.0/3*(x[i]+dt*k[i])
+		x[i] = third*x0[i] + twoThirds*(x[i]+dt*k[i])
 	}
 }
 
 // rk4 is the classical fourth-order Runge–Kutta method.
-type rk4 struct{ x0, xs, k, acc []float64 }
+type rk4 struct {
+	loop              func(n int, body func(lo, hi int))
+	x0, xs, k, acc, x []float64
+	dt                float64
+	stages            [4]func(lo, hi int)
+}
 
-func (s *rk4) Name() string { return RK4 }
-func (s *rk4) Restart()     {}
+func (s *rk4) Name() string       { return RK4 }
+func (s *rk4) Restart()           {}
+func (s *rk4) Rewind(x []float64) { copy(x, s.x0) }
 func (s *rk4) Step(f Tendency, x []float64, dt float64) {
-	x0, xs, k, acc := s.x0, s.xs, s.k, s.acc
-	copy(x0, x)
-	f(k, x0)
-	for i := range x {
+	s.x, s.dt = x, dt
+	n := len(x)
+	copy(s.x0, x)
+	f(s.k, s.x0)
+	s.loop(n, s.stages[0])
+	f(s.k, s.xs)
+	s.loop(n, s.stages[1])
+	f(s.k, s.xs)
+	s.loop(n, s.stages[2])
+	f(s.k, s.xs)
+	s.loop(n, s.stages[3])
+	s.x = nil
+}
+
+func (s *rk4) stage1(lo, hi int) {
+	x0, xs, k, acc, dt := s.x0[lo:hi], s.xs[lo:hi], s.k[lo:hi], s.acc[lo:hi], s.dt
+	xs, k, acc = xs[:len(x0)], k[:len(x0)], acc[:len(x0)]
+	for i := range x0 {
 		acc[i] = k[i]
 		xs[i] = x0[i] + 0.5*dt*k[i]
 	}
-	f(k, xs)
-	for i := range x {
+}
+
+func (s *rk4) stage2(lo, hi int) {
+	x0, xs, k, acc, dt := s.x0[lo:hi], s.xs[lo:hi], s.k[lo:hi], s.acc[lo:hi], s.dt
+	xs, k, acc = xs[:len(x0)], k[:len(x0)], acc[:len(x0)]
+	for i := range x0 {
 		acc[i] += 2 * k[i]
 		xs[i] = x0[i] + 0.5*dt*k[i]
 	}
-	f(k, xs)
-	for i := range x {
+}
+
+func (s *rk4) stage3(lo, hi int) {
+	x0, xs, k, acc, dt := s.x0[lo:hi], s.xs[lo:hi], s.k[lo:hi], s.acc[lo:hi], s.dt
+	xs, k, acc = xs[:len(x0)], k[:len(x0)], acc[:len(x0)]
+	for i := range x0 {
 		acc[i] += 2 * k[i]
 		xs[i] = x0[i] + dt*k[i]
 	}
-	f(k, xs)
-	for i := range x {
+}
+
+func (s *rk4) stage4(lo, hi int) {
+	x0, x, k, acc, dt := s.x0[lo:hi], s.x[lo:hi], s.k[lo:hi], s.acc[lo:hi], s.dt
+	x, k, acc = x[:len(x0)], k[:len(x0)], acc[:len(x0)]
+	for i := range x0 {
 		x[i] = x0[i] + dt/6*(acc[i]+k[i])
 	}
 }
@@ -175,39 +310,68 @@ func (s *rk4) Step(f Tendency, x []float64, dt float64) {
 // x̄^n = x^n + ν(x̄^{n−1} − 2x^n + x^{n+1}) (Asselin 1972, Mon. Wea. Rev.
 // 100, 487–490). The first step after a restart is a forward Euler step.
 type leapfrog struct {
-	nu      float64
-	prev, k []float64 // x̄^{n−1}, scratch
-	started bool
+	loop        func(n int, body func(lo, hi int))
+	nu          float64
+	prev, k, x  []float64 // x̄^{n−1}, scratch, the state
+	dt          float64
+	started     bool
+	first, next func(lo, hi int)
 }
 
 func (s *leapfrog) Name() string { return Leapfrog }
 func (s *leapfrog) Restart()     { s.started = false }
 func (s *leapfrog) Step(f Tendency, x []float64, dt float64) {
+	s.x, s.dt = x, dt
 	f(s.k, x)
 	if !s.started {
-		copy(s.prev, x)
-		for i := range x {
-			x[i] += dt * s.k[i]
-		}
+		s.loop(len(x), s.first)
 		s.started = true
-		return
+	} else {
+		s.loop(len(x), s.next)
 	}
-	nu := s.nu
+	s.x = nil
+}
+
+func (s *leapfrog) doFirst(lo, hi int) {
+	x, prev, k, dt := s.x[lo:hi], s.prev[lo:hi], s.k[lo:hi], s.dt
+	prev, k = prev[:len(x)], k[:len(x)]
 	for i, xn := range x {
-		next := s.prev[i] + 2*dt*s.k[i]
-		s.prev[i] = xn + nu*(s.prev[i]-2*xn+next)
+		prev[i] = xn
+		x[i] = xn + dt*k[i]
+	}
+}
+
+func (s *leapfrog) doNext(lo, hi int) {
+	x, prev, k, dt, nu := s.x[lo:hi], s.prev[lo:hi], s.k[lo:hi], s.dt, s.nu
+	prev, k = prev[:len(x)], k[:len(x)]
+	for i, xn := range x {
+		next := prev[i] + 2*dt*k[i]
+		prev[i] = xn + nu*(prev[i]-2*xn+next)
 		x[i] = next
 	}
 }
 
 // euler is forward Euler, kept to show an unconditionally unstable method.
-type euler struct{ k []float64 }
+type euler struct {
+	loop   func(n int, body func(lo, hi int))
+	k, x   []float64
+	dt     float64
+	update func(lo, hi int)
+}
 
 func (s *euler) Name() string { return Euler }
 func (s *euler) Restart()     {}
 func (s *euler) Step(f Tendency, x []float64, dt float64) {
+	s.x, s.dt = x, dt
 	f(s.k, x)
+	s.loop(len(x), s.update)
+	s.x = nil
+}
+
+func (s *euler) doUpdate(lo, hi int) {
+	x, k, dt := s.x[lo:hi], s.k[lo:hi], s.dt
+	k = k[:len(x)]
 	for i := range x {
-		x[i] += dt * s.k[i]
+		x[i] += dt * k[i]
 	}
 }
