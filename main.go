@@ -34,6 +34,7 @@ func serve(ctx context.Context, args []string) int {
 	scenario := fs.String("scenario", "", "built-in scenario name or scenario file to open (default: the built-in default)")
 	workers := fs.Int("workers", 0, "goroutines per run for the tendency loops (0: by mesh size)")
 	ring := fs.Int("ring", 64, "recent states kept per run for scrubbing back after a blow-up")
+	fps := fs.Int("fps", server.DefaultMaxFPS, fmt.Sprintf("most field frames per second sent to each watcher (1 to %d)", server.MaxFPSLimit))
 	sweeps := fs.String("sweeps", "", "folder for the sweeps started from the workbench, one new folder each (default: gyrebench/sweeps in the user cache folder)")
 	if err := fs.Parse(args); err != nil {
 		return cli.ExitBadInput
@@ -42,7 +43,7 @@ func serve(ctx context.Context, args []string) int {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: unexpected argument %q\n", fs.Arg(0))
 		return cli.ExitBadInput
 	}
-	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr, SweepDir: *sweeps})
+	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr, SweepDir: *sweeps, MaxFPS: *fps})
 	if err != nil {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: %v\n", err)
 		return cli.ExitBadInput

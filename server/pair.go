@@ -41,7 +41,7 @@ import (
 //
 // When both sides are on the same grid (family, resolution, domain), the
 // pair sends A − B of the field shown, as a field frame on A's geometry, at
-// most frameInterval apart; otherwise it says so in its status. The colour
+// most Options.MaxFPS a second; otherwise it says so in its status. The colour
 // scale of A and B is shared by the browser (the union of both frames'
 // ranges); A − B, a different quantity, has its own, centred on zero.
 //
@@ -128,14 +128,14 @@ type Pair struct {
 
 // newPair builds both sides and starts the pair's goroutine, which lives
 // until ctx ends.
-func newPair(ctx context.Context, id, scenario string, cfg [2]sim.Config, workers, ringSize int) (*Pair, error) {
+func newPair(ctx context.Context, id, scenario string, cfg [2]sim.Config, lim runLimits) (*Pair, error) {
 	p := &Pair{
 		id: id, scenario: scenario, cmds: make(chan pairCommand, 64), done: make(chan struct{}),
 		state: StatePaused, clients: map[*pairClient]struct{}{}, frames: make(chan *frame, 4),
 	}
 	for i := range p.side {
 		label := fmt.Sprintf("pair %s %s", id, strings.ToUpper(sideNames[i]))
-		r, err := buildRun(ctx, id+sideNames[i], scenario, cfg[i], workers, ringSize, func(string) []byte { return helloMsg(label) })
+		r, err := buildRun(ctx, id+sideNames[i], scenario, cfg[i], lim, func(string) []byte { return helloMsg(label) })
 		if err != nil {
 			if i == 1 {
 				p.side[0].m.Close()
@@ -249,7 +249,7 @@ func (p *Pair) advance() {
 		}
 	}
 	now := time.Now()
-	if now.Sub(p.lastDiff) >= frameInterval {
+	if now.Sub(p.lastDiff) >= p.side[0].frameEvery {
 		p.emitDiff()
 	}
 	if now.Sub(p.lastStat) >= statusInterval {

@@ -84,7 +84,7 @@ func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 	}
 	s.conns.Add(1)
 	s.mu.Unlock()
-	p, err := newPair(s.ctx, id, label, cfg, s.opt.Workers, s.opt.RingSize)
+	p, err := newPair(s.ctx, id, label, cfg, s.runLimits())
 	if err != nil {
 		s.conns.Done()
 		return nil, err

@@ -21,7 +21,6 @@ const (
 
 // Cadences and limits of a run.
 const (
-	frameInterval  = time.Second / 60       // at most this many field frames per second
 	pointInterval  = 100 * time.Millisecond // invariant points while running
 	statusInterval = 250 * time.Millisecond // status messages while running
 	rateWindow     = 500 * time.Millisecond // steps/s is measured over this window
@@ -37,6 +36,13 @@ const (
 	MaxLiveCells = 1 << 17
 	// DefaultRingSize is the ring buffer length when Options.RingSize ≤ 0.
 	DefaultRingSize = 64
+	// DefaultMaxFPS is the most field frames per second a run sends when
+	// Options.MaxFPS is 0. Past about 30 the eye gains little, and on a
+	// two-core machine every frame the browser draws is taken from the
+	// simulation (the browser benchmarks in tests/ measure it).
+	DefaultMaxFPS = 32
+	// MaxFPSLimit bounds Options.MaxFPS.
+	MaxFPSLimit = 120
 )
 
 type cmdKind int
@@ -84,9 +90,11 @@ type Run struct {
 
 	workers  int
 	ringSize int
-	hello    outMsg
-	scenario string
-	title    string
+	// frameEvery is the least time between two field frames.
+	frameEvery time.Duration
+	hello      outMsg
+	scenario   string
+	title      string
 
 	m       *sim.Model
 	gen     uint32 // grid generation, bumped with every new mesh
@@ -118,8 +126,15 @@ type Run struct {
 
 // newRun builds the model and starts the run's goroutine, which lives until
 // ctx ends.
-func newRun(ctx context.Context, id, scenario string, cfg sim.Config, workers, ringSize int, hello func(id string) []byte) (*Run, error) {
-	r, err := buildRun(ctx, id, scenario, cfg, workers, ringSize, hello)
+// runLimits are the server's settings every run is built with.
+type runLimits struct {
+	workers    int           // goroutines per run for the engine's loops; ≤ 0: by mesh size
+	ringSize   int           // recent states kept; ≤ 0: DefaultRingSize
+	frameEvery time.Duration // least time between two field frames; ≤ 0: 1/DefaultMaxFPS s
+}
+
+func newRun(ctx context.Context, id, scenario string, cfg sim.Config, lim runLimits, hello func(id string) []byte) (*Run, error) {
+	r, err := buildRun(ctx, id, scenario, cfg, lim, hello)
 	if err != nil {
 		return nil, err
 	}
@@ -129,7 +144,8 @@ func newRun(ctx context.Context, id, scenario string, cfg sim.Config, workers, r
 
 // buildRun builds a run without starting its goroutine: newRun starts
 // one, a lockstep pair (pair.go) drives two runs from its own.
-func buildRun(ctx context.Context, id, scenario string, cfg sim.Config, workers, ringSize int, hello func(id string) []byte) (*Run, error) {
+func buildRun(ctx context.Context, id, scenario string, cfg sim.Config, lim runLimits, hello func(id string) []byte) (*Run, error) {
+	workers, ringSize := lim.workers, lim.ringSize
 	m, err := sim.NewModel(cfg, workers)
 	if err != nil {
 		return nil, err
@@ -137,9 +153,12 @@ func buildRun(ctx context.Context, id, scenario string, cfg sim.Config, workers,
 	if ringSize <= 0 {
 		ringSize = DefaultRingSize
 	}
+	if lim.frameEvery <= 0 {
+		lim.frameEvery = time.Second / DefaultMaxFPS
+	}
 	r := &Run{
 		id: id, cmds: make(chan command, 64), done: make(chan struct{}),
-		workers: workers, ringSize: ringSize,
+		workers: workers, ringSize: ringSize, frameEvery: lim.frameEvery,
 		hello: outMsg{typ: textMsg, data: hello(id)},
 		field: &fieldDefs[0], state: StatePaused,
 		subs: map[*subscriber]struct{}{}, frames: make(chan *frame, 4),
@@ -209,7 +228,7 @@ func (r *Run) advance() {
 	if now.Sub(r.lastPoint) >= pointInterval {
 		r.emitPoint()
 	}
-	if now.Sub(r.lastFrame) >= frameInterval {
+	if now.Sub(r.lastFrame) >= r.frameEvery {
 		r.emitFrame()
 	}
 	if now.Sub(r.lastStatus) >= statusInterval {

@@ -30,6 +30,9 @@ type Options struct {
 	Addr     string // listen address; "" = 127.0.0.1:8080
 	Workers  int    // goroutines per run for the engine's loops; ≤ 0 = by mesh size (sim.AutoWorkers)
 	RingSize int    // recent states kept per run; ≤ 0 = DefaultRingSize
+	// MaxFPS is the most field frames per second a run sends its
+	// watchers, 1 to MaxFPSLimit; 0 = DefaultMaxFPS.
+	MaxFPS int
 	// Scenario opens the first run: a built-in name or a scenario file;
 	// "" = scenarios.Default.
 	Scenario string
@@ -81,11 +84,22 @@ type staticFile struct {
 	ctype string
 }
 
+// runLimits are the settings every run is built with.
+func (s *Server) runLimits() runLimits {
+	return runLimits{workers: s.opt.Workers, ringSize: s.opt.RingSize, frameEvery: time.Second / time.Duration(s.opt.MaxFPS)}
+}
+
 // New builds the workbench and its first run. It does not listen; use it
 // as an http.Handler (tests do), or call Serve.
 func New(opt Options) (*Server, error) {
 	if opt.RingSize <= 0 {
 		opt.RingSize = DefaultRingSize
+	}
+	if opt.MaxFPS < 0 || opt.MaxFPS > MaxFPSLimit {
+		return nil, fmt.Errorf("fps = %d: allowed 1 to %d field frames per second (0: the default, %d)", opt.MaxFPS, MaxFPSLimit, DefaultMaxFPS)
+	}
+	if opt.MaxFPS == 0 {
+		opt.MaxFPS = DefaultMaxFPS
 	}
 	if opt.Stderr == nil {
 		opt.Stderr = io.Discard
@@ -178,7 +192,7 @@ func (s *Server) startRun(label string, cfg sim.Config) (*Run, error) {
 	s.next++
 	id := strconv.Itoa(s.next)
 	s.mu.Unlock()
-	r, err := newRun(s.ctx, id, label, cfg, s.opt.Workers, s.opt.RingSize, helloMsg)
+	r, err := newRun(s.ctx, id, label, cfg, s.runLimits(), helloMsg)
 	if err != nil {
 		return nil, err
 	}

@@ -49,7 +49,7 @@ const st = {
   ws: null, retry: 500, fields: [], config: null, status: null, geometry: null,
   ring: { entries: [], cursor: -1 }, nextID: 1, pending: new Map(),
   frame: null, range: null, framesDrawn: 0, drawTimes: [], skipped: 0,
-  dirtyField: false, dirtyPlot: false, scheduled: false,
+  dirtyField: false, dirtyPlot: false, scheduled: false, barKey: '',
 };
 
 // ---- connection ---------------------------------------------------------
@@ -226,7 +226,14 @@ function drawField(now) {
   view.resize();
   view.setFrame(f, r.map, r.lo, r.hi);
   view.render();
-  drawColourBar(el.bar, r.map, r.lo, r.hi, def, textScale());
+  // The bar is its own canvas layer: redrawn only when what it shows
+  // changes at the three digits its labels carry, not on every frame.
+  const scale = textScale();
+  const barKey = `${r.map.name}|${def.name}|${el.bar.clientWidth}x${el.bar.clientHeight}|${scale}|${r.lo.toPrecision(3)}|${r.hi.toPrecision(3)}`;
+  if (barKey !== st.barKey) {
+    st.barKey = barKey;
+    drawColourBar(el.bar, r.map, r.lo, r.hi, def, scale);
+  }
   st.framesDrawn++;
   el.canvas.dataset.frames = String(st.framesDrawn);
   el.canvas.dataset.field = def.name;

@@ -68,11 +68,17 @@ export function fmtTick(v, step) {
   return v.toFixed(d).replace('-', '−');
 }
 
-// ticks returns round values covering [lo, hi].
+// ticks returns round values covering [lo, hi]. Each is computed from its
+// index, not by adding steps: over a span near the round-off of lo (a
+// minimum depth that moves by 1e-13 m) v + step can equal v.
 export function ticks(lo, hi, n) {
   const step = niceStep(hi - lo, n);
   const out = [];
-  for (let v = Math.ceil(lo / step) * step; v <= hi + step * 1e-9; v += step) {
+  const k0 = Math.ceil(lo / step);
+  for (let i = 0; i <= 4 * n + 2; i++) {
+    const v = (k0 + i) * step;
+    if (v > hi + step * 1e-9) break;
+    if (out.length && v <= out[out.length - 1]) continue; // below the resolution of a float
     out.push(Math.abs(v) < step * 1e-9 ? 0 : v);
   }
   return out;

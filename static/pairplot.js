@@ -135,7 +135,9 @@ export class PairPlot {
       tv = [];
       for (let v = Math.ceil(lo / st) * st; v <= hi; v += st) tv.push(v);
     } else {
-      if (hi === lo) { const d = Math.abs(hi) * 1e-3 || 1e-12; lo -= d; hi += d; }
+      // A span below about a millionth of the values is shown as flat.
+      const tiny = Math.max(Math.abs(hi), Math.abs(lo)) * 1e-6;
+      if (hi - lo < tiny) { const mid = (hi + lo) / 2, d = tiny || 1e-12; lo = mid - d; hi = mid + d; }
       const pad = (hi - lo) * 0.06;
       lo -= pad; hi += pad;
       tv = ticks(lo, hi, Math.max(2, Math.floor(h / (fs * 2.2))));

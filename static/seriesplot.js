@@ -138,7 +138,10 @@ export class SeriesPlot {
       tickVals = [];
       for (let v = Math.ceil(lo / step) * step; v <= hi; v += step) tickVals.push(v);
     } else {
-      if (hi === lo) { const d = Math.abs(hi) * 1e-3 || 1e-12; lo -= d; hi += d; }
+      // A span below about a millionth of the values (a steady minimum
+      // depth moving at round-off) is shown as flat, not as noise.
+      const tiny = Math.max(Math.abs(hi), Math.abs(lo)) * 1e-6;
+      if (hi - lo < tiny) { const mid = (hi + lo) / 2, d = tiny || 1e-12; lo = mid - d; hi = mid + d; }
       const pad = (hi - lo) * 0.06;
       lo -= pad; hi += pad;
       tickVals = ticks(lo, hi, Math.max(2, Math.floor(h / (fs * 2.2))));

@@ -97,7 +97,8 @@ func TestServe(t *testing.T) {
 	}
 }
 
-// TestServeBadOptions: a bad address or scenario is an error naming it.
+// TestServeBadOptions: a bad address, scenario or frame rate is an error
+// naming it.
 func TestServeBadOptions(t *testing.T) {
 	cases := []struct {
 		opt  server.Options
@@ -105,6 +106,8 @@ func TestServeBadOptions(t *testing.T) {
 	}{
 		{server.Options{Addr: "nonsense"}, "nonsense"},
 		{server.Options{Addr: "127.0.0.1:0", Scenario: "no-such-scenario"}, "no-such-scenario"},
+		{server.Options{Addr: "127.0.0.1:0", MaxFPS: -1}, "fps = -1: allowed 1 to 120"},
+		{server.Options{Addr: "127.0.0.1:0", MaxFPS: 500}, "fps = 500: allowed 1 to 120"},
 	}
 	for _, tc := range cases {
 		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
@@ -190,5 +193,35 @@ func TestRunsAndWatchers(t *testing.T) {
 	if err == nil {
 		ws.CloseNow()
 		t.Error("a websocket from another site's page was accepted")
+	}
+}
+
+// TestFrameRateCap: a run sends at most Options.MaxFPS field frames per
+// second by the server's clock, however fast it steps (a small grid steps
+// thousands of times a second here).
+func TestFrameRateCap(t *testing.T) {
+	const fps = 10
+	_, base := startServer(t, server.Options{Workers: 1, MaxFPS: fps, Scenario: writeScenario(t, "small-hex", smallHex)})
+	cl := dial(t, base, "1")
+	cl.mustAck("play", nil, nil)
+	var s0, s1 msg
+	frames := 0
+	cl.until(30*time.Second, "two seconds of running", func(m msg) bool {
+		switch {
+		case m.Type == "status" && m.State == server.StateRunning && s0.Type == "":
+			s0, frames = m, 0
+		case m.Type == "frame" && s0.Type != "":
+			frames++
+		case m.Type == "status" && s0.Type != "" && m.WallS-s0.WallS >= 2:
+			s1 = m
+			return true
+		}
+		return false
+	})
+	cl.mustAck("pause", nil, nil)
+	span := s1.WallS - s0.WallS
+	// One frame either side may belong to the neighbouring interval.
+	if limit := fps*span + 2; float64(frames) > limit || frames < 2 {
+		t.Errorf("%d frames in %.2f s (%d steps) with MaxFPS %d; want at least 2 and at most %.0f", frames, span, s1.Steps-s0.Steps, fps, limit)
 	}
 }
