@@ -485,7 +485,7 @@ func (sw *sweeps) sweepBase(ctx context.Context, base string) (label, descriptio
 		if !r.await(ctx, func(r *Run) { cfg, label = r.m.Config(), r.scenario }) {
 			return "", "", cfg, fmt.Errorf("scenario = %q: run %s has stopped", base, id)
 		}
-		return "run" + id + "-" + label, "", ownParams(cfg), nil
+		return "run" + id + "-" + label, "", cfg.Clone(), nil
 	}
 	src, err := scenarios.Source(base)
 	if err != nil {
@@ -495,18 +495,7 @@ func (sw *sweeps) sweepBase(ctx context.Context, base string) (label, descriptio
 	if err != nil {
 		return "", "", cfg, fmt.Errorf("scenario = %q: %w", base, err)
 	}
-	return base, sc.Description, ownParams(sc.Config), nil
-}
-
-// cloneParams gives cfg its own copy of the case parameters, so that the
-// plan's --set overrides never reach a live run's config.
-func ownParams(cfg sim.Config) sim.Config {
-	p := make(map[string]float64, len(cfg.Initial.Params))
-	for k, v := range cfg.Initial.Params {
-		p[k] = v
-	}
-	cfg.Initial.Params = p
-	return cfg
+	return base, sc.Description, sc.Config.Clone(), nil
 }
 
 // formMessage turns the command line's wording of package sweep's errors

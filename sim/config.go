@@ -2,6 +2,7 @@ package sim
 
 import (
 	"fmt"
+	"maps"
 	"math"
 	"strings"
 
@@ -85,6 +86,13 @@ func DefaultConfig() Config {
 		Initial: InitialConfig{Case: "gaussian-bump", Params: map[string]float64{}},
 		Output:  OutputConfig{Every: 3600},
 	}
+}
+
+// Clone returns a copy of c that shares nothing with it: the case
+// parameters are the only field held by reference.
+func (c Config) Clone() Config {
+	c.Initial.Params = maps.Clone(c.Initial.Params)
+	return c
 }
 
 // MeshSpec returns the mesh the config asks for.

@@ -3,6 +3,7 @@
 package tests
 
 import (
+	"bytes"
 	"context"
 	"encoding/binary"
 	"encoding/json"
@@ -20,6 +21,7 @@ import (
 	"github.com/coder/websocket"
 
 	"gyrebench/server"
+	"gyrebench/sim/cli"
 )
 
 // startServer runs the workbench on 127.0.0.1 with a random port.
@@ -294,4 +296,26 @@ func contextFor(t testing.TB) (context.Context, context.CancelFunc) {
 	ctx, cancel := context.WithCancel(context.Background())
 	t.Cleanup(cancel)
 	return ctx, cancel
+}
+
+// replayHeadless writes a timeline file, replays it with 'gyrebench run'
+// (in this process, through the command-line entry point) and returns the
+// final.nc it wrote.
+func replayHeadless(t testing.TB, timelineTOML []byte) []byte {
+	t.Helper()
+	dir := t.TempDir()
+	file := filepath.Join(dir, "saved.toml")
+	if err := os.WriteFile(file, timelineTOML, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var stdout, stderr bytes.Buffer
+	out := filepath.Join(dir, "replay")
+	if code := cli.Main(context.Background(), []string{"run", file, "--out", out}, &stdout, &stderr); code != cli.ExitOK {
+		t.Fatalf("gyrebench run saved.toml: exit %d: %s", code, stderr.String())
+	}
+	nc, err := os.ReadFile(filepath.Join(out, "final.nc"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return nc
 }

@@ -19,7 +19,6 @@ import (
 	"gyrebench/server"
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
-	"gyrebench/sim/cli"
 	"gyrebench/sim/ncout"
 	"gyrebench/sim/scenario"
 )
@@ -394,19 +393,7 @@ func TestPairLockstep(t *testing.T) {
 	// Each side records its own timeline; replayed solo and headless, it
 	// ends on the side's final.nc.
 	for _, side := range []string{"a", "b"} {
-		dir := t.TempDir()
-		file := filepath.Join(dir, side+".toml")
-		if err := os.WriteFile(file, get(t, base+"/pair/"+id+"/"+side+"/timeline.toml"), 0o644); err != nil {
-			t.Fatal(err)
-		}
-		var stdout, stderr bytes.Buffer
-		if code := cli.Main(context.Background(), []string{"run", file, "--out", filepath.Join(dir, "out")}, &stdout, &stderr); code != cli.ExitOK {
-			t.Fatalf("side %s: gyrebench run: exit %d: %s", side, code, stderr.String())
-		}
-		solo, err := os.ReadFile(filepath.Join(dir, "out", "final.nc"))
-		if err != nil {
-			t.Fatal(err)
-		}
+		solo := replayHeadless(t, get(t, base+"/pair/"+id+"/"+side+"/timeline.toml"))
 		if live := get(t, base+"/pair/"+id+"/"+side+"/final.nc"); !bytes.Equal(solo, live) {
 			t.Errorf("side %s: its timeline replayed headless does not end on its final.nc", side)
 		}

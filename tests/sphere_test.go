@@ -6,8 +6,6 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 	"time"
@@ -15,7 +13,6 @@ import (
 	"github.com/coder/websocket"
 
 	"gyrebench/server"
-	"gyrebench/sim/cli"
 	"gyrebench/sim/timeline"
 )
 
@@ -335,20 +332,7 @@ func TestSphereOptimizeSwitch(t *testing.T) {
 	if got, want := strings.Join(grids, ", "), "3 lloyd, 3 none, 3 lloyd"; got != want {
 		t.Errorf("recorded set-grid events (level, optimize): %s; want %s", got, want)
 	}
-	dir := t.TempDir()
-	file := filepath.Join(dir, "saved.toml")
-	if err := os.WriteFile(file, data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	var stdout, stderr bytes.Buffer
-	out := filepath.Join(dir, "replay")
-	if code := cli.Main(context.Background(), []string{"run", file, "--out", out}, &stdout, &stderr); code != cli.ExitOK {
-		t.Fatalf("gyrebench run saved.toml: exit %d: %s", code, stderr.String())
-	}
-	headless, err := os.ReadFile(filepath.Join(out, "final.nc"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	headless := replayHeadless(t, data)
 	if !bytes.Equal(headless, live) {
 		t.Errorf("the headless replay's final.nc (%d bytes) differs from the live run's (%d bytes)", len(headless), len(live))
 	}

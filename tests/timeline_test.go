@@ -2,18 +2,14 @@ package tests
 
 import (
 	"bytes"
-	"context"
 	"fmt"
 	"io"
 	"net/http"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 	"time"
 
 	"gyrebench/server"
-	"gyrebench/sim/cli"
 	"gyrebench/sim/timeline"
 )
 
@@ -106,20 +102,7 @@ func TestTimelineReplaysLiveRun(t *testing.T) {
 		t.Errorf("rewind event %+v: want from step %d back to step %d", rw, paused, end-7)
 	}
 
-	dir := t.TempDir()
-	file := filepath.Join(dir, "saved.toml")
-	if err := os.WriteFile(file, data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	var stdout, stderr bytes.Buffer
-	out := filepath.Join(dir, "replay")
-	if code := cli.Main(context.Background(), []string{"run", file, "--out", out}, &stdout, &stderr); code != cli.ExitOK {
-		t.Fatalf("gyrebench run saved.toml: exit %d: %s", code, stderr.String())
-	}
-	headless, err := os.ReadFile(filepath.Join(out, "final.nc"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	headless := replayHeadless(t, data)
 	if !bytes.Equal(headless, live) {
 		t.Fatalf("the headless replay's final.nc (%d bytes) differs from the live run's (%d bytes)", len(headless), len(live))
 	}

@@ -116,7 +116,7 @@ func NewPlan(base sim.Config, scenarioName, description string, sets []string, a
 		// Check each value alone, so the message names it even when the
 		// product is too large.
 		for _, v := range a.Values {
-			c := cloneConfig(base)
+			c := base.Clone()
 			if err := setVary(&c, a.Key, v); err != nil {
 				return nil, err
 			}
@@ -130,7 +130,7 @@ func NewPlan(base sim.Config, scenarioName, description string, sets []string, a
 	p := &Plan{Version: 1, Scenario: scenarioName, Description: description, Sets: sets, Axes: axes}
 	idx := make([]int, len(axes))
 	for i := range total {
-		c := cloneConfig(base)
+		c := base.Clone()
 		var raw []Choice
 		for k, a := range axes {
 			v := a.Values[idx[k]]
@@ -178,17 +178,6 @@ func setVary(c *sim.Config, key, value string) error {
 		return fmt.Errorf("%s", msg)
 	}
 	return nil
-}
-
-// cloneConfig copies c, including its parameter map, so that overrides of
-// one run never reach another.
-func cloneConfig(c sim.Config) sim.Config {
-	p := make(map[string]float64, len(c.Initial.Params))
-	for k, v := range c.Initial.Params {
-		p[k] = v
-	}
-	c.Initial.Params = p
-	return c
 }
 
 func choiceText(cs []Choice) string {
