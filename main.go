@@ -43,6 +43,14 @@ func serve(ctx context.Context, args []string) int {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: unexpected argument %q\n", fs.Arg(0))
 		return cli.ExitBadInput
 	}
+	if *ring < 1 || *ring > server.MaxRingSize {
+		fmt.Fprintf(os.Stderr, "gyrebench serve: --ring %d: allowed 1 to %d recent states per run\n", *ring, server.MaxRingSize)
+		return cli.ExitBadInput
+	}
+	if *fps < 1 || *fps > server.MaxFPSLimit {
+		fmt.Fprintf(os.Stderr, "gyrebench serve: --fps %d: allowed 1 to %d field frames per second\n", *fps, server.MaxFPSLimit)
+		return cli.ExitBadInput
+	}
 	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr, SweepDir: *sweeps, MaxFPS: *fps})
 	if err != nil {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: %v\n", err)

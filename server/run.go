@@ -36,6 +36,8 @@ const (
 	MaxLiveCells = 1 << 17
 	// DefaultRingSize is the ring buffer length when Options.RingSize ≤ 0.
 	DefaultRingSize = 64
+	// MaxRingSize bounds Options.RingSize: each entry holds a whole state.
+	MaxRingSize = 1024
 	// DefaultMaxFPS is the most field frames per second a run sends when
 	// Options.MaxFPS is 0. Past about 30 the eye gains little, and on a
 	// two-core machine every frame the browser draws is taken from the

@@ -95,6 +95,9 @@ func New(opt Options) (*Server, error) {
 	if opt.RingSize <= 0 {
 		opt.RingSize = DefaultRingSize
 	}
+	if opt.RingSize > MaxRingSize {
+		return nil, fmt.Errorf("ring = %d: allowed 1 to %d recent states per run (each holds a whole state)", opt.RingSize, MaxRingSize)
+	}
 	if opt.MaxFPS < 0 || opt.MaxFPS > MaxFPSLimit {
 		return nil, fmt.Errorf("fps = %d: allowed 1 to %d field frames per second (0: the default, %d)", opt.MaxFPS, MaxFPSLimit, DefaultMaxFPS)
 	}

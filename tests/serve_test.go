@@ -97,8 +97,8 @@ func TestServe(t *testing.T) {
 	}
 }
 
-// TestServeBadOptions: a bad address, scenario or frame rate is an error
-// naming it.
+// TestServeBadOptions: a bad address, scenario, frame rate or ring size is
+// an error naming it.
 func TestServeBadOptions(t *testing.T) {
 	cases := []struct {
 		opt  server.Options
@@ -108,6 +108,7 @@ func TestServeBadOptions(t *testing.T) {
 		{server.Options{Addr: "127.0.0.1:0", Scenario: "no-such-scenario"}, "no-such-scenario"},
 		{server.Options{Addr: "127.0.0.1:0", MaxFPS: -1}, "fps = -1: allowed 1 to 120"},
 		{server.Options{Addr: "127.0.0.1:0", MaxFPS: 500}, "fps = 500: allowed 1 to 120"},
+		{server.Options{Addr: "127.0.0.1:0", RingSize: 5000}, "ring = 5000: allowed 1 to 1024"},
 	}
 	for _, tc := range cases {
 		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
