@@ -315,7 +315,10 @@ func (sw *sweeps) start(label string, plan *sweep.Plan, jobs int) (*sweepJob, er
 		defer s.conns.Done()
 		defer close(j.done)
 		defer cancel()
-		res, out, err := sweep.Execute(ctx, plan, dir, sweep.Options{Jobs: jobs, Workers: 1, Done: j.runEnded, Started: j.runStarted})
+		res, out, err := sweep.Execute(ctx, plan, dir, sweep.Options{
+			Jobs: jobs, Workers: 1, Done: j.runEnded, Started: j.runStarted,
+			Setup: lowPriority, // live runs and their watchers come first
+		})
 		j.end(res, out, err)
 	}()
 	return j, nil

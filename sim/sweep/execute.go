@@ -28,6 +28,11 @@ type Options struct {
 	// Started, when not nil, is called as each run begins, from the
 	// goroutine that runs it, serialised with Done.
 	Started func(r *Run)
+	// Setup, when not nil, is called first in each goroutine that runs
+	// runs, before its first run: a server lowers the goroutine's thread
+	// priority there, so that a sweep takes only the time its live runs
+	// leave. With Workers = 1 a run's loops stay on that goroutine.
+	Setup func()
 }
 
 // Outcome counts how the runs of Execute ended.
@@ -66,6 +71,9 @@ func Execute(ctx context.Context, p *Plan, dir string, opt Options) (*Result, Ou
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			if opt.Setup != nil {
+				opt.Setup()
+			}
 			for i := range next {
 				if ctx.Err() != nil {
 					continue // ended while this index was on its way: not started

@@ -16,6 +16,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"sync/atomic"
 	"testing"
 
 	"gonum.org/v1/gonum/stat"
@@ -304,7 +305,9 @@ func TestConvergenceSweep(t *testing.T) {
 	p := mustPlan(t, geostrophic(), nil, "grid.kind=quad,hex", "grid.n=8,16,32")
 	calls := 0
 	started := map[int]bool{}
+	var setups atomic.Int32
 	res, out, err := Execute(context.Background(), p, dir, Options{Jobs: 2, Workers: 1,
+		Setup: func() { setups.Add(1) },
 		Started: func(r *Run) {
 			if started[r.Index] {
 				t.Errorf("Started(%s) twice", r.Name)
@@ -319,6 +322,9 @@ func TestConvergenceSweep(t *testing.T) {
 		}})
 	if err != nil {
 		t.Fatal(err)
+	}
+	if n := setups.Load(); n != 2 {
+		t.Errorf("Setup called %d times, want once per job goroutine (2)", n)
 	}
 	if out != (Outcome{Runs: 6}) || calls != 6 || len(started) != 6 {
 		t.Errorf("outcome %+v after %d Done calls, want 6 runs, no blow-up", out, calls)
