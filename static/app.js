@@ -282,7 +282,7 @@ function showConfig() {
   el.integrator.value = c.integrator;
   el.grid.value = c.grid.kind;
   el.field.value = c.field;
-  el.scenario.value = c.scenario;
+  showScenario(c.scenario);
   if (document.activeElement !== el.dt) el.dt.value = String(c.dt);
   if (document.activeElement !== el.n) el.n.value = String(c.grid.n);
   el.dtHint.textContent = `allowed 0 < Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s here`;
@@ -301,6 +301,26 @@ function showConfig() {
   el.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
   el.canvas.dataset.optimize = c.grid.sphere ? c.grid.optimize : '';
   schedule('field');
+}
+
+// showScenario selects the run's scenario in the menu. One opened from a
+// file is not a built-in: it is shown as a disabled entry of its own.
+function showScenario(name) {
+  let own = el.scenario.querySelector('option[data-file]');
+  const builtIn = [...el.scenario.options].some((o) => o !== own && o.value === name);
+  if (builtIn) {
+    if (own) own.remove();
+  } else {
+    if (!own) {
+      own = document.createElement('option');
+      own.dataset.file = 'true';
+      own.disabled = true;
+      el.scenario.prepend(own);
+    }
+    own.value = name;
+    own.textContent = `${name} (from a file)`;
+  }
+  el.scenario.value = name;
 }
 
 function showStatus() {

@@ -30,10 +30,20 @@ func TestSphereBrowser(t *testing.T) {
 	poll(t, ctx, "the dispersion diagram", role("dispersion-plot")+`.dataset.points > 100 && document.querySelector('[data-role="dispersion-legend"] [data-class="spurious"]') !== null`, wait)
 	screenshot(t, ctx, "", "sphere-01-plane-panel.png")
 
-	// Load the sphere.
+	// A run opened from a file shows the file's scenario in the menu, as
+	// an entry of its own that cannot be loaded like a built-in.
+	sc := role("scenario-select")
+	if got := eval[string](t, ctx, sc+`.selectedOptions[0].textContent + '|' + `+sc+`.selectedOptions[0].disabled`); got != "small-hex (from a file)|true" {
+		t.Errorf("scenario menu of a run opened from a file shows %q, want the file's name, disabled", got)
+	}
+
+	// Load the sphere: the file's entry goes.
 	choose(t, ctx, "scenario-select", "williamson-6")
 	do(t, ctx, chromedp.Click(sel("load-scenario")))
 	poll(t, ctx, "the globe", canvas+`.dataset.drawn === 'globe' && `+canvas+`.dataset.grid === 'icosahedral 5' && !`+role("projection")+`.hidden`, wait)
+	if eval[bool](t, ctx, sc+`.querySelector('option[data-file]') !== null`) || eval[string](t, ctx, sc+`.value`) != "williamson-6" {
+		t.Errorf("after loading williamson-6 the menu shows %q and still has the file's entry", eval[string](t, ctx, sc+`.value`))
+	}
 	if got := eval[string](t, ctx, role("resolution-label")+`.textContent`); got != "Refinement level n" {
 		t.Errorf("resolution label on the sphere = %q", got)
 	}
