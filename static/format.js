@@ -68,6 +68,17 @@ export function fmtTick(v, step) {
   return v.toFixed(d).replace('-', '−');
 }
 
+// tickDigits is the number of significant digits that tells the ticks of
+// a list apart: at least 3, more when the step is small against the values
+// (999.5, 1000, 1000.5 need 5).
+export function tickDigits(vals) {
+  if (vals.length < 2) return 3;
+  const step = vals[1] - vals[0];
+  const a = Math.max(...vals.map(Math.abs));
+  if (!(step > 0) || !(a > 0)) return 3;
+  return Math.min(15, Math.max(3, Math.floor(Math.log10(a)) - Math.floor(Math.log10(step) + 1e-9) + 1));
+}
+
 // ticks returns round values covering [lo, hi]. Each is computed from its
 // index, not by adding steps: over a span near the round-off of lo (a
 // minimum depth that moves by 1e-13 m) v + step can equal v.

@@ -3,7 +3,7 @@
 // drifts, Courant numbers, minimum depth). Each side's mid-run changes are
 // vertical lines labelled with the side.
 
-import { fmtNum, superscript, timeUnit, niceStep, ticks } from './format.js';
+import { fmtNum, superscript, timeUnit, niceStep, ticks, tickDigits } from './format.js';
 
 const FLOOR = 1e-18;
 const MAX_POINTS = 6000;
@@ -135,9 +135,11 @@ export class PairPlot {
       tv = [];
       for (let v = Math.ceil(lo / st) * st; v <= hi; v += st) tv.push(v);
     } else {
-      // A span below about a millionth of the values is shown as flat.
-      const tiny = Math.max(Math.abs(hi), Math.abs(lo)) * 1e-6;
-      if (hi - lo < tiny) { const mid = (hi + lo) / 2, d = tiny || 1e-12; lo = mid - d; hi = mid + d; }
+      // A span below about a millionth of the values (a steady minimum
+      // depth moving at round-off) is shown as flat, on an axis of ±0.1 %
+      // whose labels differ at the three digits they carry.
+      const a = Math.max(Math.abs(hi), Math.abs(lo));
+      if (hi - lo < a * 1e-6) { const mid = (hi + lo) / 2, d = a * 1e-3 || 1e-12; lo = mid - d; hi = mid + d; }
       const pad = (hi - lo) * 0.06;
       lo -= pad; hi += pad;
       tv = ticks(lo, hi, Math.max(2, Math.floor(h / (fs * 2.2))));
@@ -156,7 +158,7 @@ export class PairPlot {
       ctx.beginPath(); ctx.moveTo(x, yy); ctx.lineTo(x + w, yy); ctx.stroke();
       if (Math.abs(lastLabel - yy) < fs * 1.1) continue;
       lastLabel = yy;
-      ctx.fillText(drift && this.log ? `10${superscript(v)}` : fmtNum(v, 3), x - fs * 0.4, yy);
+      ctx.fillText(drift && this.log ? `10${superscript(v)}` : fmtNum(v, tickDigits(tv)), x - fs * 0.4, yy);
     }
     ctx.save();
     ctx.beginPath();

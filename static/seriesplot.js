@@ -3,7 +3,7 @@
 // or log₁₀ of its magnitude), the Courant numbers, and the minimum depth.
 // Every mid-run change is a labelled vertical line across all panels.
 
-import { fmtNum, superscript, timeUnit, niceStep, ticks } from './format.js';
+import { fmtNum, superscript, timeUnit, niceStep, ticks, tickDigits } from './format.js';
 
 const MAX_POINTS = 8000;
 const FLOOR = 1e-18; // |drift| below this is drawn at this value in log mode
@@ -139,9 +139,10 @@ export class SeriesPlot {
       for (let v = Math.ceil(lo / step) * step; v <= hi; v += step) tickVals.push(v);
     } else {
       // A span below about a millionth of the values (a steady minimum
-      // depth moving at round-off) is shown as flat, not as noise.
-      const tiny = Math.max(Math.abs(hi), Math.abs(lo)) * 1e-6;
-      if (hi - lo < tiny) { const mid = (hi + lo) / 2, d = tiny || 1e-12; lo = mid - d; hi = mid + d; }
+      // depth moving at round-off) is shown as flat, on an axis of ±0.1 %
+      // whose labels differ at the three digits they carry.
+      const a = Math.max(Math.abs(hi), Math.abs(lo));
+      if (hi - lo < a * 1e-6) { const mid = (hi + lo) / 2, d = a * 1e-3 || 1e-12; lo = mid - d; hi = mid + d; }
       const pad = (hi - lo) * 0.06;
       lo -= pad; hi += pad;
       tickVals = ticks(lo, hi, Math.max(2, Math.floor(h / (fs * 2.2))));
@@ -155,12 +156,13 @@ export class SeriesPlot {
     ctx.textAlign = 'right';
     ctx.textBaseline = 'middle';
     let lastLabel = Infinity;
+    const digits = tickDigits(tickVals);
     for (const v of tickVals) {
       const yy = Math.round(Y(v)) + 0.5;
       ctx.beginPath(); ctx.moveTo(x, yy); ctx.lineTo(x + w, yy); ctx.stroke();
       if (Math.abs(lastLabel - yy) < fs * 1.1) continue; // no overlapping labels
       lastLabel = yy;
-      const label = drift && this.log ? `10${superscript(v)}` : fmtNum(v, 3);
+      const label = drift && this.log ? `10${superscript(v)}` : fmtNum(v, digits);
       ctx.fillText(label, x - fs * 0.4, yy);
     }
     ctx.save();

@@ -1,6 +1,7 @@
 package tests
 
 import (
+	"encoding/json"
 	"fmt"
 	"math"
 	"testing"
@@ -54,6 +55,23 @@ func TestAxisTicks(t *testing.T) {
 		}
 		if !ok {
 			t.Errorf("ticks(%g, %g, %d) = %v, want %v", c.lo, c.hi, c.n, got, c.want)
+		}
+	}
+
+	// Labels at the digits tickDigits gives are all different.
+	for _, c := range []struct {
+		vals []float64
+		want string
+	}{
+		{[]float64{999.5, 1000, 1000.5}, "999.5|1000|1000.5"},
+		{[]float64{0, 0.2, 0.4}, "0|0.2|0.4"},
+		{[]float64{-2e-14, -1e-14, 0, 1e-14}, "−2×10⁻¹⁴|−1×10⁻¹⁴|0|1×10⁻¹⁴"},
+	} {
+		b, _ := json.Marshal(c.vals)
+		expr := fmt.Sprintf(`import('/static/format.js').then((m) => { const v = %s; const d = m.tickDigits(v); return v.map((x) => m.fmtNum(x, d)).join('|'); })`, b)
+		got, err := chromedp.Run(ctx, chromedp.Evaluate[string](expr, chromedp.EvalAwaitPromise))
+		if err != nil || got != c.want {
+			t.Errorf("labels of %v: %q, %v; want %q", c.vals, got, err, c.want)
 		}
 	}
 }
