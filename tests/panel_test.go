@@ -286,7 +286,7 @@ func (rc *rawClient) waitDispersion(t *testing.T) dispersion {
 // parameters get a message naming them.
 func TestFigure(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "small-hex", smallHex)})
-	get := func(path string) (*http.Response, []byte) {
+	request := func(path string) (*http.Response, []byte) {
 		t.Helper()
 		resp, err := http.Get(base + path)
 		if err != nil {
@@ -301,7 +301,7 @@ func TestFigure(t *testing.T) {
 	}
 	check := func(what string) {
 		t.Helper()
-		resp, b := get("/run/1/figure.png?width=900&height=500")
+		resp, b := request("/run/1/figure.png?width=900&height=500")
 		if resp.StatusCode != 200 || resp.Header.Get("Content-Type") != "image/png" {
 			t.Fatalf("%s PNG: %s, %s: %s", what, resp.Status, resp.Header.Get("Content-Type"), b)
 		}
@@ -312,7 +312,7 @@ func TestFigure(t *testing.T) {
 		if r := img.Bounds(); r.Dx() != 900 || r.Dy() != 500 {
 			t.Errorf("%s PNG is %d × %d, asked for 900 × 500", what, r.Dx(), r.Dy())
 		}
-		resp, b = get("/run/1/figure.svg?field=vorticity")
+		resp, b = request("/run/1/figure.svg?field=vorticity")
 		if resp.StatusCode != 200 || !strings.HasPrefix(resp.Header.Get("Content-Type"), "image/svg+xml") {
 			t.Fatalf("%s SVG: %s, %s: %s", what, resp.Status, resp.Header.Get("Content-Type"), b)
 		}
@@ -323,8 +323,8 @@ func TestFigure(t *testing.T) {
 		if root != "svg" || polygons == 0 {
 			t.Errorf("%s SVG: root <%s>, %d polygons", what, root, polygons)
 		}
-		writeArtifact(t, "figure-"+what+"-depth.png", mustGet(t, base+"/run/1/figure.png"))
-		writeArtifact(t, "figure-"+what+"-vorticity.png", mustGet(t, base+"/run/1/figure.png?field=vorticity&width=1200&height=700"))
+		writeArtifact(t, "figure-"+what+"-depth.png", get(t, base+"/run/1/figure.png"))
+		writeArtifact(t, "figure-"+what+"-vorticity.png", get(t, base+"/run/1/figure.png?field=vorticity&width=1200&height=700"))
 		writeArtifact(t, "figure-"+what+"-vorticity.svg", b)
 	}
 	check("plane")
@@ -335,12 +335,12 @@ func TestFigure(t *testing.T) {
 		{"field=temperature", "temperature"},
 		{"colour=red", "colour"},
 	} {
-		resp, b := get("/run/1/figure.png?" + c.query)
+		resp, b := request("/run/1/figure.png?" + c.query)
 		if resp.StatusCode != http.StatusBadRequest || !strings.Contains(string(b), c.says) {
 			t.Errorf("figure.png?%s: %s %q; want 400 naming %s", c.query, resp.Status, b, c.says)
 		}
 	}
-	if resp, _ := get("/run/9/figure.png"); resp.StatusCode != http.StatusNotFound {
+	if resp, _ := request("/run/9/figure.png"); resp.StatusCode != http.StatusNotFound {
 		t.Errorf("figure of a run that does not exist: %s", resp.Status)
 	}
 
@@ -369,20 +369,6 @@ func parseSVG(b []byte) (polygons int, root string, err error) {
 			}
 		}
 	}
-}
-
-func mustGet(t *testing.T, url string) []byte {
-	t.Helper()
-	resp, err := http.Get(url)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer resp.Body.Close()
-	b, err := io.ReadAll(resp.Body)
-	if err != nil || resp.StatusCode != 200 {
-		t.Fatalf("GET %s: %v %s", url, err, resp.Status)
-	}
-	return b
 }
 
 func writeArtifact(t *testing.T, name string, b []byte) {
