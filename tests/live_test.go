@@ -223,14 +223,14 @@ func TestLiveRun(t *testing.T) {
 	cl.mustAck("pause", nil, nil)
 }
 
-// stepsPerSecond measures the run's rate over the next n steps from the
-// server's own clock in status messages: the simulation's speed, not the
-// test's.
-func stepsPerSecond(cl *client, n int64) float64 {
+// stepsPerSecond measures the run's rate over a window of at least d of
+// the server's own clock, from its status messages: the simulation's
+// speed, not the test's.
+func stepsPerSecond(cl *client, d time.Duration) float64 {
 	cl.t.Helper()
 	var s0 msg
 	var rate float64
-	cl.until(60*time.Second, "status messages", func(m msg) bool {
+	cl.until(d+60*time.Second, "status messages", func(m msg) bool {
 		if m.Type != "status" || m.State != server.StateRunning {
 			return false
 		}
@@ -238,7 +238,7 @@ func stepsPerSecond(cl *client, n int64) float64 {
 			s0 = m
 			return false
 		}
-		if m.Steps >= s0.Steps+n {
+		if m.WallS-s0.WallS >= d.Seconds() && m.Steps > s0.Steps {
 			rate = float64(m.Steps-s0.Steps) / (m.WallS - s0.WallS)
 			return true
 		}
@@ -249,43 +249,59 @@ func stepsPerSecond(cl *client, n int64) float64 {
 
 // TestSlowReader: a client that never reads must not slow the run by
 // more than 10 %, and once it reads it learns that it missed frames.
+//
+// Speed on a shared machine drifts, so the comparison is paired: each
+// window with the slow client connected is set against the mean of the
+// windows without it just before and just after, and the median of those
+// ratios must be at least 0.9. Outside load that lasts longer than a
+// window cancels in each ratio; a burst inside one window moves one ratio,
+// which the median ignores. Under -short (the race-detector pass, where
+// the run is ~25 times slower and its speed says nothing about the
+// server's) the rates are printed, not judged; the full suite judges them.
 func TestSlowReader(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
 	cl := dial(t, base, "1")
 	cl.mustAck("play", nil, nil)
-	n := int64(2000)
-	if testing.Short() { // the race detector makes the run ~25 times slower
-		n = 200
+	window, rounds := 1500*time.Millisecond, 7
+	if testing.Short() {
+		window, rounds = 500*time.Millisecond, 2
 	}
-	stepsPerSecond(cl, n/4) // settle
+	stepsPerSecond(cl, window/2) // settle
 
-	// Alternate with and without the slow client and keep the best rate of
-	// each: other load on a shared machine only ever slows a window down,
-	// so the best of several short windows estimates each condition's own
-	// speed. Three rounds at least, more (up to eight) while the two
-	// disagree, to ride out a burst of outside load.
-	var with, without float64
+	without := []float64{stepsPerSecond(cl, window)}
+	var with, ratios []float64
 	var slow *websocket.Conn
-	round := 0
-	for ; round < 8 && (round < 3 || with < 0.9*without); round++ {
-		if slow != nil {
-			slow.CloseNow()
-		}
-		without = math.Max(without, stepsPerSecond(cl, n))
+	for range rounds {
 		// Never read: the server's writes to it stall once the socket
 		// buffers fill, and its frames are replaced in its slot.
 		slow = dialRaw(t, base, "1")
-		with = math.Max(with, stepsPerSecond(cl, n))
+		with = append(with, stepsPerSecond(cl, window))
+		slow.CloseNow()
+		without = append(without, stepsPerSecond(cl, window))
+		k := len(with) - 1
+		ratios = append(ratios, with[k]/((without[k]+without[k+1])/2))
 	}
-	t.Logf("steps/s, best of %d rounds: %.0f without the slow client, %.0f with it (%+.1f %%)", round, without, with, 100*(with/without-1))
-	if with < 0.9*without {
-		t.Errorf("a client that never reads slowed the run from %.0f to %.0f steps/s (more than 10 %%)", without, with)
+	// The last slow client stays for the checks on skipped frames below.
+	slow = dialRaw(t, base, "1")
+	med := median(ratios)
+	t.Logf("steps/s without the slow client %.0f, with it %.0f; paired ratios %.3f, median %.3f",
+		without, with, ratios, med)
+	if !testing.Short() && med < 0.9 {
+		t.Errorf("a client that never reads slowed the run: median paired ratio of steps/s with and without it %.3f, want ≥ 0.9 (ratios %.3f)", med, ratios)
 	}
 
-	// The run reports that it skipped frames for someone; then the slow
-	// client reads, and its next frame tells it how many it missed.
-	cl.until(30*time.Second, "the run to report skipped frames", func(m msg) bool {
-		return m.Type == "status" && m.Skipped > 0
+	// The run's count of skipped frames grows while the slow client's
+	// socket is full; then the slow client reads, and its next frame tells
+	// it how many it missed.
+	var first int64 = -1
+	cl.until(30*time.Second, "the run to report more skipped frames", func(m msg) bool {
+		if m.Type != "status" {
+			return false
+		}
+		if first < 0 {
+			first = m.Skipped
+		}
+		return m.Skipped >= first+3
 	})
 	sc := &client{t: t, c: slow, in: make(chan msg, 1<<14)}
 	ctx, stop := contextFor(t)

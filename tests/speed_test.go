@@ -78,7 +78,7 @@ func BenchmarkStreamToClient(b *testing.B) {
 		_, url := startServer(b, server.Options{Workers: speedWorkers, Scenario: writeScenario(b, "hex128", hex128)})
 		cl := dial(b, url, "1")
 		cl.mustAck("play", nil, nil)
-		stepsPerSecond(cl, 50) // settle
+		stepsPerSecond(cl, 500*time.Millisecond) // settle
 		var frames, bytes int
 		t0 := time.Now()
 		var s0, s1 msg
