@@ -23,10 +23,12 @@ import (
 // Labels for people; the wire names are the engine's.
 var (
 	schemeLabels = map[string]string{
-		scheme.TRiSKEnergy:    "TRiSK, energy-conserving",
-		scheme.TRiSKEnstrophy: "TRiSK, enstrophy-conserving",
-		scheme.APVM:           "TRiSK with anticipated PV (APVM)",
-		scheme.AL81:           "Arakawa–Lamb 1981 (quad only)",
+		scheme.TRiSKEnergy:       "TRiSK, energy-conserving",
+		scheme.TRiSKEnstrophy:    "TRiSK, enstrophy-conserving",
+		scheme.APVM:              "TRiSK with anticipated PV (APVM)",
+		scheme.AL81:              "Arakawa–Lamb 1981 (quad only)",
+		scheme.SadournyEnergy:    "Sadourny 1975, energy-conserving (quad only)",
+		scheme.SadournyEnstrophy: "Sadourny 1975, enstrophy-conserving (quad only)",
 	}
 	integratorLabels = map[string]string{
 		step.RK3:      "Runge–Kutta, 3rd order",

@@ -135,9 +135,9 @@ func (c *Config) Validate() error {
 	if !contains(scheme.Names, c.Scheme.Name) {
 		return fmt.Errorf("scheme.name = %q: unknown; allowed: %s", c.Scheme.Name, strings.Join(scheme.Names, ", "))
 	}
-	if c.Scheme.Name == scheme.AL81 && c.Grid.Kind != string(mesh.Quad) {
+	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind != string(mesh.Quad) {
 		return fmt.Errorf("scheme.name = %q is available on grid.kind = \"quad\" only; on %q use one of: %s",
-			c.Scheme.Name, c.Grid.Kind, strings.Join([]string{scheme.TRiSKEnergy, scheme.TRiSKEnstrophy, scheme.APVM}, ", "))
+			c.Scheme.Name, c.Grid.Kind, strings.Join(scheme.Anywhere(), ", "))
 	}
 	if c.Scheme.APVMFactor < 0 {
 		return fmt.Errorf("scheme.apvm_factor = %g: must be ≥ 0", c.Scheme.APVMFactor)

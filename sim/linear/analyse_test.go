@@ -44,6 +44,8 @@ func TestQuadDispersionMatchesCGrid(t *testing.T) {
 		{"al81", 8, func(c *sim.Config) { c.Scheme.Name = scheme.AL81 }},
 		{"trisk-enstrophy", 8, func(c *sim.Config) { c.Scheme.Name = scheme.TRiSKEnstrophy }},
 		{"apvm", 8, func(c *sim.Config) { c.Scheme.Name = scheme.APVM }},
+		{"sadourny-energy", 8, func(c *sim.Config) { c.Scheme.Name = scheme.SadournyEnergy }},
+		{"sadourny-enstrophy", 8, func(c *sim.Config) { c.Scheme.Name = scheme.SadournyEnstrophy }},
 		{"no rotation", 8, func(c *sim.Config) { c.Physics.F0 = 0 }},
 		{"deep, strong rotation", 8, func(c *sim.Config) { c.Physics.Depth, c.Physics.F0 = 4000, 1.4e-4 }},
 	} {

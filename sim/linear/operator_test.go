@@ -65,8 +65,12 @@ func TestAssembledMatchesHandDerived(t *testing.T) {
 		{mesh.Quad, 4, scheme.TRiSKEnergy, 0, false},
 		{mesh.Quad, 4, scheme.TRiSKEnergy, 2e-11, false},
 		{mesh.Quad, 5, scheme.TRiSKEnstrophy, 2e-11, true},
-		// Arakawa–Lamb (1981) reduces to TRiSK for uniform q (al81.go).
+		// Arakawa–Lamb (1981) reduces to TRiSK for uniform q (square.go).
 		{mesh.Quad, 4, scheme.AL81, 0, false},
+		{mesh.Quad, 4, scheme.SadournyEnergy, 0, false},
+		// Sadourny's (1975) enstrophy scheme is trisk-enstrophy on squares,
+		// with variable f too.
+		{mesh.Quad, 5, scheme.SadournyEnstrophy, 2e-11, true},
 		// The APVM correction is a product of two perturbations at rest, so
 		// its linearisation is that of trisk-energy; this also exercises the
 		// cubic terms that the Richardson step removes.

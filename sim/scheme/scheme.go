@@ -22,6 +22,9 @@
 //     al. 2010, §5: from memory). It dissipates potential enstrophy.
 //   - al81: Arakawa & Lamb (1981, Mon. Wea. Rev. 109, 18–36), conserving
 //     energy and potential enstrophy on the square grid only.
+//   - sadourny-energy, sadourny-enstrophy: the two schemes of Sadourny
+//     (1975, J. Atmos. Sci. 32, 680–689), square grid only, conserving
+//     energy and potential enstrophy respectively.
 //
 // A scheme sees topology and metric (ops.Grid), never coordinates.
 // Tendency allocates nothing; its loops run on a par.Pool and give
@@ -41,14 +44,22 @@ import (
 
 // Scheme names.
 const (
-	TRiSKEnergy    = "trisk-energy"
-	TRiSKEnstrophy = "trisk-enstrophy"
-	APVM           = "apvm"
-	AL81           = "al81"
+	TRiSKEnergy       = "trisk-energy"
+	TRiSKEnstrophy    = "trisk-enstrophy"
+	APVM              = "apvm"
+	AL81              = "al81"
+	SadournyEnergy    = "sadourny-energy"
+	SadournyEnstrophy = "sadourny-enstrophy"
 )
 
 // Names lists every scheme.
-var Names = []string{TRiSKEnergy, TRiSKEnstrophy, APVM, AL81}
+var Names = []string{TRiSKEnergy, TRiSKEnstrophy, APVM, AL81, SadournyEnergy, SadournyEnstrophy}
+
+// SquareOnly reports whether the named scheme is written for the square
+// grid only.
+func SquareOnly(name string) bool {
+	return name == AL81 || name == SadournyEnergy || name == SadournyEnstrophy
+}
 
 // Physics holds the fields a tendency needs besides the state.
 type Physics struct {
@@ -78,7 +89,18 @@ func Available(g ops.Grid) []string {
 	if isSquare(g) {
 		return Names
 	}
-	return []string{TRiSKEnergy, TRiSKEnstrophy, APVM}
+	return Anywhere()
+}
+
+// Anywhere returns the schemes that run on every grid.
+func Anywhere() []string {
+	var out []string
+	for _, n := range Names {
+		if !SquareOnly(n) {
+			out = append(out, n)
+		}
+	}
+	return out
 }
 
 // isSquare reports whether every cell has four edges and every vertex four
@@ -114,11 +136,11 @@ func New(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options) (Sc
 	switch name {
 	case TRiSKEnergy, TRiSKEnstrophy, APVM:
 		return newTRiSK(name, g, phys, pool, opt), nil
-	case AL81:
+	case AL81, SadournyEnergy, SadournyEnstrophy:
 		if !isSquare(g) {
 			return nil, fmt.Errorf("scheme.name = %q needs the quad grid; available on this grid: %s", name, strings.Join(Available(g), ", "))
 		}
-		return newAL81(g, phys, pool), nil
+		return newSquare(name, g, phys, pool), nil
 	}
 	return nil, fmt.Errorf("scheme.name = %q: unknown; allowed: %s", name, strings.Join(Names, ", "))
 }

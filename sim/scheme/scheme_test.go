@@ -101,7 +101,10 @@ func rates(f fixture, dx []float64) (dm, sm, de, se, dz, sz float64) {
 // (|dX/dt| ≤ 1e-12 Σ|terms|) where theory says it is conserved: energy for
 // trisk-energy (Ringler et al. 2010, J. Comput. Phys. 229, §4) and al81
 // (Arakawa & Lamb 1981, Mon. Wea. Rev. 109, §3), potential enstrophy for
-// trisk-enstrophy (Ringler et al. 2010, §5) and al81. The partner scheme of
+// trisk-enstrophy (Ringler et al. 2010, §5) and al81; energy for
+// sadourny-energy and potential enstrophy for sadourny-enstrophy (Sadourny
+// 1975, J. Atmos. Sci. 32, the two schemes' conserved integrals, as
+// restated by Arakawa & Lamb 1981, §3). The partner scheme of
 // each pair must miss the bound by orders of magnitude, so the bound is
 // not met trivially.
 func TestSemiDiscreteConservation(t *testing.T) {
@@ -115,6 +118,8 @@ func TestSemiDiscreteConservation(t *testing.T) {
 		{TRiSKEnstrophy, []mesh.Kind{mesh.Quad, mesh.Hex, mesh.Tri}, false, true},
 		{APVM, []mesh.Kind{mesh.Quad, mesh.Hex, mesh.Tri}, true, false},
 		{AL81, []mesh.Kind{mesh.Quad}, true, true},
+		{SadournyEnergy, []mesh.Kind{mesh.Quad}, true, false},
+		{SadournyEnstrophy, []mesh.Kind{mesh.Quad}, false, true},
 	}
 	pool := par.New(1)
 	for _, c := range cases {
@@ -149,6 +154,42 @@ func TestSemiDiscreteConservation(t *testing.T) {
 				check("E", c.energy, de, se)
 				check("Z", c.enstroph, dz, sz)
 			}
+		}
+	}
+}
+
+// TestSadournyEnstrophyIsTRiSK: on square and rectangular cells the TRiSK
+// weights are ±1/4 l_e'/d_e on the four cross edges and 0 on the parallel
+// ones, so trisk-enstrophy's q_e Σ w F is Sadourny's (1975) enstrophy
+// scheme term \bar q^y \bar{\bar V}^{xy}. Two codes written independently
+// (the TRiSK sums and the square-grid stencil) must agree to round-off;
+// sadourny-energy and trisk-energy weight q differently and must not.
+func TestSadournyEnstrophyIsTRiSK(t *testing.T) {
+	for _, height := range []float64{0, 0.8 * 2e6} {
+		f := randomFixtureOn(t, mesh.Spec{Kind: mesh.Quad, N: 12, Length: 2e6, Height: height}, 5)
+		tend := func(name string) []float64 {
+			s, err := New(name, f.g, f.phys, par.New(1), Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			dx := make([]float64, len(f.x))
+			s.Tendency(dx, f.x)
+			return dx
+		}
+		// worst |a − b| over the velocity tendencies, against their size.
+		gap := func(a, b []float64) float64 {
+			var d, size float64
+			for k := f.m.NCells; k < len(a); k++ {
+				d = max(d, math.Abs(a[k]-b[k]))
+				size = max(size, math.Abs(a[k]))
+			}
+			return d / size
+		}
+		if r := gap(tend(SadournyEnstrophy), tend(TRiSKEnstrophy)); r > 1e-13 {
+			t.Errorf("height %g: sadourny-enstrophy and trisk-enstrophy differ by %.3g of the tendency, want round-off", height, r)
+		}
+		if r := gap(tend(SadournyEnergy), tend(TRiSKEnergy)); r < 1e-6 {
+			t.Errorf("height %g: sadourny-energy and trisk-energy differ by only %.3g: expected different PV weightings", height, r)
 		}
 	}
 }
