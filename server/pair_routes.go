@@ -15,7 +15,6 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
-	"gyrebench/sim/scheme"
 	"gyrebench/sim/step"
 	"gyrebench/web"
 )
@@ -225,7 +224,7 @@ func (ps *pairs) renderNew(w http.ResponseWriter, req *http.Request, base, msg s
 	same := web.Option{Value: "", Label: "as the base", Selected: true}
 	v := web.PairNewView{
 		Bases:       bases,
-		Schemes:     append([]web.Option{same}, options(scheme.Names, schemeLabels, "")...),
+		Schemes:     append([]web.Option{same}, schemeOptions("")...),
 		Integrators: append([]web.Option{same}, options(step.Names, integratorLabels, "")...),
 		Grids:       append([]web.Option{same}, options(gridKinds, gridLabels, "")...),
 		Message:     msg,
@@ -258,7 +257,7 @@ func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {
 		v.Sides[i] = web.PairSide{
 			Side:        sideNames[i],
 			Name:        strings.ToUpper(sideNames[i]),
-			Schemes:     options(scheme.Names, schemeLabels, s.Scheme),
+			Schemes:     schemeOptions(s.Scheme),
 			Integrators: options(step.Names, integratorLabels, s.Integrator),
 			Grids:       options(gridKinds, gridLabels, s.Grid),
 			Dt:          strconv.FormatFloat(s.Dt, 'g', -1, 64),

@@ -105,6 +105,16 @@ func options(names []string, labels map[string]string, selected string) []web.Op
 	return opts
 }
 
+// schemeOptions is the scheme menu; each entry carries the line saying
+// what the scheme conserves.
+func schemeOptions(selected string) []web.Option {
+	opts := options(scheme.Names, schemeLabels, selected)
+	for i := range opts {
+		opts[i].Note = scheme.Conserves(opts[i].Value)
+	}
+	return opts
+}
+
 func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
 	run := s.Run(chi.URLParam(req, "id"))
 	if run == nil {
@@ -119,7 +129,7 @@ func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
 	v := web.RunView{
 		ID: in.ID, Title: in.Title, Scenario: in.Scenario,
 		Scenarios:   s.scenarioOptions(in.Scenario),
-		Schemes:     options(scheme.Names, schemeLabels, in.Scheme),
+		Schemes:     schemeOptions(in.Scheme),
 		Integrators: options(step.Names, integratorLabels, in.Integrator),
 		Grids:       options(gridKinds, gridLabels, in.Grid),
 		Fields:      fields,

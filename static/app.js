@@ -19,7 +19,7 @@ const el = {
   canvas: $('field-canvas'), bar: $('colour-bar'), plot: $('series-plot'),
   state: $('run-state'), time: $('sim-time'), steps: $('steps'), rates: $('rates'),
   play: $('play-pause'), step: $('step-once'), reset: $('reset'),
-  scheme: $('scheme-select'), integrator: $('integrator-select'), dt: $('dt-input'), dtHint: $('dt-hint'),
+  scheme: $('scheme-select'), schemeHint: $('scheme-hint'), integrator: $('integrator-select'), dt: $('dt-input'), dtHint: $('dt-hint'),
   grid: $('grid-select'), n: $('resolution-input'), gridHint: $('grid-hint'),
   field: $('field-select'), scenario: $('scenario-select'), load: $('load-scenario'),
   scrub: $('scrub'), scrubLabel: $('scrub-label'), message: $('message'), blowup: $('blowup'),
@@ -279,6 +279,8 @@ function showConfig() {
   el.title.textContent = c.title;
   document.title = `${c.title} · gyrebench`;
   el.scheme.value = c.scheme;
+  const chosen = el.scheme.selectedOptions[0];
+  el.schemeHint.textContent = chosen ? chosen.dataset.note || '' : '';
   el.integrator.value = c.integrator;
   el.grid.value = c.grid.kind;
   el.field.value = c.field;

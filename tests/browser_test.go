@@ -220,6 +220,14 @@ func TestBrowser(t *testing.T) {
 	}
 	screenshot(t, ctx, "", "04-quad-grid.png")
 
+	// The line under the scheme menu says what the chosen scheme conserves
+	// and follows a switch to a quad-only scheme.
+	if h := eval[string](t, ctx, role("scheme-hint")+`.textContent`); h != "conserves mass and energy" {
+		t.Errorf("scheme-hint for trisk-energy = %q, want %q", h, "conserves mass and energy")
+	}
+	choose(t, ctx, "scheme-select", "sadourny-enstrophy")
+	poll(t, ctx, "the hint for sadourny-enstrophy", role("scheme-hint")+`.textContent === 'conserves mass and potential enstrophy; quad grid only'`, wait)
+
 	// A signed field on the dual polygons, large type and a closer look.
 	choose(t, ctx, "field-select", "vorticity")
 	poll(t, ctx, "the vorticity field", role("field-canvas")+`.dataset.field === 'vorticity'`, wait)

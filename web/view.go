@@ -13,6 +13,7 @@ type Option struct {
 	Value    string // wire name
 	Label    string // for people
 	Title    string // tooltip
+	Note     string // a line the page shows under the menu while this is chosen
 	Selected bool
 }
 

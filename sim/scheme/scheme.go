@@ -61,6 +61,27 @@ func SquareOnly(name string) bool {
 	return name == AL81 || name == SadournyEnergy || name == SadournyEnstrophy
 }
 
+// Conserves says which integrals the named scheme conserves exactly in
+// semi-discrete form, as TestSemiDiscreteConservation checks, and where
+// it runs; "" for an unknown name.
+func Conserves(name string) string {
+	switch name {
+	case TRiSKEnergy:
+		return "conserves mass and energy"
+	case TRiSKEnstrophy:
+		return "conserves mass and potential enstrophy"
+	case APVM:
+		return "conserves mass and energy; dissipates potential enstrophy"
+	case AL81:
+		return "conserves mass, energy and potential enstrophy; quad grid only"
+	case SadournyEnergy:
+		return "conserves mass and energy; quad grid only"
+	case SadournyEnstrophy:
+		return "conserves mass and potential enstrophy; quad grid only"
+	}
+	return ""
+}
+
 // Physics holds the fields a tendency needs besides the state.
 type Physics struct {
 	G       float64   // gravity, m s⁻²
