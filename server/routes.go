@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"net/http"
 	"net/url"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -147,8 +148,17 @@ func (s *Server) serveRuns(w http.ResponseWriter, req *http.Request) {
 }
 
 func (s *Server) renderRuns(w http.ResponseWriter, req *http.Request, msg string, code int) {
-	v := web.RunsView{Scenarios: s.scenarioOptions(scenarios.Default), Message: msg}
-	for _, r := range s.Runs() {
+	// Offer the newest run's scenario when it is a built-in: starting
+	// another run of what one is watching is the common case.
+	runs := s.Runs()
+	pick := scenarios.Default
+	if len(runs) > 0 {
+		if name := runs[len(runs)-1].Info().Scenario; slices.Contains(scenarios.Names(), name) {
+			pick = name
+		}
+	}
+	v := web.RunsView{Scenarios: s.scenarioOptions(pick), Message: msg}
+	for _, r := range runs {
 		in := r.Info()
 		v.Runs = append(v.Runs, web.RunRow{
 			ID: in.ID, Scenario: in.Scenario, Title: in.Title,

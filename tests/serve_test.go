@@ -6,6 +6,7 @@ import (
 	"io"
 	"net/http"
 	"net/url"
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -164,6 +165,11 @@ func TestRunsAndWatchers(t *testing.T) {
 		}
 		return false
 	})
+	// The runs page now offers the newest run's scenario for the next one.
+	if page := string(get(t, base+"/runs")); !strings.Contains(page, `<option value="dipole"`) ||
+		!regexp.MustCompile(`<option value="dipole"[^>]* selected`).MatchString(page) {
+		t.Errorf("the runs page does not preselect the newest run's scenario, dipole")
+	}
 
 	// Refusals: an unknown scenario, a cross-site form, a cross-site
 	// websocket.
