@@ -103,8 +103,8 @@ func rates(f fixture, dx []float64) (dm, sm, de, se, dz, sz float64) {
 // (Arakawa & Lamb 1981, Mon. Wea. Rev. 109, §3), potential enstrophy for
 // trisk-enstrophy (Ringler et al. 2010, §5) and al81; energy for
 // sadourny-energy and potential enstrophy for sadourny-enstrophy (Sadourny
-// 1975, J. Atmos. Sci. 32, the two schemes' conserved integrals, as
-// restated by Arakawa & Lamb 1981, §3). The partner scheme of
+// 1975, J. Atmos. Sci. 32: each scheme is named for what it conserves;
+// from memory). The partner scheme of
 // each pair must miss the bound by orders of magnitude, so the bound is
 // not met trivially.
 func TestSemiDiscreteConservation(t *testing.T) {

@@ -6,7 +6,8 @@ import (
 )
 
 // square holds the schemes written for the square C-grid: al81 and the two
-// schemes of Sadourny (1975, J. Atmos. Sci. 32, 680–689). Each is written
+// schemes of Sadourny (1975, J. Atmos. Sci. 32, 680–689; citation from
+// memory, the schemes checked by their conservation). Each is written
 // for any edge in its own frame: n_e is "east", t_e = k × n_e is "north",
 // c0 lies west and c1 east of the edge. Then
 //
