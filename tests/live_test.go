@@ -281,7 +281,7 @@ func TestSlowReader(t *testing.T) {
 		k := len(with) - 1
 		ratios = append(ratios, with[k]/((without[k]+without[k+1])/2))
 	}
-	// The last slow client stays for the checks on skipped frames below.
+	// A fresh slow client, kept for the checks on skipped frames below.
 	slow = dialRaw(t, base, "1")
 	med := median(ratios)
 	t.Logf("steps/s without the slow client %.0f, with it %.0f; paired ratios %.3f, median %.3f",
