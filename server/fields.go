@@ -61,9 +61,9 @@ type fieldScratch struct {
 func newFieldScratch(m *sim.Model) *fieldScratch {
 	msh := m.Mesh()
 	return &fieldScratch{
-		zeta: make([]float64, msh.NVertices),
-		pv:   make([]float64, msh.NVertices),
-		cell: make([]float64, msh.NCells),
+		zeta: make([]float64, msh.NumVertices),
+		pv:   make([]float64, msh.NumVertices),
+		cell: make([]float64, msh.NumCells),
 	}
 }
 

@@ -378,7 +378,7 @@ func (p *Pair) checkGrid() {
 	ca, cb := a.Config().Grid, b.Config().Grid
 	ma, mb := a.Mesh(), b.Mesh()
 	p.same = ca.Kind == cb.Kind && ca.N == cb.N && optimizeName(ca.Optimize) == optimizeName(cb.Optimize) &&
-		ma.NCells == mb.NCells && ma.NEdges == mb.NEdges && ma.NVertices == mb.NVertices && ma.Surface == mb.Surface
+		ma.NumCells == mb.NumCells && ma.NumEdges == mb.NumEdges && ma.NumVertices == mb.NumVertices && ma.Surface == mb.Surface
 }
 
 // buildDiff encodes A − B of the field shown, on A's grid, or returns nil

@@ -134,7 +134,7 @@ func drawPeriods(m *mesh.Mesh) (float64, float64) {
 // is in the package documentation; the sphere is drawn in longitude and
 // latitude (degrees), periodic in longitude only.
 func encodeGeometry(m *mesh.Mesh, gen uint32) []byte {
-	nc, nv := m.NCells, m.NVertices
+	nc, nv := m.NumCells, m.NumVertices
 	px, py := drawPeriods(m)
 	ncp, ndp := len(m.CellVertices), len(m.VertexCells)
 	size := 48 + 4*(nc+1) + 4*(nv+1) + 8*ncp + 8*ndp

@@ -292,9 +292,9 @@ func (r *Run) blownUp(bu *sim.BlowUpError, err error) {
 	msh := r.m.Mesh()
 	b := &blowInfo{Step: bu.Step, T: num(bu.Time), Cell: bu.Cell, Edge: bu.Edge, Value: num(bu.Value), Message: err.Error(), Dt: r.m.Config().Time.Dt}
 	switch {
-	case bu.Cell >= 0 && bu.Cell < msh.NCells:
+	case bu.Cell >= 0 && bu.Cell < msh.NumCells:
 		b.X, b.Y = drawXY(msh, msh.CellX, msh.CellY, msh.CellZ, bu.Cell)
-	case bu.Edge >= 0 && bu.Edge < msh.NEdges:
+	case bu.Edge >= 0 && bu.Edge < msh.NumEdges:
 		b.X, b.Y = drawXY(msh, msh.EdgeX, msh.EdgeY, msh.EdgeZ, bu.Edge)
 	default:
 		b.X, b.Y = num(math.NaN()), num(math.NaN())
@@ -576,7 +576,7 @@ func (r *Run) configMsg() outMsg {
 		Limits     limits `json:"limits"`
 	}{
 		"config", r.scenario, r.title,
-		grid{cfg.Grid.Kind, cfg.Grid.N, msh.Surface.Lx, msh.Surface.Ly, msh.NCells, msh.NEdges, msh.NVertices, msh.Surface.Sphere, optimizeName(cfg.Grid.Optimize)},
+		grid{cfg.Grid.Kind, cfg.Grid.N, msh.Surface.Lx, msh.Surface.Ly, msh.NumCells, msh.NumEdges, msh.NumVertices, msh.Surface.Sphere, optimizeName(cfg.Grid.Optimize)},
 		cfg.Scheme.Name, cfg.Time.Integrator, num(cfg.Time.Dt), r.field.Name,
 		limits{DtMax: r.dtMax(), NMax: nmax, NMin: 4, NMinKind: nMinByKind()},
 	})}
@@ -633,7 +633,7 @@ func (r *Run) publishInfo() {
 	cfg := r.m.Config()
 	r.info.Store(&RunInfo{
 		ID: r.id, Scenario: r.scenario, Title: r.title,
-		Grid: cfg.Grid.Kind, N: cfg.Grid.N, Cells: r.m.Mesh().NCells,
+		Grid: cfg.Grid.Kind, N: cfg.Grid.N, Cells: r.m.Mesh().NumCells,
 		Scheme: cfg.Scheme.Name, Integrator: cfg.Time.Integrator, Dt: cfg.Time.Dt,
 		Field: r.field.Name, State: r.state, Time: r.m.Time(), Steps: r.m.Steps(), Subscribers: len(r.subs),
 	})

@@ -26,7 +26,7 @@ func BenchmarkStep(b *testing.B) {
 						b.Fatal(err)
 					}
 				}
-				b.ReportMetric(float64(m.Mesh().NCells)*float64(b.N)/b.Elapsed().Seconds(), "cell-steps/s")
+				b.ReportMetric(float64(m.Mesh().NumCells)*float64(b.N)/b.Elapsed().Seconds(), "cell-steps/s")
 			})
 		}
 	}

@@ -80,7 +80,7 @@ func NewModel(cfg Config, workers int) (*Model, error) {
 // the initial condition and a non-nil bottom the case's bottom height.
 func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float64) (*Model, error) {
 	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
-	nc, ne := msh.NCells, msh.NEdges
+	nc, ne := msh.NumCells, msh.NumEdges
 	m.x = make([]float64, nc+ne)
 	cs, err := cases.Lookup(cfg.Initial.Case)
 	if err != nil {
@@ -116,7 +116,7 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float
 		return nil, fmt.Errorf("initial.case = %q gives an invalid initial state: %v (is physics.depth large enough?)", cfg.Initial.Case, bad.Error())
 	}
 	if workers <= 0 {
-		workers = AutoWorkers(msh.NCells)
+		workers = AutoWorkers(msh.NumCells)
 	}
 	m.pool = par.New(workers)
 	if err := m.setScheme(cfg.Scheme.Name); err != nil {
@@ -136,7 +136,7 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float
 // 2Ω (axis · r̂) on the sphere: 2Ω sin(latitude) for the z axis, and the
 // rotated f of Williamson et al. (1992) case 2 for a tilted axis.
 func Coriolis(msh *mesh.Mesh, p PhysicsConfig, axis [3]float64) []float64 {
-	f := make([]float64, msh.NVertices)
+	f := make([]float64, msh.NumVertices)
 	for v := range f {
 		if msh.Surface.Sphere {
 			r := axis[0]*msh.VertexX[v] + axis[1]*msh.VertexY[v] + axis[2]*msh.VertexZ[v]
@@ -176,8 +176,8 @@ func (m *Model) Mesh() *mesh.Mesh { return m.mesh }
 func (m *Model) State() []float64 { return m.x }
 
 // Depth returns h on cells; Velocity returns u on edges. Read-only.
-func (m *Model) Depth() []float64    { return m.x[:m.mesh.NCells] }
-func (m *Model) Velocity() []float64 { return m.x[m.mesh.NCells:] }
+func (m *Model) Depth() []float64    { return m.x[:m.mesh.NumCells] }
+func (m *Model) Velocity() []float64 { return m.x[m.mesh.NumCells:] }
 
 // Time returns the simulated time in seconds; Steps the steps taken.
 func (m *Model) Time() float64 { return m.time }
@@ -282,7 +282,7 @@ func (m *Model) Step() error {
 // without a branch per value and looks for the culprit only in a block
 // that failed: the scan runs after every step.
 func (m *Model) check() *BlowUpError {
-	nc := m.mesh.NCells
+	nc := m.mesh.NumCells
 	const block = 512
 	h, u := m.x[:nc], m.x[nc:]
 	for lo := 0; lo < len(h); lo += block {
@@ -366,11 +366,11 @@ func (m *Model) RegridOptimize(kind string, n int, optimize string) (*Model, err
 	if err != nil {
 		return nil, fmt.Errorf("grid.kind = %q, grid.n = %d: %w", kind, n, err)
 	}
-	x := make([]float64, msh.NCells+msh.NEdges)
+	x := make([]float64, msh.NumCells+msh.NumEdges)
 	r.Apply(x, m.x)
 	var bottom []float64
 	if m.phys.Bottom != nil {
-		bottom = make([]float64, msh.NCells)
+		bottom = make([]float64, msh.NumCells)
 		r.Cells(bottom, m.phys.Bottom)
 	}
 	nm, err := newModelOn(cfg, msh, m.workers, x, bottom)

@@ -13,7 +13,7 @@ func TestCheckFindsFirstBadValue(t *testing.T) {
 	cfg := DefaultConfig()
 	cfg.Grid = GridConfig{Kind: "hex", N: 32, Length: 1e6}
 	m := mustModel(t, cfg, 1)
-	nc := m.Mesh().NCells
+	nc := m.Mesh().NumCells
 	good := append([]float64(nil), m.State()...)
 	type bad struct {
 		at int // index in the state vector

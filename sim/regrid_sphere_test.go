@@ -67,8 +67,8 @@ func TestRegridSphereKeepsMass(t *testing.T) {
 			if nm.Time() != m.Time() || nm.Steps() != m.Steps() || nm.Initial() != m.Initial() {
 				t.Errorf("%s: regrid to level %d: time, steps or reference invariants not carried over", c.name, n)
 			}
-			if s := nm.Mesh(); s.N != n || s.NCells != 10<<(2*n)+2 || s.Surface != m.Mesh().Surface {
-				t.Errorf("%s: regrid to level %d gives level %d, %d cells, surface %+v", c.name, n, s.N, s.NCells, s.Surface)
+			if s := nm.Mesh(); s.N != n || s.NumCells != 10<<(2*n)+2 || s.Surface != m.Mesh().Surface {
+				t.Errorf("%s: regrid to level %d gives level %d, %d cells, surface %+v", c.name, n, s.N, s.NumCells, s.Surface)
 			}
 			m = nm
 			runFor(t, m, 6*3600)

@@ -18,7 +18,7 @@ func eddyVorticity(m *sim.Model, zeta []float64) float64 {
 	msh := m.Mesh()
 	const bands = 180
 	var sum, area [bands]float64
-	band := make([]int, msh.NVertices)
+	band := make([]int, msh.NumVertices)
 	for v := range band {
 		lat := math.Asin(msh.VertexZ[v]/msh.Surface.Radius) * 180 / math.Pi
 		band[v] = min(int(lat+90), bands-1)
@@ -80,7 +80,7 @@ func TestGalewskyJet(t *testing.T) {
 		defer m.Close()
 		runs[k] = m
 	}
-	nv := runs[0].Mesh().NVertices
+	nv := runs[0].Mesh().NumVertices
 	zp, zu, diff := make([]float64, nv), make([]float64, nv), make([]float64, nv)
 	var dailyDiff, eddyP, eddyU []float64
 	for day := 0; day <= 6; day++ {

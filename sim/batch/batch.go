@@ -314,7 +314,7 @@ func (r *runner) openSnapshots() error {
 	if err != nil {
 		return fmt.Errorf("snapshots.nc: %w", err)
 	}
-	r.snapZeta = make([]float64, r.model.Mesh().NVertices)
+	r.snapZeta = make([]float64, r.model.Mesh().NumVertices)
 	return nil
 }
 
@@ -333,12 +333,12 @@ func stateFields(h, u, zeta []float64) []ncout.Field {
 // The file refers to m's state until it is written.
 func FinalFile(m *sim.Model) (*ncout.File, error) {
 	msh := m.Mesh()
-	zeta := make([]float64, msh.NVertices)
-	pv := make([]float64, msh.NVertices)
+	zeta := make([]float64, msh.NumVertices)
+	pv := make([]float64, msh.NumVertices)
 	m.Diagnostics().Vorticity(zeta, pv, m.State())
 	bottom := m.Bottom()
 	if bottom == nil {
-		bottom = make([]float64, msh.NCells)
+		bottom = make([]float64, msh.NumCells)
 	}
 	fields := append(stateFields(m.Depth(), m.Velocity(), zeta),
 		ncout.Field{Name: "potential_vorticity", Location: ncout.Node, Units: "m-1 s-1", LongName: "potential vorticity (zeta + f) / h", CellMeasures: ncout.NodeAreaMeasure, Data: pv},
@@ -414,7 +414,7 @@ func (r *runner) makeSummary(runErr error) *Summary {
 	c := m.Config()
 	s := &Summary{
 		Title: c.Title, Grid: c.Grid.Kind, N: c.Grid.N,
-		Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices, SpacingM: msh.Spacing(),
+		Cells: msh.NumCells, Edges: msh.NumEdges, Vertices: msh.NumVertices, SpacingM: msh.Spacing(),
 		Scheme: c.Scheme.Name, Integrator: c.Time.Integrator, Dt: c.Time.Dt,
 		Steps: m.Steps(), TimeS: m.Time(), WallSeconds: r.wall.Seconds(), Workers: m.Workers(),
 		Mass: inv.Mass, Energy: inv.Energy, PotentialEnstrophy: inv.PotentialEnstrophy,

@@ -29,7 +29,7 @@ func initCase(t testing.TB, m *mesh.Mesh, name string, prm map[string]float64) (
 	if err != nil {
 		t.Fatal(err)
 	}
-	h, u, b = make([]float64, m.NCells), make([]float64, m.NEdges), make([]float64, m.NCells)
+	h, u, b = make([]float64, m.NumCells), make([]float64, m.NumEdges), make([]float64, m.NumCells)
 	if err := c.Init(m, earth, prm, h, u, b); err != nil {
 		t.Fatal(err)
 	}
@@ -68,13 +68,13 @@ func TestSphereCasesRegistered(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		h, u, b := make([]float64, pm.NCells), make([]float64, pm.NEdges), make([]float64, pm.NCells)
+		h, u, b := make([]float64, pm.NumCells), make([]float64, pm.NumEdges), make([]float64, pm.NumCells)
 		if err := c.Init(pm, earth, nil, h, u, b); err == nil || !strings.Contains(err.Error(), tc.name) {
 			t.Errorf("%s on a hex plane: error %v, want one naming the case", tc.name, err)
 		}
 		// Bad physics is refused, not turned into NaNs.
 		m := sphereMesh(t, 1)
-		h, u, b = make([]float64, m.NCells), make([]float64, m.NEdges), make([]float64, m.NCells)
+		h, u, b = make([]float64, m.NumCells), make([]float64, m.NumEdges), make([]float64, m.NumCells)
 		if err := c.Init(m, Physics{G: 9.8}, nil, h, u, b); err == nil || !strings.Contains(err.Error(), "physics.radius") {
 			t.Errorf("%s with radius 0: error %v, want one naming physics.radius", tc.name, err)
 		}
@@ -95,7 +95,7 @@ func TestWilliamson2CheckValues(t *testing.T) {
 	}
 	m := sphereMesh(t, 3)
 	h, _, b := initCase(t, m, "williamson-2", nil)
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		if z := m.CellZ[i] / earth.Radius; math.Abs(z) > 1-1e-12 {
 			if !near(h[i], 1092.833, 5e-4) {
 				t.Errorf("h at the pole cell %d = %.4f m, want 1092.833", i, h[i])
@@ -126,14 +126,14 @@ func TestWilliamson2IsSolidBodyRotation(t *testing.T) {
 		if want := (xyz{-math.Sin(alpha), 0, math.Cos(alpha)}); axis != want {
 			t.Fatalf("α = %g: rotation axis %v, want %v", alpha, axis, want)
 		}
-		for e := 0; e < m.NEdges; e++ {
+		for e := 0; e < m.NumEdges; e++ {
 			v := xyz(axis).cross(edgeXYZ(m, e))
 			want := u0 / a * v.dot(normalXYZ(m, e))
 			if !near(u[e], want, 1e-10*u0) {
 				t.Fatalf("α = %g edge %d: u_e = %.12g, solid-body rotation gives %.12g", alpha, e, u[e], want)
 			}
 		}
-		for i := 0; i < m.NCells; i++ {
+		for i := 0; i < m.NumCells; i++ {
 			s := xyz(axis).dot(cellXYZ(m, i)) / a
 			want := 2.94e4/earth.G - (a*earth.Omega*u0+u0*u0/2)*s*s/earth.G
 			if !near(h[i], want, 1e-9) {
@@ -161,7 +161,7 @@ func TestWilliamson5(t *testing.T) {
 	h, u, b := initCase(t, m, "williamson-5", nil)
 	centre := xyz{0, -math.Cos(math.Pi / 6), math.Sin(math.Pi / 6)}
 	wet := 0
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		x := cellXYZ(m, i)
 		if z := x[2] / earth.Radius; z > 1-1e-12 && !near(h[i]+b[i], 4992.059, 5e-4) {
 			t.Errorf("free surface at the north pole %.4f m, want 4992.059", h[i]+b[i])

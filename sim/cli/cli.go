@@ -297,12 +297,12 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	runtime.ReadMemStats(&after)
 	msh := m.Mesh()
 	res := BenchResult{
-		Grid: *grid, N: *n, Cells: msh.NCells, Edges: msh.NEdges, Vertices: msh.NVertices,
+		Grid: *grid, N: *n, Cells: msh.NumCells, Edges: msh.NumEdges, Vertices: msh.NumVertices,
 		Workers: *workers, Steps: *steps, Seconds: sec,
 		StepsPerSecond:         float64(*steps) / sec,
-		CellStepsPerSecond:     float64(*steps) * float64(msh.NCells) / sec,
+		CellStepsPerSecond:     float64(*steps) * float64(msh.NumCells) / sec,
 		FastestStepSeconds:     fastest.Seconds(),
-		FastestCellStepsPerSec: float64(msh.NCells) / fastest.Seconds(),
+		FastestCellStepsPerSec: float64(msh.NumCells) / fastest.Seconds(),
 		Scheme:                 *schemeName, Integrator: *integ, GoMaxProcs: runtime.GOMAXPROCS(0),
 		MeshBuildSeconds:    build.Seconds(),
 		PeakHeapMegabytes:   float64(after.HeapSys) / (1 << 20),

@@ -55,7 +55,7 @@ func New(g ops.Grid, grav float64, fVertex, bottom []float64) *Calculator {
 // Compute returns the invariants of x = [h | u] for time step dt.
 func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 	g := c.g
-	nc := g.NCells
+	nc := g.NumCells
 	h, u := x[:nc], x[nc:]
 	inv := Invariants{HMin: math.Inf(1), HMax: math.Inf(-1)}
 	for i, hi := range h {
@@ -72,8 +72,8 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 		inv.HMax = max(inv.HMax, hi)
 	}
 	he, flx := c.a, c.c
-	for lo := 0; lo < g.NEdges; lo += chunk {
-		hi := min(lo+chunk, g.NEdges)
+	for lo := 0; lo < g.NumEdges; lo += chunk {
+		hi := min(lo+chunk, g.NumEdges)
 		g.EdgeFlux(he, flx, h, u, lo, hi)
 		for e := lo; e < hi; e++ {
 			ue, hm, d := u[e], he[e-lo], g.DualLength[e]
@@ -85,8 +85,8 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 		}
 	}
 	zeta, hv := c.a, c.c
-	for lo := 0; lo < g.NVertices; lo += chunk {
-		hi := min(lo+chunk, g.NVertices)
+	for lo := 0; lo < g.NumVertices; lo += chunk {
+		hi := min(lo+chunk, g.NumVertices)
 		g.Vorticity(zeta, hv, u, h, lo, hi)
 		for v := lo; v < hi; v++ {
 			eta := zeta[v-lo] + c.f[v]
@@ -102,10 +102,10 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 // the potential vorticity (either may be nil).
 func (c *Calculator) Vorticity(zeta, pv, x []float64) {
 	g := c.g
-	nc := g.NCells
+	nc := g.NumCells
 	z, hv := c.a, c.c
-	for lo := 0; lo < g.NVertices; lo += chunk {
-		hi := min(lo+chunk, g.NVertices)
+	for lo := 0; lo < g.NumVertices; lo += chunk {
+		hi := min(lo+chunk, g.NumVertices)
 		g.Vorticity(z, hv, x[nc:], x[:nc], lo, hi)
 		for v := lo; v < hi; v++ {
 			if zeta != nil {
@@ -121,9 +121,9 @@ func (c *Calculator) Vorticity(zeta, pv, x []float64) {
 // Divergence fills div with ∇·u at cells (velocity, not mass flux).
 func (c *Calculator) Divergence(div, x []float64) {
 	g := c.g
-	nc := g.NCells
+	nc := g.NumCells
 	u := x[nc:]
-	lu := make([]float64, g.NEdges) // not a hot path: drawn on request
+	lu := make([]float64, g.NumEdges) // not a hot path: drawn on request
 	for e, ue := range u {
 		lu[e] = g.EdgeLength[e] * ue
 	}
@@ -133,7 +133,7 @@ func (c *Calculator) Divergence(div, x []float64) {
 // KineticEnergy fills ke with K = |u|²/2 at cells.
 func (c *Calculator) KineticEnergy(ke, x []float64) {
 	g := c.g
-	nc := g.NCells
+	nc := g.NumCells
 	g.DivKE(nil, ke, x[nc:], x[nc:], 0, nc)
 }
 

@@ -209,7 +209,7 @@ func TestRenderPNG(t *testing.T) {
 // A signed field's zero takes the diverging map's middle colour.
 func TestSignedZeroIsTheMiddleColour(t *testing.T) {
 	m := mustMesh(t, mesh.Quad, 8)
-	field := make([]float64, m.NCells)
+	field := make([]float64, m.NumCells)
 	field[0], field[1] = -2, 1
 	opt := testSize
 	opt.Signed = true
@@ -319,8 +319,8 @@ func TestRenderSVG(t *testing.T) {
 
 func TestRenderRejects(t *testing.T) {
 	m := mustMesh(t, mesh.Hex, 8)
-	good := make([]float64, m.NCells)
-	nan := make([]float64, m.NCells)
+	good := make([]float64, m.NumCells)
+	nan := make([]float64, m.NumCells)
 	nan[5] = math.NaN()
 	for _, tc := range []struct {
 		name    string
@@ -331,8 +331,8 @@ func TestRenderRejects(t *testing.T) {
 		opt     Options
 		wantErr []string
 	}{
-		{"wrong length", "png", m, good[:10], Face, testSize, []string{"field", "10 values", fmt.Sprint(m.NCells)}},
-		{"node length", "svg", m, good, Node, testSize, []string{"field", fmt.Sprint(m.NVertices), "vertex"}},
+		{"wrong length", "png", m, good[:10], Face, testSize, []string{"field", "10 values", fmt.Sprint(m.NumCells)}},
+		{"node length", "svg", m, good, Node, testSize, []string{"field", fmt.Sprint(m.NumVertices), "vertex"}},
 		{"unknown format", "jpeg", m, good, Face, testSize, []string{`format = "jpeg"`, "png, svg"}},
 		{"unknown location", "png", m, good, "edge", testSize, []string{`location = "edge"`, "face, node"}},
 		{"zero width", "png", m, good, Face, Options{Height: 400}, []string{"Options.Width = 0", "between"}},
@@ -417,7 +417,7 @@ func TestTitle(t *testing.T) {
 
 func ExampleRender() {
 	m, _ := mesh.New(mesh.Spec{Kind: mesh.Hex, N: 8, Length: 1e6})
-	depth := make([]float64, m.NCells)
+	depth := make([]float64, m.NumCells)
 	for i := range depth {
 		depth[i] = 1000 + 10*math.Sin(2*math.Pi*m.CellY[i]/m.Surface.Ly)
 	}
@@ -439,9 +439,9 @@ func TestNoSeams(t *testing.T) {
 		}
 		m := mustMesh(t, kind, n)
 		for _, loc := range []Location{Face, Node} {
-			count := m.NCells
+			count := m.NumCells
 			if loc == Node {
-				count = m.NVertices
+				count = m.NumVertices
 			}
 			field := make([]float64, count)
 			for i := range field {

@@ -34,7 +34,7 @@ type Options struct {
 }
 
 // Render draws field on mesh m and writes it to w as format "png" or
-// "svg". Face fields have NCells values, node fields NVertices. Errors
+// "svg". Face fields have NumCells values, node fields NumVertices. Errors
 // name the argument and what is allowed; nothing is written on error.
 func Render(w io.Writer, format string, m *mesh.Mesh, field []float64, loc Location, opt Options) error {
 	if format != "png" && format != "svg" {
@@ -47,9 +47,9 @@ func Render(w io.Writer, format string, m *mesh.Mesh, field []float64, loc Locat
 	var n int
 	switch loc {
 	case Face:
-		n = m.NCells
+		n = m.NumCells
 	case Node:
-		n = m.NVertices
+		n = m.NumVertices
 	default:
 		return fmt.Errorf("location = %q: unknown; allowed: face, node", loc)
 	}

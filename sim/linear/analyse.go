@@ -166,7 +166,7 @@ func Analyse(ctx context.Context, cfg sim.Config, opt Options) (*Result, error) 
 	m := op.Mesh
 	res := &Result{
 		Grid: string(m.Kind), N: m.N, Scheme: cfg.Scheme.Name,
-		Cells: m.NCells, Edges: m.NEdges, Vertices: m.NVertices, Unknowns: op.Len(),
+		Cells: m.NumCells, Edges: m.NumEdges, Vertices: m.NumVertices, Unknowns: op.Len(),
 		F0: cfg.Physics.F0, Beta: cfg.Physics.Beta, G: cfg.Physics.G, Depth: cfg.Physics.Depth,
 		Sphere: m.Surface.Sphere,
 	}
@@ -371,7 +371,7 @@ func (res *Result) classify(op *Operator, fr *fourier, zero, other []*mode) erro
 	sort.SliceStable(other, func(i, j int) bool { return cmplxAbs(other[i].lam) < cmplxAbs(other[j].lam) })
 	left := 0
 	if fVaries {
-		left = m.NVertices - len(zero)
+		left = m.NumVertices - len(zero)
 	}
 	for _, md := range other {
 		if left > 0 {
@@ -386,7 +386,7 @@ func (res *Result) classify(op *Operator, fr *fourier, zero, other []*mode) erro
 		"where cells outnumber vertices: inertia-gravity modes whose depth lies in the null space of that averaging, the half with the larger score at each wavevector (plane, uniform f) or score > 0.5 (elsewhere)"
 
 	switch {
-	case m.NVertices > m.NCells:
+	case m.NumVertices > m.NumCells:
 		pr, err := newRangeProj(m, true)
 		if err != nil {
 			return err
@@ -402,7 +402,7 @@ func (res *Result) classify(op *Operator, fr *fourier, zero, other []*mode) erro
 				md.class = Spurious
 			}
 		}
-	case m.NCells > m.NVertices:
+	case m.NumCells > m.NumVertices:
 		pr, err := newRangeProj(m, false)
 		if err != nil {
 			return err
@@ -457,13 +457,13 @@ func (res *Result) scoreBranch(op *Operator, pr *rangeProj, other []*mode, cl Cl
 // expectedCounts derives the class counts on a doubly periodic plane with
 // uniform f (package documentation, "Counts").
 func expectedCounts(m *mesh.Mesh, n int, noRotation bool) *Counts {
-	c := &Counts{Geostrophic: m.NVertices}
+	c := &Counts{Geostrophic: m.NumVertices}
 	if noRotation {
 		c.Geostrophic += 2
 	}
 	switch {
-	case m.NVertices > m.NCells:
-		c.Spurious = m.NVertices - m.NCells
+	case m.NumVertices > m.NumCells:
+		c.Spurious = m.NumVertices - m.NumCells
 		if m.Kind == mesh.Hex && m.N%3 == 0 && regularCells(m) {
 			// The corners K, K' of the Brillouin zone lie on the lattice of
 			// wavevectors when 3 | n. There the three cells around a vertex
@@ -475,8 +475,8 @@ func expectedCounts(m *mesh.Mesh, n int, noRotation bool) *Counts {
 			c.Spurious += 2
 		}
 		c.Geostrophic -= c.Spurious
-	case m.NCells > m.NVertices:
-		c.Spurious = 2 * (m.NCells - m.NVertices)
+	case m.NumCells > m.NumVertices:
+		c.Spurious = 2 * (m.NumCells - m.NumVertices)
 	}
 	c.InertiaGravity = n - c.Geostrophic - c.Spurious
 	return c
@@ -485,7 +485,7 @@ func expectedCounts(m *mesh.Mesh, n int, noRotation bool) *Counts {
 // regularCells reports whether every cell's kites are equal (regular
 // polygons).
 func regularCells(m *mesh.Mesh) bool {
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		lo, hi := m.EdgesOfCell(i)
 		for k := lo; k < hi; k++ {
 			if math.Abs(m.CellKiteArea[k]-m.CellKiteArea[lo]) > 1e-9*m.CellKiteArea[lo] {

@@ -32,10 +32,10 @@ func newTranslations(m *mesh.Mesh, fr *fourier) (*translations, error) {
 		nx, ny float64
 	}
 	cells, edges := map[key]int{}, map[key]int{}
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		cells[bin(m.CellX[i], m.CellY[i])] = i
 	}
-	for e := 0; e < m.NEdges; e++ {
+	for e := 0; e < m.NumEdges; e++ {
 		edges[bin(m.EdgeX[e], m.EdgeY[e])] = e
 	}
 	find := func(tab map[key]int, x, y float64) (int, bool) {
@@ -49,24 +49,24 @@ func newTranslations(m *mesh.Mesh, fr *fourier) (*translations, error) {
 		return 0, false
 	}
 	tr := &translations{}
-	n := m.NCells + m.NEdges
+	n := m.NumCells + m.NumEdges
 	for j, a := range [2][2]float64{{fr.dx, 0}, {fr.shift * fr.dx, fr.dy}} {
 		tr.perm[j] = make([]int32, n)
 		tr.sign[j] = make([]float64, n)
-		for i := 0; i < m.NCells; i++ {
+		for i := 0; i < m.NumCells; i++ {
 			t, ok := find(cells, m.CellX[i]+a[0], m.CellY[i]+a[1])
 			if !ok {
 				return nil, fmt.Errorf("linear: cell %d has no image under the lattice translation", i)
 			}
 			tr.perm[j][i], tr.sign[j][i] = int32(t), 1
 		}
-		for e := 0; e < m.NEdges; e++ {
+		for e := 0; e < m.NumEdges; e++ {
 			t, ok := find(edges, m.EdgeX[e]+a[0], m.EdgeY[e]+a[1])
 			if !ok {
 				return nil, fmt.Errorf("linear: edge %d has no image under the lattice translation", e)
 			}
 			s := m.NormalX[e]*m.NormalX[t] + m.NormalY[e]*m.NormalY[t]
-			tr.perm[j][m.NCells+e], tr.sign[j][m.NCells+e] = int32(m.NCells+t), math.Copysign(1, s)
+			tr.perm[j][m.NumCells+e], tr.sign[j][m.NumCells+e] = int32(m.NumCells+t), math.Copysign(1, s)
 		}
 	}
 	return tr, nil

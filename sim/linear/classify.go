@@ -33,10 +33,10 @@ func newRangeProj(m *mesh.Mesh, vertex bool) (*rangeProj, error) {
 	var start, idx []int32
 	var kite, area []float64
 	if vertex {
-		p.rows, p.cols = m.NVertices, m.NCells
+		p.rows, p.cols = m.NumVertices, m.NumCells
 		start, idx, kite, area = m.VertexEdgeStart, m.VertexCells, m.VertexKiteArea, m.VertexArea
 	} else {
-		p.rows, p.cols = m.NCells, m.NVertices
+		p.rows, p.cols = m.NumCells, m.NumVertices
 		start, idx, kite, area = m.CellEdgeStart, m.CellVertices, m.CellKiteArea, m.CellArea
 	}
 	p.start = make([]int32, p.rows+1)
@@ -117,7 +117,7 @@ func (p *rangeProj) field(op *Operator, u, w []float64) {
 	for e := range vel {
 		vel[e] = w[op.nc+e] / op.wsqrt[op.nc+e]
 	}
-	op.grid.Vorticity(u, nil, vel, make([]float64, op.nc), 0, op.Mesh.NVertices)
+	op.grid.Vorticity(u, nil, vel, make([]float64, op.nc), 0, op.Mesh.NumVertices)
 	for v := range u {
 		u[v] *= math.Sqrt(op.Mesh.VertexArea[v])
 	}

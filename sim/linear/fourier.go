@@ -58,11 +58,11 @@ func newFourier(m *mesh.Mesh) (*fourier, error) {
 	var shift float64 // a₂ₓ / dx
 	switch m.Kind {
 	case mesh.Quad:
-		rows = m.NCells / n
+		rows = m.NumCells / n
 	case mesh.Hex:
-		rows, shift = m.NCells/n, 0.5
+		rows, shift = m.NumCells/n, 0.5
 	case mesh.Tri:
-		rows, shift = m.NCells/(2*n), 0.5
+		rows, shift = m.NumCells/(2*n), 0.5
 	default:
 		return nil, nil
 	}
@@ -157,11 +157,11 @@ func newFourier(m *mesh.Mesh) (*fourier, error) {
 		}
 		grp.ex = append(grp.ex, ex)
 	}
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		add(false, i, m.CellX[i], m.CellY[i], []float64{1})
 	}
-	for e := 0; e < m.NEdges; e++ {
-		add(true, m.NCells+e, m.EdgeX[e], m.EdgeY[e], []float64{m.NormalX[e], m.NormalY[e]})
+	for e := 0; e < m.NumEdges; e++ {
+		add(true, m.NumCells+e, m.EdgeX[e], m.EdgeY[e], []float64{m.NormalX[e], m.NormalY[e]})
 	}
 	return fr, nil
 }

@@ -14,7 +14,7 @@ import (
 // Operator is the shallow-water tendency linearised about the state of
 // rest x₀ = [H | 0] on one mesh, evaluated through the scheme the
 // nonlinear run uses. State vectors have the layout of package scheme:
-// NCells depths, then NEdges normal velocities.
+// NumCells depths, then NumEdges normal velocities.
 //
 // An Operator is used by one goroutine; Close releases its worker pool.
 type Operator struct {
@@ -81,7 +81,7 @@ func newOperatorOn(cfg sim.Config, msh *mesh.Mesh) (*Operator, error) {
 		pool:  par.New(1),
 		fv:    sim.Coriolis(msh, p, [3]float64{0, 0, 1}), // rest: the axis of every case but tilted Williamson 2
 		depth: p.Depth, g: p.G,
-		nc: msh.NCells, ne: msh.NEdges,
+		nc: msh.NumCells, ne: msh.NumEdges,
 		richardson: cfg.Scheme.Name == scheme.APVM,
 	}
 	sch, err := scheme.New(cfg.Scheme.Name, op.grid, scheme.Physics{G: p.G, FVertex: op.fv}, op.pool, scheme.Options{APVMFactor: cfg.Scheme.APVMFactor})
@@ -131,7 +131,7 @@ func newOperatorOn(cfg sim.Config, msh *mesh.Mesh) (*Operator, error) {
 // Close releases the worker pool.
 func (op *Operator) Close() { op.pool.Close() }
 
-// Len returns the number of unknowns, NCells + NEdges.
+// Len returns the number of unknowns, NumCells + NumEdges.
 func (op *Operator) Len() int { return op.nc + op.ne }
 
 // Rest returns a copy of the state of rest x₀.

@@ -21,7 +21,7 @@ import (
 // enstrophy-conserving one, f_e = (f_{v0} + f_{v1})/2. The kinetic energy
 // and the relative-vorticity part of q are quadratic and drop out.
 func exactJacobian(m *mesh.Mesh, g, depth float64, fv []float64, enstrophy bool) []float64 {
-	nc, ne := m.NCells, m.NEdges
+	nc, ne := m.NumCells, m.NumEdges
 	n := nc + ne
 	j := make([]float64, n*n)
 	for i := 0; i < nc; i++ {
@@ -33,14 +33,14 @@ func exactJacobian(m *mesh.Mesh, g, depth float64, fv []float64, enstrophy bool)
 	}
 	fe := make([]float64, ne)
 	for e := range fe {
-		fe[e] = 0.5 * (fv[m.VerticesOnEdge[2*e]] + fv[m.VerticesOnEdge[2*e+1]])
+		fe[e] = 0.5 * (fv[m.EdgeVertices[2*e]] + fv[m.EdgeVertices[2*e+1]])
 	}
 	pr := m.TRiSKPairs()
 	for e := 0; e < ne; e++ {
 		r := (nc + e) * n
 		d := m.DualLength[e]
-		j[r+int(m.CellsOnEdge[2*e+1])] += -g / d
-		j[r+int(m.CellsOnEdge[2*e])] += g / d
+		j[r+int(m.EdgeCells[2*e+1])] += -g / d
+		j[r+int(m.EdgeCells[2*e])] += g / d
 		for p := pr.Start[e]; p < pr.Start[e+1]; p++ {
 			ep := int(pr.Edges[p])
 			f := 0.5 * (fe[e] + fe[ep])
@@ -91,7 +91,7 @@ func TestAssembledMatchesHandDerived(t *testing.T) {
 		op.Close()
 		// Compare the Coriolis block on its own scale too: it is 10⁻⁴ of the
 		// gravity-wave entries and would hide under a single norm.
-		n, nc := op.Len(), op.Mesh.NCells
+		n, nc := op.Len(), op.Mesh.NumCells
 		var scale, scaleUU, errAll, errUU float64
 		for r := 0; r < n; r++ {
 			for c := 0; c < n; c++ {

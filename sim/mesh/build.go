@@ -33,14 +33,14 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 	nc, nv := len(p.cx), len(p.vx)
 	m := &Mesh{Kind: kind, N: n, Surface: Surface{Lx: p.lx, Ly: p.ly}}
 	t := &m.Topology
-	t.NCells, t.NVertices = nc, nv
+	t.NumCells, t.NumVertices = nc, nv
 
 	// Edges, in order of discovery; the first cell to meet an edge is c0.
 	// Each side is looked up among the edges already found at its lower
 	// vertex: a chain through the edge numbers, a few links long. The
 	// chains borrow the storage that finishVertices fills with the vertex
-	// edges later (one value per side): on a torus NVertices = NEdges −
-	// NCells, so both fit, and the build leaves little garbage behind.
+	// edges later (one value per side): on a torus NumVertices = NumEdges −
+	// NumCells, so both fit, and the build leaves little garbage behind.
 	sides := len(p.cellVerts)
 	vertexEdges := make([]int32, max(sides, nv+sides/2))
 	head := vertexEdges[:nv] // last edge found whose lower vertex is v, or −1
@@ -49,8 +49,8 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 	}
 	next := vertexEdges[nv:nv:len(vertexEdges)] // the edge found before e at the same lower vertex
 	t.CellEdgeStart = make([]int32, nc+1)
-	t.CellsOnEdge = make([]int32, 0, sides)
-	t.VerticesOnEdge = make([]int32, 0, sides)
+	t.EdgeCells = make([]int32, 0, sides)
+	t.EdgeVertices = make([]int32, 0, sides)
 	t.CellEdges = make([]int32, 0, sides)
 	t.CellEdgeSign = make([]int8, 0, sides)
 	for i := 0; i < nc; i++ {
@@ -59,19 +59,19 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 			va, vb := vs[k], vs[(k+1)%len(vs)]
 			lo, hi := min(va, vb), max(va, vb)
 			e := head[lo]
-			for e >= 0 && max(t.VerticesOnEdge[2*e], t.VerticesOnEdge[2*e+1]) != hi {
+			for e >= 0 && max(t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]) != hi {
 				e = next[e]
 			}
 			sign := int8(-1)
 			if e < 0 {
-				e = int32(len(t.CellsOnEdge) / 2)
+				e = int32(len(t.EdgeCells) / 2)
 				next = append(next, head[lo])
 				head[lo] = e
-				t.CellsOnEdge = append(t.CellsOnEdge, int32(i), -1)
-				t.VerticesOnEdge = append(t.VerticesOnEdge, va, vb)
+				t.EdgeCells = append(t.EdgeCells, int32(i), -1)
+				t.EdgeVertices = append(t.EdgeVertices, va, vb)
 				sign = 1
 			} else {
-				t.CellsOnEdge[2*e+1] = int32(i)
+				t.EdgeCells[2*e+1] = int32(i)
 			}
 			t.CellEdges = append(t.CellEdges, e)
 			t.CellEdgeSign = append(t.CellEdgeSign, sign)
@@ -87,8 +87,8 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 		vs[len(vs)-1] = v0
 	}
 	t.CellVertices, p.cellVerts = p.cellVerts, nil
-	t.NEdges = len(t.CellsOnEdge) / 2
-	ne := t.NEdges
+	t.NumEdges = len(t.EdgeCells) / 2
+	ne := t.NumEdges
 
 	g := &m.Metric
 	c := &m.Coords
@@ -99,8 +99,8 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 	c.EdgeX, c.EdgeY = make([]float64, ne), make([]float64, ne)
 	c.NormalX, c.NormalY = make([]float64, ne), make([]float64, ne)
 	for e := 0; e < ne; e++ {
-		c0, c1 := t.CellsOnEdge[2*e], t.CellsOnEdge[2*e+1]
-		v0, v1 := t.VerticesOnEdge[2*e], t.VerticesOnEdge[2*e+1]
+		c0, c1 := t.EdgeCells[2*e], t.EdgeCells[2*e+1]
+		v0, v1 := t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]
 		dx := wrap(p.cx[c1]-p.cx[c0], p.lx)
 		dy := wrap(p.cy[c1]-p.cy[c0], p.ly)
 		d := math.Hypot(dx, dy)
@@ -141,16 +141,16 @@ func (p *planeCells) rel(i int, x, y float64) (float64, float64) {
 
 // finishVertices fills the vertex CSR arrays and the vertex areas from the
 // edge and cell arrays. angle(v, e) orders the edges around a vertex.
-// vertexEdges, when not nil, is the storage for VertexEdges (2·NEdges
+// vertexEdges, when not nil, is the storage for VertexEdges (2·NumEdges
 // values, whatever they hold).
 func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) float64) {
 	t := &m.Topology
 	g := &m.Metric
-	nv := t.NVertices
+	nv := t.NumVertices
 	start := make([]int32, nv+1)
-	for e := 0; e < t.NEdges; e++ {
-		start[t.VerticesOnEdge[2*e]+1]++
-		start[t.VerticesOnEdge[2*e+1]+1]++
+	for e := 0; e < t.NumEdges; e++ {
+		start[t.EdgeVertices[2*e]+1]++
+		start[t.EdgeVertices[2*e+1]+1]++
 	}
 	for v := 0; v < nv; v++ {
 		start[v+1] += start[v]
@@ -161,9 +161,9 @@ func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) fl
 	t.VertexEdges = vertexEdges[:start[nv]]
 	// start[v] serves as v's insertion point, which leaves it at the
 	// start of v+1; shifting by one puts the starts back.
-	for e := 0; e < t.NEdges; e++ {
+	for e := 0; e < t.NumEdges; e++ {
 		for s := 0; s < 2; s++ {
-			v := t.VerticesOnEdge[2*e+s]
+			v := t.EdgeVertices[2*e+s]
 			t.VertexEdges[start[v]] = int32(e)
 			start[v]++
 		}
@@ -205,12 +205,12 @@ func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) fl
 			e := t.VertexEdges[k]
 			// n_e is anticlockwise about v1; walking anticlockwise past edge
 			// e moves along n_e when the sign is +1, into c1.
-			if t.VerticesOnEdge[2*e+1] == int32(v) {
+			if t.EdgeVertices[2*e+1] == int32(v) {
 				t.VertexEdgeSign[k] = 1
-				t.VertexCells[k] = t.CellsOnEdge[2*e+1]
+				t.VertexCells[k] = t.EdgeCells[2*e+1]
 			} else {
 				t.VertexEdgeSign[k] = -1
-				t.VertexCells[k] = t.CellsOnEdge[2*e]
+				t.VertexCells[k] = t.EdgeCells[2*e]
 			}
 			g.VertexKiteArea[k] = kite(t.VertexCells[k], int32(v))
 			g.VertexArea[v] += g.VertexKiteArea[k]
@@ -222,7 +222,7 @@ func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) fl
 // Edges[Start[e]:Start[e+1]] are the edges e' of its two cells (e itself
 // excluded) and Weight the matching W_{e,e'}.
 type Pairs struct {
-	Start  []int32 // NEdges+1
+	Start  []int32 // NumEdges+1
 	Edges  []int32
 	Weight []float64
 }
@@ -244,20 +244,20 @@ func (m *Mesh) TRiSKPairs() Pairs {
 	t := &m.Topology
 	g := &m.Metric
 	var pr Pairs
-	pr.Start = make([]int32, t.NEdges+1)
+	pr.Start = make([]int32, t.NumEdges+1)
 	total := 0
-	for e := 0; e < t.NEdges; e++ {
+	for e := 0; e < t.NumEdges; e++ {
 		for s := 0; s < 2; s++ {
-			lo, hi := t.EdgesOfCell(int(t.CellsOnEdge[2*e+s]))
+			lo, hi := t.EdgesOfCell(int(t.EdgeCells[2*e+s]))
 			total += hi - lo - 1
 		}
 	}
 	pr.Edges = make([]int32, 0, total)
 	pr.Weight = make([]float64, 0, total)
-	for e := 0; e < t.NEdges; e++ {
+	for e := 0; e < t.NumEdges; e++ {
 		start := len(pr.Edges)
 		for s := 0; s < 2; s++ {
-			i := int(t.CellsOnEdge[2*e+s])
+			i := int(t.EdgeCells[2*e+s])
 			lo, hi := t.EdgesOfCell(i)
 			n := hi - lo
 			j := 0
@@ -295,12 +295,12 @@ func (m *Mesh) Dual(kind Kind) *Mesh {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	d := &Mesh{Kind: kind, N: m.N, Surface: m.Surface}
 	dt, dg, dc := &d.Topology, &d.Metric, &d.Coords
-	dt.NCells, dt.NEdges, dt.NVertices = t.NVertices, t.NEdges, t.NCells
-	dt.CellsOnEdge = make([]int32, 2*t.NEdges)
-	dt.VerticesOnEdge = make([]int32, 2*t.NEdges)
-	for e := 0; e < t.NEdges; e++ {
-		dt.CellsOnEdge[2*e], dt.CellsOnEdge[2*e+1] = t.VerticesOnEdge[2*e], t.VerticesOnEdge[2*e+1]
-		dt.VerticesOnEdge[2*e], dt.VerticesOnEdge[2*e+1] = t.CellsOnEdge[2*e+1], t.CellsOnEdge[2*e]
+	dt.NumCells, dt.NumEdges, dt.NumVertices = t.NumVertices, t.NumEdges, t.NumCells
+	dt.EdgeCells = make([]int32, 2*t.NumEdges)
+	dt.EdgeVertices = make([]int32, 2*t.NumEdges)
+	for e := 0; e < t.NumEdges; e++ {
+		dt.EdgeCells[2*e], dt.EdgeCells[2*e+1] = t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]
+		dt.EdgeVertices[2*e], dt.EdgeVertices[2*e+1] = t.EdgeCells[2*e+1], t.EdgeCells[2*e]
 	}
 	dt.CellEdgeStart, dt.CellEdges, dt.CellVertices = t.VertexEdgeStart, t.VertexEdges, t.VertexCells
 	dt.CellEdgeSign = make([]int8, len(t.VertexEdgeSign))
@@ -318,8 +318,8 @@ func (m *Mesh) Dual(kind Kind) *Mesh {
 	dc.VertexX, dc.VertexY, dc.VertexZ = c.CellX, c.CellY, c.CellZ
 	dc.EdgeX, dc.EdgeY, dc.EdgeZ = c.EdgeX, c.EdgeY, c.EdgeZ
 	// n_new = t_old = k × n_old.
-	dc.NormalX = make([]float64, t.NEdges)
-	dc.NormalY = make([]float64, t.NEdges)
+	dc.NormalX = make([]float64, t.NumEdges)
+	dc.NormalY = make([]float64, t.NumEdges)
 	for e := range dc.NormalX {
 		dc.NormalX[e], dc.NormalY[e] = -c.NormalY[e], c.NormalX[e]
 	}

@@ -214,19 +214,19 @@ func newIcosahedral(n int, radius float64, optimize string) *Mesh {
 // is point i, vertex k is triangle k and edge e is dual to edge e.
 func voronoiTopology(tr *triangulation) Topology {
 	np, ne, nt := len(tr.pt), len(tr.edge)/2, len(tr.tri)/3
-	t := Topology{NCells: np, NEdges: ne, NVertices: nt}
+	t := Topology{NumCells: np, NumEdges: ne, NumVertices: nt}
 
 	// Edge e: c0, c1 are its ends; v1 is the triangle on the left of
 	// c0 → c1 (there c0 → c1 runs anticlockwise), v0 the one on the right.
-	t.CellsOnEdge = tr.edge
-	t.VerticesOnEdge = make([]int32, 2*ne)
+	t.EdgeCells = tr.edge
+	t.EdgeVertices = make([]int32, 2*ne)
 	for k := 0; k < nt; k++ {
 		for j := 0; j < 3; j++ {
 			e := tr.triE[3*k+j]
 			if tr.edge[2*e] == tr.tri[3*k+j] {
-				t.VerticesOnEdge[2*e+1] = int32(k)
+				t.EdgeVertices[2*e+1] = int32(k)
 			} else {
-				t.VerticesOnEdge[2*e] = int32(k)
+				t.EdgeVertices[2*e] = int32(k)
 			}
 		}
 	}
@@ -256,10 +256,10 @@ func voronoiTopology(tr *triangulation) Topology {
 		for k := lo; k < hi; k++ {
 			var left int32
 			if tr.edge[2*e] == int32(i) {
-				left = t.VerticesOnEdge[2*e+1]
+				left = t.EdgeVertices[2*e+1]
 				t.CellEdgeSign[k] = 1
 			} else {
-				left = t.VerticesOnEdge[2*e]
+				left = t.EdgeVertices[2*e]
 				t.CellEdgeSign[k] = -1
 			}
 			j := 0
@@ -312,12 +312,12 @@ func sideMoment(a, b vec3) vec3 {
 // so its moment is computed once per edge.
 func lloyd(t *Topology, tr *triangulation, x []vec3) {
 	cc := make([]vec3, len(tr.tri)/3)
-	side := make([]vec3, t.NEdges)
+	side := make([]vec3, t.NumEdges)
 	spacing := math.Sqrt(4 * math.Pi / float64(len(x)))
 	for it := 0; it < lloydMaxIter; it++ {
 		circumcentres(tr, x, cc)
 		for e := range side {
-			side[e] = sideMoment(cc[t.VerticesOnEdge[2*e]], cc[t.VerticesOnEdge[2*e+1]])
+			side[e] = sideMoment(cc[t.EdgeVertices[2*e]], cc[t.EdgeVertices[2*e+1]])
 		}
 		move := 0.0
 		for i := range x {
@@ -350,12 +350,12 @@ func (m *Mesh) CentroidOffset() float64 {
 	}
 	c := &m.Coords
 	r := m.Surface.Radius
-	cc := make([]vec3, m.NVertices)
+	cc := make([]vec3, m.NumVertices)
 	for v := range cc {
 		cc[v] = vec3{c.VertexX[v], c.VertexY[v], c.VertexZ[v]}.unit()
 	}
 	worst := 0.0
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		lo, hi := m.EdgesOfCell(i)
 		g := vec3{c.CellX[i], c.CellY[i], c.CellZ[i]}.unit()
 		worst = max(worst, arc(cellCentroid(cc, m.CellVertices[lo:hi]), g))
@@ -369,7 +369,7 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	r := m.Surface.Radius
 	r2 := r * r
-	nc, ne, nv := t.NCells, t.NEdges, t.NVertices
+	nc, ne, nv := t.NumCells, t.NumEdges, t.NumVertices
 
 	cc := make([]vec3, nv)
 	circumcentres(tr, x, cc)
@@ -387,7 +387,7 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 	c.NormalX, c.NormalY, c.NormalZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
 	g.EdgeLength, g.DualLength = make([]float64, ne), make([]float64, ne)
 	for e := 0; e < ne; e++ {
-		p, q := x[t.CellsOnEdge[2*e]], x[t.CellsOnEdge[2*e+1]]
+		p, q := x[t.EdgeCells[2*e]], x[t.EdgeCells[2*e+1]]
 		// The midpoint of the c0–c1 arc, made exactly perpendicular to the
 		// chord: the generators are unit vectors only to round-off, and
 		// without this the edge point drifts off the great circle through
@@ -401,7 +401,7 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 		c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e] = r*mp[0], r*mp[1], r*mp[2]
 		c.NormalX[e], c.NormalY[e], c.NormalZ[e] = n[0], n[1], n[2]
 		g.DualLength[e] = r * arc(p, q)
-		g.EdgeLength[e] = r * arc(cc[t.VerticesOnEdge[2*e]], cc[t.VerticesOnEdge[2*e+1]])
+		g.EdgeLength[e] = r * arc(cc[t.EdgeVertices[2*e]], cc[t.EdgeVertices[2*e+1]])
 	}
 
 	// Kite (cell i, vertex v between edges e and e′): the spherical

@@ -32,22 +32,22 @@ func TestIcosahedralCounts(t *testing.T) {
 	}{{0, "none"}, {1, "none"}, {2, "lloyd"}, {3, "none"}, {4, "lloyd"}, {5, "none"}, {7, "none"}} {
 		m := icosa(t, tc.n, tc.opt)
 		p := 1 << (2 * tc.n)
-		if m.NCells != 10*p+2 || m.NEdges != 30*p || m.NVertices != 20*p {
+		if m.NumCells != 10*p+2 || m.NumEdges != 30*p || m.NumVertices != 20*p {
 			t.Errorf("level %d: cells, edges, vertices = %d, %d, %d; want %d, %d, %d",
-				tc.n, m.NCells, m.NEdges, m.NVertices, 10*p+2, 30*p, 20*p)
+				tc.n, m.NumCells, m.NumEdges, m.NumVertices, 10*p+2, 30*p, 20*p)
 		}
-		if chi := m.NVertices - m.NEdges + m.NCells; chi != 2 {
+		if chi := m.NumVertices - m.NumEdges + m.NumCells; chi != 2 {
 			t.Errorf("level %d: V − E + F = %d, want 2 on the sphere", tc.n, chi)
 		}
 		sides := map[int]int{}
-		for i := 0; i < m.NCells; i++ {
+		for i := 0; i < m.NumCells; i++ {
 			lo, hi := m.EdgesOfCell(i)
 			sides[hi-lo]++
 		}
-		if sides[5] != 12 || sides[5]+sides[6] != m.NCells {
+		if sides[5] != 12 || sides[5]+sides[6] != m.NumCells {
 			t.Errorf("level %d: cells by number of sides %v, want 12 pentagons and the rest hexagons", tc.n, sides)
 		}
-		for v := 0; v < m.NVertices; v++ {
+		for v := 0; v < m.NumVertices; v++ {
 			if lo, hi := m.EdgesOfVertex(v); hi-lo != 3 {
 				t.Fatalf("level %d: vertex %d has %d edges, want 3", tc.n, v, hi-lo)
 			}
@@ -93,7 +93,7 @@ func TestIcosahedralAreas(t *testing.T) {
 		for n := 0; n <= 5; n++ {
 			m := icosa(t, n, opt)
 			checkAreaSums(t, m)
-			for v := 0; v < m.NVertices; v++ {
+			for v := 0; v < m.NumVertices; v++ {
 				lo := m.VertexEdgeStart[v]
 				var side [3]float64
 				for k := 0; k < 3; k++ {
@@ -105,7 +105,7 @@ func TestIcosahedralAreas(t *testing.T) {
 				}
 			}
 			var pent []float64
-			for i := 0; i < m.NCells; i++ {
+			for i := 0; i < m.NumCells; i++ {
 				if lo, hi := m.EdgesOfCell(i); hi-lo == 5 {
 					pent = append(pent, m.CellArea[i])
 				}
@@ -137,7 +137,7 @@ func TestIcosahedralGeometry(t *testing.T) {
 				}
 			}
 			chord := func(p, q vec3) float64 { return 2 * a * math.Asin(q.sub(p).norm()/(2*a)) }
-			for i := 0; i < m.NCells; i++ {
+			for i := 0; i < m.NumCells; i++ {
 				x := cellPos(m, int32(i))
 				onSphere("cell", i, x)
 				lo, hi := m.EdgesOfCell(i)
@@ -153,7 +153,7 @@ func TestIcosahedralGeometry(t *testing.T) {
 					t.Fatalf("%s level %d cell %d: edges turn by %g about the centre, want +2π (anticlockwise)", opt, n, i, turn)
 				}
 			}
-			for v := 0; v < m.NVertices; v++ {
+			for v := 0; v < m.NumVertices; v++ {
 				p := vertPos(m, int32(v))
 				onSphere("vertex", v, p)
 				lo, hi := m.EdgesOfVertex(v)
@@ -164,9 +164,9 @@ func TestIcosahedralGeometry(t *testing.T) {
 					}
 				}
 			}
-			for e := 0; e < m.NEdges; e++ {
-				c0, c1 := cellPos(m, m.CellsOnEdge[2*e]), cellPos(m, m.CellsOnEdge[2*e+1])
-				v0, v1 := vertPos(m, m.VerticesOnEdge[2*e]), vertPos(m, m.VerticesOnEdge[2*e+1])
+			for e := 0; e < m.NumEdges; e++ {
+				c0, c1 := cellPos(m, m.EdgeCells[2*e]), cellPos(m, m.EdgeCells[2*e+1])
+				v0, v1 := vertPos(m, m.EdgeVertices[2*e]), vertPos(m, m.EdgeVertices[2*e+1])
 				x := edgePos(m, e)
 				nrm := vec3{m.NormalX[e], m.NormalY[e], m.NormalZ[e]}
 				onSphere("edge point", e, x)
@@ -198,13 +198,13 @@ func TestIcosahedralGeometry(t *testing.T) {
 	}
 }
 
-// farCorner returns the generator of the triangle VerticesOnEdge[2e+s]
+// farCorner returns the generator of the triangle EdgeVertices[2e+s]
 // that is not an end of edge e.
 func farCorner(m *Mesh, e, s int) vec3 {
-	v := int(m.VerticesOnEdge[2*e+s])
+	v := int(m.EdgeVertices[2*e+s])
 	lo, hi := m.EdgesOfVertex(v)
 	for k := lo; k < hi; k++ {
-		if c := m.VertexCells[k]; c != m.CellsOnEdge[2*e] && c != m.CellsOnEdge[2*e+1] {
+		if c := m.VertexCells[k]; c != m.EdgeCells[2*e] && c != m.EdgeCells[2*e+1] {
 			return cellPos(m, c)
 		}
 	}
@@ -255,7 +255,7 @@ func bruteOffset(m *Mesh) float64 {
 		return sub(a, ab, ca, depth-1).add(sub(ab, b, bc, depth-1)).add(sub(ca, bc, c, depth-1)).add(sub(ab, bc, ca, depth-1))
 	}
 	worst := 0.0
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		x := cellPos(m, int32(i)).unit()
 		lo, hi := m.EdgesOfCell(i)
 		var s vec3
@@ -278,7 +278,7 @@ func TestIcosahedralSpacing(t *testing.T) {
 		rtKm float64 // √A
 	}{{3, 958, 891}, {4, 480, 446}, {5, 240, 223}} {
 		m := icosa(t, tc.n, "none")
-		a := 4 * math.Pi * earthRadius * earthRadius / float64(m.NCells)
+		a := 4 * math.Pi * earthRadius * earthRadius / float64(m.NumCells)
 		if got := math.Sqrt(a) / 1e3; math.Abs(got-tc.rtKm) > 1 {
 			t.Errorf("level %d: √A = %.1f km, references.md §8 gives %.0f", tc.n, got, tc.rtKm)
 		}
@@ -314,13 +314,13 @@ func ExampleNew_icosahedral() {
 		return
 	}
 	pent := 0
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		if lo, hi := m.EdgesOfCell(i); hi-lo == 5 {
 			pent++
 		}
 	}
 	fmt.Printf("%d cells (%d pentagons), %d edges, %d vertices; spacing ≈ %.0f km\n",
-		m.NCells, pent, m.NEdges, m.NVertices, m.Spacing()/1e3)
+		m.NumCells, pent, m.NumEdges, m.NumVertices, m.Spacing()/1e3)
 	// Output: 2562 cells (12 pentagons), 7680 edges, 5120 vertices; spacing ≈ 481 km
 }
 

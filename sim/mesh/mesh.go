@@ -16,9 +16,9 @@
 //
 // # Conventions
 //
-// Edge e joins cells c0 = CellsOnEdge[2e] and c1 = CellsOnEdge[2e+1]; its
+// Edge e joins cells c0 = EdgeCells[2e] and c1 = EdgeCells[2e+1]; its
 // unit normal n_e points from c0 to c1. It joins vertices
-// v0 = VerticesOnEdge[2e] and v1 = VerticesOnEdge[2e+1]; its tangent
+// v0 = EdgeVertices[2e] and v1 = EdgeVertices[2e+1]; its tangent
 // t_e = k × n_e points from v0 to v1. The normal velocity u_e is the
 // component along n_e.
 //
@@ -83,17 +83,17 @@ func (s Surface) Area() float64 {
 // Topology is the oriented incidence of a mesh, in integers only.
 // See the package documentation for the layout.
 type Topology struct {
-	NCells, NEdges, NVertices int
+	NumCells, NumEdges, NumVertices int
 
-	CellsOnEdge    []int32 // 2 per edge: c0, c1
-	VerticesOnEdge []int32 // 2 per edge: v0, v1
+	EdgeCells    []int32 // 2 per edge: c0, c1
+	EdgeVertices []int32 // 2 per edge: v0, v1
 
-	CellEdgeStart []int32 // NCells+1
+	CellEdgeStart []int32 // NumCells+1
 	CellEdges     []int32
 	CellEdgeSign  []int8
 	CellVertices  []int32
 
-	VertexEdgeStart []int32 // NVertices+1
+	VertexEdgeStart []int32 // NumVertices+1
 	VertexEdges     []int32
 	VertexEdgeSign  []int8
 	VertexCells     []int32
@@ -244,7 +244,7 @@ func (t *Topology) EdgesOfVertex(v int) (lo, hi int) {
 // MaxCellEdges returns the largest number of edges of any cell.
 func (t *Topology) MaxCellEdges() int {
 	m := 0
-	for i := 0; i < t.NCells; i++ {
+	for i := 0; i < t.NumCells; i++ {
 		lo, hi := t.EdgesOfCell(i)
 		m = max(m, hi-lo)
 	}

@@ -52,11 +52,11 @@ func TestCountsAndEuler(t *testing.T) {
 		n := m.N
 		r := planeRows(m.Kind, n, m.Surface.Lx, m.Surface.Ly) // n unless stretched
 		want := map[Kind][3]int{Quad: {n * r, 2 * n * r, n * r}, Hex: {n * r, 3 * n * r, 2 * n * r}, Tri: {2 * n * r, 3 * n * r, n * r}}[m.Kind]
-		if m.NCells != want[0] || m.NEdges != want[1] || m.NVertices != want[2] {
-			t.Errorf("%s n=%d: cells, edges, vertices = %d, %d, %d; want %v", m.Kind, n, m.NCells, m.NEdges, m.NVertices, want)
+		if m.NumCells != want[0] || m.NumEdges != want[1] || m.NumVertices != want[2] {
+			t.Errorf("%s n=%d: cells, edges, vertices = %d, %d, %d; want %v", m.Kind, n, m.NumCells, m.NumEdges, m.NumVertices, want)
 		}
 		// Euler characteristic of the torus is 0.
-		if chi := m.NVertices - m.NEdges + m.NCells; chi != 0 {
+		if chi := m.NumVertices - m.NumEdges + m.NumCells; chi != 0 {
 			t.Errorf("%s n=%d: V − E + F = %d, want 0 on the torus", m.Kind, n, chi)
 		}
 	}
@@ -106,21 +106,21 @@ func TestExactSequence(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	for _, m := range testMeshes(t) {
 		for trial := 0; trial < 3; trial++ {
-			h := make([]int64, m.NCells)
+			h := make([]int64, m.NumCells)
 			for i := range h {
 				h[i] = rng.Int64N(1<<40) - 1<<39
 			}
-			psi := make([]int64, m.NVertices)
+			psi := make([]int64, m.NumVertices)
 			for i := range psi {
 				psi[i] = rng.Int64N(1<<40) - 1<<39
 			}
-			grad := make([]int64, m.NEdges)
-			skew := make([]int64, m.NEdges)
-			for e := 0; e < m.NEdges; e++ {
-				grad[e] = h[m.CellsOnEdge[2*e+1]] - h[m.CellsOnEdge[2*e]]
-				skew[e] = psi[m.VerticesOnEdge[2*e+1]] - psi[m.VerticesOnEdge[2*e]]
+			grad := make([]int64, m.NumEdges)
+			skew := make([]int64, m.NumEdges)
+			for e := 0; e < m.NumEdges; e++ {
+				grad[e] = h[m.EdgeCells[2*e+1]] - h[m.EdgeCells[2*e]]
+				skew[e] = psi[m.EdgeVertices[2*e+1]] - psi[m.EdgeVertices[2*e]]
 			}
-			for v := 0; v < m.NVertices; v++ {
+			for v := 0; v < m.NumVertices; v++ {
 				lo, hi := m.EdgesOfVertex(v)
 				var c int64
 				for k := lo; k < hi; k++ {
@@ -130,7 +130,7 @@ func TestExactSequence(t *testing.T) {
 					t.Fatalf("%s n=%d: curl·grad = %d at vertex %d", m.Kind, m.N, c, v)
 				}
 			}
-			for i := 0; i < m.NCells; i++ {
+			for i := 0; i < m.NumCells; i++ {
 				lo, hi := m.EdgesOfCell(i)
 				var d int64
 				for k := lo; k < hi; k++ {
@@ -152,7 +152,7 @@ func TestTRiSKWeights(t *testing.T) {
 	for _, m := range testMeshes(t) {
 		pr := m.TRiSKPairs()
 		w := map[[2]int32]float64{}
-		for e := 0; e < m.NEdges; e++ {
+		for e := 0; e < m.NumEdges; e++ {
 			for q := pr.Start[e]; q < pr.Start[e+1]; q++ {
 				w[[2]int32{int32(e), pr.Edges[q]}] = pr.Weight[q]
 			}
@@ -162,18 +162,18 @@ func TestTRiSKWeights(t *testing.T) {
 				t.Fatalf("%s n=%d: W[%d,%d] = %g but W[%d,%d] = %g", m.Kind, m.N, k[0], k[1], v, k[1], k[0], back)
 			}
 		}
-		F := make([]float64, m.NEdges)
+		F := make([]float64, m.NumEdges)
 		for e := range F {
 			F[e] = rng.NormFloat64()
 		}
-		perp := make([]float64, m.NEdges) // d_e F⊥_e
-		for e := 0; e < m.NEdges; e++ {
+		perp := make([]float64, m.NumEdges) // d_e F⊥_e
+		for e := 0; e < m.NumEdges; e++ {
 			for q := pr.Start[e]; q < pr.Start[e+1]; q++ {
 				ep := pr.Edges[q]
 				perp[e] += pr.Weight[q] * m.EdgeLength[ep] * F[ep]
 			}
 		}
-		div := make([]float64, m.NCells)
+		div := make([]float64, m.NumCells)
 		for i := range div {
 			lo, hi := m.EdgesOfCell(i)
 			for k := lo; k < hi; k++ {
@@ -182,7 +182,7 @@ func TestTRiSKWeights(t *testing.T) {
 			}
 			div[i] /= m.CellArea[i]
 		}
-		for v := 0; v < m.NVertices; v++ {
+		for v := 0; v < m.NumVertices; v++ {
 			lo, hi := m.EdgesOfVertex(v)
 			var lhs, rhs float64
 			for k := lo; k < hi; k++ {
@@ -203,10 +203,10 @@ func TestTRiSKWeights(t *testing.T) {
 			continue
 		}
 		fx, fy := 0.3, -1.1
-		for e := 0; e < m.NEdges; e++ {
+		for e := 0; e < m.NumEdges; e++ {
 			F[e] = fx*m.NormalX[e] + fy*m.NormalY[e]
 		}
-		for e := 0; e < m.NEdges; e++ {
+		for e := 0; e < m.NumEdges; e++ {
 			s := 0.0
 			for q := pr.Start[e]; q < pr.Start[e+1]; q++ {
 				ep := pr.Edges[q]

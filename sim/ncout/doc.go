@@ -76,7 +76,7 @@
 //     variable and on mesh_edge_normal_x/_y (and _z on the sphere, where
 //     they are Cartesian): n_e points from edge_face_connectivity[e,0] to
 //     [e,1], and t_e = k × n_e runs from edge_node_connectivity[e,0] to
-//     [e,1]. These are mesh.CellsOnEdge and mesh.VerticesOnEdge, so the
+//     [e,1]. These are mesh.EdgeCells and mesh.EdgeVertices, so the
 //     normal velocity u_e of gyrebench is written unchanged;
 //   - fields are NC_DOUBLE with mesh, location, units, standard_name and/or
 //     long_name, coordinates and an optional cell_measures;

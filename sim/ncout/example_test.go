@@ -16,7 +16,7 @@ func ExampleMeshFile() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	h := make([]float64, m.NCells)
+	h := make([]float64, m.NumCells)
 	for i := range h {
 		h[i] = 1000
 	}

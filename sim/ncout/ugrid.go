@@ -195,11 +195,11 @@ type meshBuilder struct {
 func (b *meshBuilder) count(loc Location) int {
 	switch loc {
 	case Face:
-		return b.m.NCells
+		return b.m.NumCells
 	case Edge:
-		return b.m.NEdges
+		return b.m.NumEdges
 	case Node:
-		return b.m.NVertices
+		return b.m.NumVertices
 	}
 	return -1
 }
@@ -247,9 +247,9 @@ func newMeshBuilder(m *mesh.Mesh, meta Meta, fields []Field, time bool) (*meshBu
 	if time {
 		f.AddDim(TimeVar, Unlimited)
 	}
-	f.AddDim(NodeDim, m.NVertices)
-	f.AddDim(EdgeDim, m.NEdges)
-	f.AddDim(FaceDim, m.NCells)
+	f.AddDim(NodeDim, m.NumVertices)
+	f.AddDim(EdgeDim, m.NumEdges)
+	f.AddDim(FaceDim, m.NumCells)
 	f.AddDim(MaxFaceNodesDim, maxN)
 	f.AddDim(TwoDim, 2)
 
@@ -320,9 +320,9 @@ func newMeshBuilder(m *mesh.Mesh, meta Meta, fields []Field, time bool) (*meshBu
 
 	// Topology.
 	t := &m.Topology
-	faceNodes := make([]int32, m.NCells*maxN)
-	faceEdges := make([]int32, m.NCells*maxN)
-	for i := 0; i < m.NCells; i++ {
+	faceNodes := make([]int32, m.NumCells*maxN)
+	faceEdges := make([]int32, m.NumCells*maxN)
+	for i := 0; i < m.NumCells; i++ {
 		lo, hi := t.EdgesOfCell(i)
 		n := hi - lo
 		row := i * maxN
@@ -346,9 +346,9 @@ func newMeshBuilder(m *mesh.Mesh, meta Meta, fields []Field, time bool) (*meshBu
 		}
 	}
 	conn("mesh_face_nodes", "face_node_connectivity", "nodes of each face, anticlockwise", []string{FaceDim, MaxFaceNodesDim}, faceNodes, true)
-	conn("mesh_edge_nodes", "edge_node_connectivity", "nodes of each edge: t_e runs from node 0 to node 1", []string{EdgeDim, TwoDim}, t.VerticesOnEdge, false)
+	conn("mesh_edge_nodes", "edge_node_connectivity", "nodes of each edge: t_e runs from node 0 to node 1", []string{EdgeDim, TwoDim}, t.EdgeVertices, false)
 	conn("mesh_face_edges", "face_edge_connectivity", "edges of each face, anticlockwise; edge k joins nodes k and k+1", []string{FaceDim, MaxFaceNodesDim}, faceEdges, true)
-	conn("mesh_edge_faces", "edge_face_connectivity", "faces of each edge: n_e points from face 0 to face 1", []string{EdgeDim, TwoDim}, t.CellsOnEdge, true)
+	conn("mesh_edge_faces", "edge_face_connectivity", "faces of each edge: n_e points from face 0 to face 1", []string{EdgeDim, TwoDim}, t.EdgeCells, true)
 
 	// Metric and edge normals.
 	f.AddVar(FaceAreaVar, Double, []string{FaceDim}, m.CellArea).
@@ -507,7 +507,7 @@ func lonLat(x, y, z []float64) (lon, lat []float64) {
 // checkMesh checks the array lengths and indices that MeshFile relies on,
 // so that a malformed mesh is an error, not a panic.
 func checkMesh(m *mesh.Mesh) error {
-	nc, ne, nv := m.NCells, m.NEdges, m.NVertices
+	nc, ne, nv := m.NumCells, m.NumEdges, m.NumVertices
 	if nc <= 0 || ne <= 0 || nv <= 0 {
 		return fmt.Errorf("mesh: %d cells, %d edges, %d vertices; want positive counts", nc, ne, nv)
 	}
@@ -516,8 +516,8 @@ func checkMesh(m *mesh.Mesh) error {
 		got  int
 		want int
 	}{
-		{"CellsOnEdge", len(m.CellsOnEdge), 2 * ne},
-		{"VerticesOnEdge", len(m.VerticesOnEdge), 2 * ne},
+		{"EdgeCells", len(m.EdgeCells), 2 * ne},
+		{"EdgeVertices", len(m.EdgeVertices), 2 * ne},
 		{"CellEdgeStart", len(m.CellEdgeStart), nc + 1},
 		{"CellVertices", len(m.CellVertices), len(m.CellEdges)},
 		{"CellArea", len(m.CellArea), nc},
@@ -553,8 +553,8 @@ func checkMesh(m *mesh.Mesh) error {
 		a    []int32
 		n    int
 	}{
-		{"CellsOnEdge", m.CellsOnEdge, nc},
-		{"VerticesOnEdge", m.VerticesOnEdge, nv},
+		{"EdgeCells", m.EdgeCells, nc},
+		{"EdgeVertices", m.EdgeVertices, nv},
 		{"CellEdges", m.CellEdges, ne},
 		{"CellVertices", m.CellVertices, nv},
 	} {

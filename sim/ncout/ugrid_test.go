@@ -37,9 +37,9 @@ func ramp(n int, a float64) []float64 {
 
 func sampleFields(m *mesh.Mesh) []Field {
 	return []Field{
-		{Name: "h", Location: Face, Units: "m", StandardName: "sea_floor_depth_below_sea_surface", LongName: "fluid depth", CellMeasures: FaceAreaMeasure, Data: ramp(m.NCells, 1000)},
-		{Name: "u", Location: Edge, Units: "m s-1", LongName: "normal velocity u_e along n_e", Data: ramp(m.NEdges, -3)},
-		{Name: "q", Location: Node, Units: "m-1 s-1", LongName: "potential vorticity", CellMeasures: NodeAreaMeasure, Data: ramp(m.NVertices, 1e-7)},
+		{Name: "h", Location: Face, Units: "m", StandardName: "sea_floor_depth_below_sea_surface", LongName: "fluid depth", CellMeasures: FaceAreaMeasure, Data: ramp(m.NumCells, 1000)},
+		{Name: "u", Location: Edge, Units: "m s-1", LongName: "normal velocity u_e along n_e", Data: ramp(m.NumEdges, -3)},
+		{Name: "q", Location: Node, Units: "m-1 s-1", LongName: "potential vorticity", CellMeasures: NodeAreaMeasure, Data: ramp(m.NumVertices, 1e-7)},
 	}
 }
 
@@ -112,7 +112,7 @@ func TestFacesAnticlockwise(t *testing.T) {
 			nodes, edges := ints(t, f, "mesh_face_nodes"), ints(t, f, "mesh_face_edges")
 			edgeNodes := ints(t, f, "mesh_edge_nodes")
 			maxN, _ := f.Dim(MaxFaceNodesDim)
-			for i := 0; i < m.NCells; i++ {
+			for i := 0; i < m.NumCells; i++ {
 				row := faceRow(nodes, i, maxN.Len)
 				erow := faceRow(edges, i, maxN.Len)
 				if len(row) < 3 || len(row) != len(erow) {
@@ -158,7 +158,7 @@ func TestEdgeConvention(t *testing.T) {
 			fx, fy := floats(t, f, "mesh_face_x"), floats(t, f, "mesh_face_y")
 			vx, vy := floats(t, f, "mesh_node_x"), floats(t, f, "mesh_node_y")
 			ef, en := ints(t, f, "mesh_edge_faces"), ints(t, f, "mesh_edge_nodes")
-			for e := 0; e < m.NEdges; e++ {
+			for e := 0; e < m.NumEdges; e++ {
 				c0, c1 := ef[2*e], ef[2*e+1]
 				v0, v1 := en[2*e], en[2*e+1]
 				dn := nx[e]*wrap(fx[c1]-fx[c0], lx) + ny[e]*wrap(fy[c1]-fy[c0], ly)
@@ -240,8 +240,8 @@ func TestNcdumpUGRID(t *testing.T) {
 			if got, want := dumpFloats(t, dump, "h"), sampleFields(m)[0].Data; !reflect.DeepEqual(got, want) {
 				t.Errorf("ncdump h = %v; want %v", got, want)
 			}
-			if got := dumpInts(t, dump, "mesh_edge_nodes"); !reflect.DeepEqual(got, m.VerticesOnEdge) {
-				t.Errorf("ncdump mesh_edge_nodes = %v; want %v", got, m.VerticesOnEdge)
+			if got := dumpInts(t, dump, "mesh_edge_nodes"); !reflect.DeepEqual(got, m.EdgeVertices) {
+				t.Errorf("ncdump mesh_edge_nodes = %v; want %v", got, m.EdgeVertices)
 			}
 		})
 	}
@@ -280,8 +280,8 @@ func cubeSphere(r float64) *mesh.Mesh {
 				return math.Atan2(p[0]*e2[0]+p[1]*e2[1]+p[2]*e2[2], p[0]*e1[0]+p[1]*e1[1]+p[2]*e1[2])
 			}
 			sort.Slice(vs, func(a, b int) bool { return ang(vs[a]) < ang(vs[b]) })
-			c := int32(m.NCells)
-			m.NCells++
+			c := int32(m.NumCells)
+			m.NumCells++
 			m.CellX = append(m.CellX, r*n[0])
 			m.CellY = append(m.CellY, r*n[1])
 			m.CellZ = append(m.CellZ, r*n[2])
@@ -291,12 +291,12 @@ func cubeSphere(r float64) *mesh.Mesh {
 				key := pair{min(va, vb), max(va, vb)}
 				e, ok := edgeOf[key]
 				if !ok {
-					e = int32(len(m.CellsOnEdge) / 2)
+					e = int32(len(m.EdgeCells) / 2)
 					edgeOf[key] = e
-					m.CellsOnEdge = append(m.CellsOnEdge, c, -1)
-					m.VerticesOnEdge = append(m.VerticesOnEdge, va, vb)
+					m.EdgeCells = append(m.EdgeCells, c, -1)
+					m.EdgeVertices = append(m.EdgeVertices, va, vb)
 				} else {
-					m.CellsOnEdge[2*e+1] = c
+					m.EdgeCells[2*e+1] = c
 				}
 				m.CellEdges = append(m.CellEdges, e)
 				m.CellVertices = append(m.CellVertices, vb)
@@ -304,11 +304,11 @@ func cubeSphere(r float64) *mesh.Mesh {
 			m.CellEdgeStart = append(m.CellEdgeStart, int32(len(m.CellEdges)))
 		}
 	}
-	m.NVertices = 8
-	m.NEdges = len(m.CellsOnEdge) / 2
-	for e := 0; e < m.NEdges; e++ {
-		v0, v1 := m.VerticesOnEdge[2*e], m.VerticesOnEdge[2*e+1]
-		c0, c1 := m.CellsOnEdge[2*e], m.CellsOnEdge[2*e+1]
+	m.NumVertices = 8
+	m.NumEdges = len(m.EdgeCells) / 2
+	for e := 0; e < m.NumEdges; e++ {
+		v0, v1 := m.EdgeVertices[2*e], m.EdgeVertices[2*e+1]
+		c0, c1 := m.EdgeCells[2*e], m.EdgeCells[2*e+1]
 		mx, my, mz := m.VertexX[v0]+m.VertexX[v1], m.VertexY[v0]+m.VertexY[v1], m.VertexZ[v0]+m.VertexZ[v1]
 		l := math.Sqrt(mx*mx+my*my+mz*mz) / r
 		m.EdgeX = append(m.EdgeX, mx/l)
@@ -332,8 +332,8 @@ func cubeSphere(r float64) *mesh.Mesh {
 func TestSphereCoordinates(t *testing.T) {
 	const r = 6.37122e6
 	m := cubeSphere(r)
-	if m.NEdges != 12 || m.NCells != 6 {
-		t.Fatalf("cube: %d cells, %d edges", m.NCells, m.NEdges)
+	if m.NumEdges != 12 || m.NumCells != 6 {
+		t.Fatalf("cube: %d cells, %d edges", m.NumCells, m.NumEdges)
 	}
 	f, err := MeshFile(m, Meta{}, []Field{{Name: "h", Location: Face, Units: "m", LongName: "depth", CellMeasures: FaceAreaMeasure, Data: []float64{1, 2, 3, 4, 5, 6}}})
 	if err != nil {
@@ -368,7 +368,7 @@ func TestSphereCoordinates(t *testing.T) {
 	xyz("edge", m.EdgeX, m.EdgeY, m.EdgeZ)
 	conn := ints(t, f, "mesh_face_nodes")
 	maxN, _ := f.Dim(MaxFaceNodesDim)
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		row := faceRow(conn, i, maxN.Len)
 		// Newell's normal of the polygon, against the outward direction.
 		var n [3]float64
@@ -475,7 +475,7 @@ func TestSnapshots(t *testing.T) {
 	times := []float64{0, 3600, 7200}
 	var wantH []float64
 	for k, tm := range times {
-		h, u, q := ramp(m.NCells, float64(k)), ramp(m.NEdges, 10*float64(k)), ramp(m.NVertices, -float64(k))
+		h, u, q := ramp(m.NumCells, float64(k)), ramp(m.NumEdges, 10*float64(k)), ramp(m.NumVertices, -float64(k))
 		wantH = append(wantH, h...)
 		if err := s.Write(tm, h, u, q); err != nil {
 			t.Fatal(err)
@@ -486,10 +486,10 @@ func TestSnapshots(t *testing.T) {
 		data [][]float64
 		want string
 	}{
-		{7200, [][]float64{ramp(m.NCells, 0), ramp(m.NEdges, 0), ramp(m.NVertices, 0)}, "later than"},
-		{math.NaN(), [][]float64{ramp(m.NCells, 0), ramp(m.NEdges, 0), ramp(m.NVertices, 0)}, "finite"},
-		{9000, [][]float64{ramp(m.NCells, 0), ramp(m.NEdges, 0)}, "h, u, q"},
-		{9000, [][]float64{ramp(m.NCells, 0), ramp(m.NEdges, 0), ramp(3, 0)}, `"q"`},
+		{7200, [][]float64{ramp(m.NumCells, 0), ramp(m.NumEdges, 0), ramp(m.NumVertices, 0)}, "later than"},
+		{math.NaN(), [][]float64{ramp(m.NumCells, 0), ramp(m.NumEdges, 0), ramp(m.NumVertices, 0)}, "finite"},
+		{9000, [][]float64{ramp(m.NumCells, 0), ramp(m.NumEdges, 0)}, "h, u, q"},
+		{9000, [][]float64{ramp(m.NumCells, 0), ramp(m.NumEdges, 0), ramp(3, 0)}, `"q"`},
 	} {
 		if err := s.Write(bad.t, bad.data...); err == nil || !strings.Contains(err.Error(), bad.want) {
 			t.Errorf("Write(%g, %d fields): error %v; want one mentioning %s", bad.t, len(bad.data), err, bad.want)

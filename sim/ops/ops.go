@@ -25,7 +25,7 @@ type Grid struct {
 // mean is the thickness that makes the kinetic energy below consistent with
 // Σ_e A_e h_e u_e² (Ringler et al. 2010, §4). he may be nil.
 func (g Grid) EdgeFlux(he, flux, h, u []float64, lo, hi int) {
-	cells, l := g.CellsOnEdge, g.EdgeLength
+	cells, l := g.EdgeCells, g.EdgeLength
 	for e := lo; e < hi; e++ {
 		m := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
 		if he != nil {

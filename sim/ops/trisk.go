@@ -34,9 +34,9 @@ const maxCellEdges = 16
 
 // NewTRiSK precomputes the edge slots of g.
 func NewTRiSK(g Grid) *TRiSK {
-	t := &TRiSK{g: g, invArea: make([]float64, g.NCells),
-		slot0: make([]int32, g.NEdges), slot1: make([]int32, g.NEdges), nSlots: len(g.CellEdges)}
-	for i := 0; i < g.NCells; i++ {
+	t := &TRiSK{g: g, invArea: make([]float64, g.NumCells),
+		slot0: make([]int32, g.NumEdges), slot1: make([]int32, g.NumEdges), nSlots: len(g.CellEdges)}
+	for i := 0; i < g.NumCells; i++ {
 		lo, hi := int(g.CellEdgeStart[i]), int(g.CellEdgeStart[i+1])
 		if hi-lo > maxCellEdges {
 			panic(fmt.Sprintf("ops: cell %d has %d edges, more than %d", i, hi-lo, maxCellEdges))

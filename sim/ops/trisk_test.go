@@ -23,16 +23,16 @@ func TestTRiSKRecurrenceMatchesWeights(t *testing.T) {
 		g := Grid{Topology: &m.Topology, Metric: &m.Metric}
 		tr := NewTRiSK(g)
 		pr := m.TRiSKPairs()
-		x := make([]float64, m.NEdges)
-		y := make([]float64, m.NEdges)
+		x := make([]float64, m.NumEdges)
+		y := make([]float64, m.NumEdges)
 		for e := range x {
 			x[e], y[e] = rng.NormFloat64(), rng.NormFloat64()
 		}
 		G, H := make([]float64, tr.Slots()), make([]float64, tr.Slots())
-		tr.CellSums2(G, H, x, y, 0, m.NCells)
+		tr.CellSums2(G, H, x, y, 0, m.NumCells)
 		G1 := make([]float64, tr.Slots())
-		tr.CellSums(G1, x, 0, m.NCells)
-		for e := 0; e < m.NEdges; e++ {
+		tr.CellSums(G1, x, 0, m.NumCells)
+		for e := 0; e < m.NumEdges; e++ {
 			var want, wantY, scale float64
 			for p := pr.Start[e]; p < pr.Start[e+1]; p++ {
 				w := pr.Weight[p]

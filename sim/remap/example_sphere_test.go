@@ -25,14 +25,14 @@ func Example_sphere() {
 	wind := func(m *mesh.Mesh, e int) float64 {
 		return 20 / a * (m.EdgeX[e]*m.NormalY[e] - m.EdgeY[e]*m.NormalX[e])
 	}
-	x := make([]float64, src.NCells+src.NEdges)
-	for i := 0; i < src.NCells; i++ {
+	x := make([]float64, src.NumCells+src.NumEdges)
+	for i := 0; i < src.NumCells; i++ {
 		x[i] = 5000 + 500*src.CellZ[i]/a // deeper in the north
 	}
-	for e := 0; e < src.NEdges; e++ {
-		x[src.NCells+e] = wind(src, e)
+	for e := 0; e < src.NumEdges; e++ {
+		x[src.NumCells+e] = wind(src, e)
 	}
-	y := make([]float64, dst.NCells+dst.NEdges)
+	y := make([]float64, dst.NumCells+dst.NumEdges)
 	r.Apply(y, x)
 
 	mass := func(m *mesh.Mesh, h []float64) float64 {
@@ -42,11 +42,11 @@ func Example_sphere() {
 		}
 		return s
 	}
-	m0, m1 := mass(src, x[:src.NCells]), mass(dst, y[:dst.NCells])
+	m0, m1 := mass(src, x[:src.NumCells]), mass(dst, y[:dst.NumCells])
 	fmt.Println("mass kept to 1e-13:", math.Abs(m1-m0) <= 1e-13*m0)
 	worst := 0.0
-	for e := 0; e < dst.NEdges; e++ {
-		worst = max(worst, math.Abs(y[dst.NCells+e]-wind(dst, e)))
+	for e := 0; e < dst.NumEdges; e++ {
+		worst = max(worst, math.Abs(y[dst.NumCells+e]-wind(dst, e)))
 	}
 	fmt.Println("solid-body wind kept to 1e-12 m/s:", worst <= 1e-12)
 

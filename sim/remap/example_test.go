@@ -22,20 +22,20 @@ func Example() {
 
 	// State [h | u] on the hex mesh: a depth bump in a uniform 10 m/s flow
 	// towards the north-east; a Gaussian seamount as bottom height.
-	x := make([]float64, src.NCells+src.NEdges)
-	bottom := make([]float64, src.NCells)
-	for i := 0; i < src.NCells; i++ {
+	x := make([]float64, src.NumCells+src.NumEdges)
+	bottom := make([]float64, src.NumCells)
+	for i := 0; i < src.NumCells; i++ {
 		dx, dy := src.CellX[i]-5e5, src.CellY[i]-4e5
 		x[i] = 1000 + 50*math.Exp(-(dx*dx+dy*dy)/1e10)
 		bottom[i] = 200 * math.Exp(-(dx*dx+dy*dy)/4e10)
 	}
-	for e := 0; e < src.NEdges; e++ {
-		x[src.NCells+e] = 10 * (src.NormalX[e] + src.NormalY[e]) / math.Sqrt2
+	for e := 0; e < src.NumEdges; e++ {
+		x[src.NumCells+e] = 10 * (src.NormalX[e] + src.NormalY[e]) / math.Sqrt2
 	}
 
-	y := make([]float64, dst.NCells+dst.NEdges)
+	y := make([]float64, dst.NumCells+dst.NumEdges)
 	r.Apply(y, x)
-	newBottom := make([]float64, dst.NCells)
+	newBottom := make([]float64, dst.NumCells)
 	r.Cells(newBottom, bottom)
 
 	mass := func(m *mesh.Mesh, h []float64) float64 {
@@ -45,13 +45,13 @@ func Example() {
 		}
 		return s
 	}
-	m0, m1 := mass(src, x[:src.NCells]), mass(dst, y[:dst.NCells])
+	m0, m1 := mass(src, x[:src.NumCells]), mass(dst, y[:dst.NumCells])
 	fmt.Println("mass kept to 1e-13:", math.Abs(m1-m0) <= 1e-13*m0)
 	fmt.Println("bottom volume kept to 1e-13:", math.Abs(mass(dst, newBottom)-mass(src, bottom)) <= 1e-13*mass(src, bottom))
 	worst := 0.0
-	for e := 0; e < dst.NEdges; e++ {
+	for e := 0; e < dst.NumEdges; e++ {
 		want := 10 * (dst.NormalX[e] + dst.NormalY[e]) / math.Sqrt2
-		worst = max(worst, math.Abs(y[dst.NCells+e]-want))
+		worst = max(worst, math.Abs(y[dst.NumCells+e]-want))
 	}
 	fmt.Println("uniform flow kept to 1e-12 m/s:", worst <= 1e-12)
 

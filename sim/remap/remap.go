@@ -159,8 +159,8 @@ func New(src, dst *mesh.Mesh) (*Remapper, error) {
 			src.Kind, src.N, s.Lx, s.Ly, dst.Kind, dst.N, d.Lx, d.Ly)
 	}
 	r := &Remapper{
-		srcCells: src.NCells, srcEdges: src.NEdges,
-		dstCells: dst.NCells, dstEdges: dst.NEdges,
+		srcCells: src.NumCells, srcEdges: src.NumEdges,
+		dstCells: dst.NumCells, dstEdges: dst.NumEdges,
 	}
 	sp, dp := newPolys(src), newPolys(dst)
 	// With cells this small against the domain, at most one periodic image
@@ -217,7 +217,7 @@ func (r *Remapper) Velocity(dst, src []float64) {
 }
 
 // Apply remaps a full state vector [h | u] of the source mesh to dst,
-// which must hold NCells+NEdges values of the destination mesh.
+// which must hold NumCells+NumEdges values of the destination mesh.
 func (r *Remapper) Apply(dst, src []float64) {
 	if len(dst) != r.dstCells+r.dstEdges || len(src) != r.srcCells+r.srcEdges {
 		panic(fmt.Sprintf("remap: Apply needs %d → %d values, got %d → %d",
@@ -251,7 +251,7 @@ func sameMesh(a, b *mesh.Mesh) bool {
 		return true
 	}
 	if a.Kind != b.Kind || a.N != b.N || a.Surface != b.Surface ||
-		a.NCells != b.NCells || a.NEdges != b.NEdges {
+		a.NumCells != b.NumCells || a.NumEdges != b.NumEdges {
 		return false
 	}
 	for _, p := range [][2][]float64{{a.EdgeX, b.EdgeX}, {a.EdgeY, b.EdgeY}, {a.EdgeZ, b.EdgeZ},
@@ -284,7 +284,7 @@ type polys struct {
 
 func newPolys(m *mesh.Mesh) *polys {
 	lx, ly := m.Surface.Lx, m.Surface.Ly
-	nc := m.NCells
+	nc := m.NumCells
 	p := &polys{
 		start: m.CellEdgeStart,
 		x:     make([]float64, len(m.CellVertices)),
@@ -324,14 +324,14 @@ type buckets struct {
 
 func newBuckets(m *mesh.Mesh, p *polys) *buckets {
 	lx, ly := p.lx, p.ly
-	w := math.Sqrt(lx * ly / float64(m.NCells)) // about one cell per bucket
+	w := math.Sqrt(lx * ly / float64(m.NumCells)) // about one cell per bucket
 	b := &buckets{nx: max(1, int(math.Round(lx/w))), ny: max(1, int(math.Round(ly/w)))}
 	b.wx, b.wy = lx/float64(b.nx), ly/float64(b.ny)
 	count := make([]int32, b.nx*b.ny+1)
 	each := func(i int, f func(bk int)) {
 		b.visit(p.cx[i]+p.x0[i], p.cx[i]+p.x1[i], p.cy[i]+p.y0[i], p.cy[i]+p.y1[i], f)
 	}
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		each(i, func(bk int) { count[bk+1]++ })
 	}
 	for k := 1; k < len(count); k++ {
@@ -340,7 +340,7 @@ func newBuckets(m *mesh.Mesh, p *polys) *buckets {
 	b.start = count
 	b.cells = make([]int32, count[len(count)-1])
 	fill := append([]int32(nil), count[:len(count)-1]...)
-	for i := 0; i < m.NCells; i++ {
+	for i := 0; i < m.NumCells; i++ {
 		each(i, func(bk int) { b.cells[fill[bk]] = int32(i); fill[bk]++ })
 	}
 	return b
@@ -371,15 +371,15 @@ func span(a, b, w float64, n int) (int, int) {
 // cellWeights fills the conservative cell map by clipping every candidate
 // pair of old and new cells.
 func (r *Remapper) cellWeights(src, dst *mesh.Mesh, sp, dp *polys, grid *buckets) error {
-	nd := dst.NCells
+	nd := dst.NumCells
 	r.cellStart = make([]int32, nd+1)
-	r.cellFrom = make([]int32, 0, 2*(src.NCells+nd))
-	r.cellW = make([]float64, 0, 2*(src.NCells+nd))
-	stamp := make([]int32, src.NCells)
+	r.cellFrom = make([]int32, 0, 2*(src.NumCells+nd))
+	r.cellW = make([]float64, 0, 2*(src.NumCells+nd))
+	stamp := make([]int32, src.NumCells)
 	for i := range stamp {
 		stamp[i] = -1
 	}
-	srcCover := make([]float64, src.NCells)
+	srcCover := make([]float64, src.NumCells)
 	var cand []int32
 	var sc scratch
 	var qx, qy []float64
@@ -492,7 +492,7 @@ func (s *scratch) overlap(px, py []float64, ox, oy float64, qx, qy []float64) fl
 // contains it and projected on the new normal. The fit of an old cell is
 // built once, for all the new edge points it hosts.
 func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) error {
-	ne, nc := dst.NEdges, src.NCells
+	ne, nc := dst.NumEdges, src.NumCells
 	st := newStencils(src)
 	host := make([]int32, ne)
 	r.edgeStart = make([]int32, ne+1)
@@ -591,12 +591,12 @@ type stencils struct {
 }
 
 func newStencils(m *mesh.Mesh) *stencils {
-	nc := m.NCells
+	nc := m.NumCells
 	other := func(e int32, i int) int {
-		if c := int(m.CellsOnEdge[2*e]); c != i {
+		if c := int(m.EdgeCells[2*e]); c != i {
 			return c
 		}
-		return int(m.CellsOnEdge[2*e+1])
+		return int(m.EdgeCells[2*e+1])
 	}
 	// An upper bound of the size, for one allocation.
 	bound := 0

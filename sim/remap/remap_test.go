@@ -101,7 +101,7 @@ func TestMassConservedAndMonotone(t *testing.T) {
 	worst := 0.0
 	for _, f := range families(t, []int{4, 6, 10, 16}) {
 		for _, src := range f.meshes {
-			h := make([]float64, src.NCells)
+			h := make([]float64, src.NumCells)
 			for i := range h {
 				h[i] = 1000 + 500*rng.Float64()
 			}
@@ -110,7 +110,7 @@ func TestMassConservedAndMonotone(t *testing.T) {
 				if err != nil {
 					t.Fatalf("%s → %s: %v", name(src), name(dst), err)
 				}
-				out := make([]float64, dst.NCells)
+				out := make([]float64, dst.NumCells)
 				r.Cells(out, h)
 				m0, m1 := mass(src, h), mass(dst, out)
 				rel := math.Abs(m1-m0) / m0
@@ -128,7 +128,7 @@ func TestMassConservedAndMonotone(t *testing.T) {
 				for i := range h {
 					h[i] = 7
 				}
-				r.Cells(out, h[:src.NCells])
+				r.Cells(out, h[:src.NumCells])
 				for j, v := range out {
 					if math.Abs(v-7) > 7e-14 {
 						t.Errorf("%s → %s: constant 7 becomes %.17g in cell %d", name(src), name(dst), v, j)
@@ -159,24 +159,24 @@ func TestIdentity(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			x := make([]float64, a.NCells+a.NEdges)
+			x := make([]float64, a.NumCells+a.NumEdges)
 			for k := range x {
 				x[k] = rng.NormFloat64()
 			}
-			for i := 0; i < a.NCells; i++ {
+			for i := 0; i < a.NumCells; i++ {
 				x[i] += 1000
 			}
 			y := make([]float64, len(x))
 			r.Apply(y, x)
-			for i := 0; i < a.NCells; i++ {
+			for i := 0; i < a.NumCells; i++ {
 				if math.Abs(y[i]-x[i]) > 1e-13*x[i] {
 					t.Errorf("%s: identity changes h[%d] from %.17g to %.17g", name(a), i, x[i], y[i])
 					break
 				}
 			}
-			for e := a.NCells; e < len(x); e++ {
+			for e := a.NumCells; e < len(x); e++ {
 				if y[e] != x[e] {
-					t.Errorf("%s: identity changes u[%d] from %g to %g", name(a), e-a.NCells, x[e], y[e])
+					t.Errorf("%s: identity changes u[%d] from %g to %g", name(a), e-a.NumCells, x[e], y[e])
 					break
 				}
 			}
@@ -198,14 +198,14 @@ func TestUniformFlowExact(t *testing.T) {
 	worst := 0.0
 	for _, f := range families(t, []int{4, 6, 10, 16}) {
 		for _, src := range f.meshes {
-			u := make([]float64, src.NEdges)
+			u := make([]float64, src.NumEdges)
 			setFlow(src, u, uniform)
 			for _, dst := range f.meshes {
 				r, err := New(src, dst)
 				if err != nil {
 					t.Fatal(err)
 				}
-				got, want := make([]float64, dst.NEdges), make([]float64, dst.NEdges)
+				got, want := make([]float64, dst.NumEdges), make([]float64, dst.NumEdges)
 				r.Velocity(got, u)
 				setFlow(dst, want, uniform)
 				for e := range got {
@@ -232,14 +232,14 @@ func TestLinearFlowExact(t *testing.T) {
 		return 1 + 2*x - 3*y, -0.5 + 0.7*x + 1.3*y
 	}
 	for _, src := range ms {
-		u := make([]float64, src.NEdges)
+		u := make([]float64, src.NumEdges)
 		setFlow(src, u, lin)
 		for _, dst := range ms {
 			r, err := New(src, dst)
 			if err != nil {
 				t.Fatal(err)
 			}
-			got := make([]float64, dst.NEdges)
+			got := make([]float64, dst.NumEdges)
 			r.Velocity(got, u)
 			lx, ly := dst.Surface.Lx, dst.Surface.Ly
 			for e := range got {
@@ -283,20 +283,20 @@ func TestSmoothFieldsConverge(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
-				x := make([]float64, src.NCells+src.NEdges)
-				for i := 0; i < src.NCells; i++ {
+				x := make([]float64, src.NumCells+src.NumEdges)
+				for i := 0; i < src.NumCells; i++ {
 					x[i] = depth(src.CellX[i], src.CellY[i])
 				}
-				setFlow(src, x[src.NCells:], flow)
-				y := make([]float64, dst.NCells+dst.NEdges)
+				setFlow(src, x[src.NumCells:], flow)
+				y := make([]float64, dst.NumCells+dst.NumEdges)
 				r.Apply(y, x)
-				want := make([]float64, dst.NEdges)
+				want := make([]float64, dst.NumEdges)
 				setFlow(dst, want, flow)
 				du, dh := 0.0, 0.0
 				for e, w := range want {
-					du = max(du, math.Abs(y[dst.NCells+e]-w))
+					du = max(du, math.Abs(y[dst.NumCells+e]-w))
 				}
-				for j := 0; j < dst.NCells; j++ {
+				for j := 0; j < dst.NumCells; j++ {
 					dh = max(dh, math.Abs(y[j]-depth(dst.CellX[j], dst.CellY[j])))
 				}
 				eu, eh = append(eu, du), append(eh, dh)
@@ -370,7 +370,7 @@ func TestSearchIsLinear(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			per := float64(r.clipped) / float64(p[0].NCells+p[1].NCells)
+			per := float64(r.clipped) / float64(p[0].NumCells+p[1].NumCells)
 			if per > 8 {
 				t.Errorf("%s → %s: %.1f clipped pairs per cell", name(p[0]), name(p[1]), per)
 			}
@@ -384,12 +384,12 @@ func TestBottomLakeAtRest(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	b, h := make([]float64, src.NCells), make([]float64, src.NCells)
+	b, h := make([]float64, src.NumCells), make([]float64, src.NumCells)
 	for i := range b {
 		b[i] = 300 * math.Exp(-math.Pow((src.CellX[i]-length/2)/1e5, 2))
 		h[i] = 1000 - b[i]
 	}
-	b2, h2 := make([]float64, dst.NCells), make([]float64, dst.NCells)
+	b2, h2 := make([]float64, dst.NumCells), make([]float64, dst.NumCells)
 	r.Cells(b2, b)
 	r.Cells(h2, h)
 	for j := range b2 {
@@ -418,8 +418,8 @@ func BenchmarkNew(b *testing.B) {
 			}
 		})
 		r, _ := New(src, dst)
-		x := make([]float64, src.NCells+src.NEdges)
-		y := make([]float64, dst.NCells+dst.NEdges)
+		x := make([]float64, src.NumCells+src.NumEdges)
+		y := make([]float64, dst.NumCells+dst.NumEdges)
 		b.Run(c.name+"/Apply", func(b *testing.B) {
 			for b.Loop() {
 				r.Apply(y, x)

@@ -69,7 +69,7 @@ type sphPolys struct {
 }
 
 func newSphPolys(m *mesh.Mesh) (*sphPolys, error) {
-	nc := m.NCells
+	nc := m.NumCells
 	inv := 1 / m.Surface.Radius
 	p := &sphPolys{
 		m: m, start: m.CellEdgeStart,
@@ -110,10 +110,10 @@ func prev(k, lo, hi int) int {
 // across returns the cell on the other side of side k of cell i.
 func (p *sphPolys) across(i int32, k int) int32 {
 	e := p.m.CellEdges[k]
-	if c := p.m.CellsOnEdge[2*e]; c != i {
+	if c := p.m.EdgeCells[2*e]; c != i {
 		return c
 	}
-	return p.m.CellsOnEdge[2*e+1]
+	return p.m.EdgeCells[2*e+1]
 }
 
 // depth returns how far the unit vector x lies inside cell i: the smallest
@@ -155,7 +155,7 @@ func (p *sphPolys) locate(x vec3, from int32) (int32, int) {
 		i = next
 		steps++
 	}
-	for range p.m.NCells {
+	for range p.m.NumCells {
 		d, side := p.depth(i, x)
 		if d >= -insideTol {
 			return i, steps
@@ -164,12 +164,12 @@ func (p *sphPolys) locate(x vec3, from int32) (int32, int) {
 		steps++
 	}
 	bestD := math.Inf(-1)
-	for c := range int32(p.m.NCells) {
+	for c := range int32(p.m.NumCells) {
 		if d, _ := p.depth(c, x); d > bestD {
 			i, bestD = c, d
 		}
 	}
-	return i, steps + p.m.NCells
+	return i, steps + p.m.NumCells
 }
 
 // sphClip holds the buffers of the spherical polygon clipper.
@@ -234,8 +234,8 @@ func newSphere(src, dst *mesh.Mesh) (*Remapper, error) {
 		}
 	}
 	r := &Remapper{
-		srcCells: src.NCells, srcEdges: src.NEdges,
-		dstCells: dst.NCells, dstEdges: dst.NEdges,
+		srcCells: src.NumCells, srcEdges: src.NumEdges,
+		dstCells: dst.NumCells, dstEdges: dst.NumEdges,
 	}
 	sp, err := newSphPolys(src)
 	if err != nil {
@@ -264,9 +264,9 @@ func newSphere(src, dst *mesh.Mesh) (*Remapper, error) {
 // checkSphereMesh reports a sphere mesh whose arrays do not match its
 // counts, so that a malformed mesh gets an error rather than a panic.
 func checkSphereMesh(m *mesh.Mesh) error {
-	nc, ne, nv := m.NCells, m.NEdges, m.NVertices
+	nc, ne, nv := m.NumCells, m.NumEdges, m.NumVertices
 	ok := nc > 0 && ne > 0 && nv > 0 && m.Surface.Radius > 0 &&
-		len(m.CellEdgeStart) == nc+1 && len(m.CellsOnEdge) == 2*ne && len(m.CellArea) == nc &&
+		len(m.CellEdgeStart) == nc+1 && len(m.EdgeCells) == 2*ne && len(m.CellArea) == nc &&
 		len(m.CellX) == nc && len(m.CellY) == nc && len(m.CellZ) == nc &&
 		len(m.VertexX) == nv && len(m.VertexY) == nv && len(m.VertexZ) == nv &&
 		len(m.EdgeX) == ne && len(m.EdgeY) == ne && len(m.EdgeZ) == ne &&
@@ -286,7 +286,7 @@ func checkSphereMesh(m *mesh.Mesh) error {
 // centre. The new cells are visited breadth first, so that each search
 // starts from the host of a neighbour, a step or two away: O(N) in all.
 func (r *Remapper) sphHosts(sp, dp *sphPolys) ([]int32, error) {
-	nd := dp.m.NCells
+	nd := dp.m.NumCells
 	host := make([]int32, nd)
 	for j := range host {
 		host[j] = -1
@@ -328,16 +328,16 @@ func (r *Remapper) sphHosts(sp, dp *sphPolys) ([]int32, error) {
 // scaled by A_i / Σ_j |P_i ∩ Q_j| to make the mass exact.
 func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 	src, dst := sp.m, dp.m
-	nd := dst.NCells
+	nd := dst.NumCells
 	r2 := dst.Surface.Radius * dst.Surface.Radius
 	r.cellStart = make([]int32, nd+1)
-	r.cellFrom = make([]int32, 0, 2*(src.NCells+nd))
-	r.cellW = make([]float64, 0, 2*(src.NCells+nd))
-	stamp := make([]int32, src.NCells)
+	r.cellFrom = make([]int32, 0, 2*(src.NumCells+nd))
+	r.cellW = make([]float64, 0, 2*(src.NumCells+nd))
+	stamp := make([]int32, src.NumCells)
 	for i := range stamp {
 		stamp[i] = -1
 	}
-	srcCover := make([]float64, src.NCells)
+	srcCover := make([]float64, src.NumCells)
 	var queue []int32
 	var sc sphClip
 	for j := 0; j < nd; j++ {
@@ -437,14 +437,14 @@ func (f *sphFrame) row(x, n vec3) [6]float64 {
 // it and projected on the new normal.
 func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) error {
 	src := sp.m
-	ne, nc := dst.NEdges, src.NCells
+	ne, nc := dst.NumEdges, src.NumCells
 	rs, rd := 1/src.Surface.Radius, 1/dst.Surface.Radius
 	st := newStencils(src)
 	edgeHost := make([]int32, ne)
 	r.edgeStart = make([]int32, ne+1)
 	for e := 0; e < ne; e++ {
 		x := vec3{dst.EdgeX[e] * rd, dst.EdgeY[e] * rd, dst.EdgeZ[e] * rd}.unit()
-		i, steps := sp.locate(x, host[dst.CellsOnEdge[2*e]])
+		i, steps := sp.locate(x, host[dst.EdgeCells[2*e]])
 		r.walked += steps
 		edgeHost[e] = i
 		r.edgeStart[e+1] = r.edgeStart[e] + st.start[i+1] - st.start[i]

@@ -70,8 +70,8 @@ func TestSphereMassConservedAndMonotone(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%v: %v", p, err)
 		}
-		h := make([]float64, src.NCells)
-		out := make([]float64, dst.NCells)
+		h := make([]float64, src.NumCells)
+		out := make([]float64, dst.NumCells)
 
 		// A random field keeps its mass and stays within its old range.
 		for i := range h {
@@ -94,8 +94,8 @@ func TestSphereMassConservedAndMonotone(t *testing.T) {
 		// The mass of every single old cell goes to the new cells exactly:
 		// Σ_j A_j w_ji = A_i, the column sums of the map. This is mass
 		// conservation for a field that is 1 in one cell and 0 elsewhere.
-		col := make([]float64, src.NCells)
-		for j := 0; j < dst.NCells; j++ {
+		col := make([]float64, src.NumCells)
+		for j := 0; j < dst.NumCells; j++ {
 			for k := r.cellStart[j]; k < r.cellStart[j+1]; k++ {
 				col[r.cellFrom[k]] += dst.CellArea[j] * r.cellW[k]
 			}
@@ -140,24 +140,24 @@ func TestSphereIdentity(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		x := make([]float64, a.NCells+a.NEdges)
+		x := make([]float64, a.NumCells+a.NumEdges)
 		for k := range x {
 			x[k] = rng.NormFloat64()
 		}
-		for i := 0; i < a.NCells; i++ {
+		for i := 0; i < a.NumCells; i++ {
 			x[i] += 1000
 		}
 		y := make([]float64, len(x))
 		r.Apply(y, x)
-		for i := 0; i < a.NCells; i++ {
+		for i := 0; i < a.NumCells; i++ {
 			if math.Abs(y[i]-x[i]) > 1e-13*x[i] {
 				t.Errorf("%s: identity changes h[%d] from %.17g to %.17g", icoName(a, c.opt), i, x[i], y[i])
 				break
 			}
 		}
-		for e := a.NCells; e < len(x); e++ {
+		for e := a.NumCells; e < len(x); e++ {
 			if y[e] != x[e] {
-				t.Errorf("%s: identity changes u[%d] from %g to %g", icoName(a, c.opt), e-a.NCells, x[e], y[e])
+				t.Errorf("%s: identity changes u[%d] from %g to %g", icoName(a, c.opt), e-a.NumCells, x[e], y[e])
 				break
 			}
 		}
@@ -183,7 +183,7 @@ func TestSphereSolidBodyExact(t *testing.T) {
 		worst := 0.0
 		for _, ax := range axes {
 			rot := func(x vec3) vec3 { return ax.cross(x).scale(u0) }
-			u, want, got := make([]float64, src.NEdges), make([]float64, dst.NEdges), make([]float64, dst.NEdges)
+			u, want, got := make([]float64, src.NumEdges), make([]float64, dst.NumEdges), make([]float64, dst.NumEdges)
 			sphereFlow(src, u, rot)
 			sphereFlow(dst, want, rot)
 			r.Velocity(got, u)
@@ -275,20 +275,20 @@ func TestSphereSmoothFieldsConverge(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			x := make([]float64, src.NCells+src.NEdges)
-			for i := 0; i < src.NCells; i++ {
+			x := make([]float64, src.NumCells+src.NumEdges)
+			for i := 0; i < src.NumCells; i++ {
 				x[i] = smoothDepth(centroid(src, i))
 			}
-			sphereFlow(src, x[src.NCells:], smoothFlow)
-			y := make([]float64, dst.NCells+dst.NEdges)
+			sphereFlow(src, x[src.NumCells:], smoothFlow)
+			y := make([]float64, dst.NumCells+dst.NumEdges)
 			r.Apply(y, x)
-			want := make([]float64, dst.NEdges)
+			want := make([]float64, dst.NumEdges)
 			sphereFlow(dst, want, smoothFlow)
 			du, dh := 0.0, 0.0
 			for e, w := range want {
-				du = max(du, math.Abs(y[dst.NCells+e]-w))
+				du = max(du, math.Abs(y[dst.NumCells+e]-w))
 			}
-			for j := 0; j < dst.NCells; j++ {
+			for j := 0; j < dst.NumCells; j++ {
 				dh = max(dh, math.Abs(y[j]-smoothDepth(centroid(dst, j))))
 			}
 			if bound := grad * (diameter(src) + diameter(dst)); !(dh <= bound) {
@@ -359,8 +359,8 @@ func TestSphereSearchIsLinear(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		clip := float64(r.clipped) / float64(src.NCells+dst.NCells)
-		walk := float64(r.walked) / float64(dst.NCells+dst.NEdges)
+		clip := float64(r.clipped) / float64(src.NumCells+dst.NumCells)
+		walk := float64(r.walked) / float64(dst.NumCells+dst.NumEdges)
 		if clip > 8 || walk > 3 {
 			t.Errorf("%v: %.2f clipped pairs per cell, %.2f search steps per point", p, clip, walk)
 		}
@@ -383,8 +383,8 @@ func BenchmarkNewSphere(b *testing.B) {
 			}
 		})
 		r, _ := New(c.src, c.dst)
-		x := make([]float64, c.src.NCells+c.src.NEdges)
-		y := make([]float64, c.dst.NCells+c.dst.NEdges)
+		x := make([]float64, c.src.NumCells+c.src.NumEdges)
+		y := make([]float64, c.dst.NumCells+c.dst.NumEdges)
 		b.Run(c.name+"/Apply", func(b *testing.B) {
 			for b.Loop() {
 				r.Apply(y, x)

@@ -25,7 +25,7 @@ var fusedSpecs = []mesh.Spec{
 // regroups the same sums per cell, so the two agree to round-off.
 func reference(f fixture, name string) []float64 {
 	g := f.g
-	nc, ne, nv := g.NCells, g.NEdges, g.NVertices
+	nc, ne, nv := g.NumCells, g.NumEdges, g.NumVertices
 	h, u := f.x[:nc], f.x[nc:]
 	out := make([]float64, nc+ne)
 	flux := make([]float64, ne)
@@ -41,14 +41,14 @@ func reference(f fixture, name string) []float64 {
 	g.PotentialVorticity(q, f.phys.FVertex, u, h, 0, nv)
 	qe, qf := make([]float64, ne), make([]float64, ne)
 	for e := range qe {
-		qe[e] = 0.5 * (q[g.VerticesOnEdge[2*e]] + q[g.VerticesOnEdge[2*e+1]])
+		qe[e] = 0.5 * (q[g.EdgeVertices[2*e]] + q[g.EdgeVertices[2*e+1]])
 		qf[e] = qe[e] * flux[e]
 	}
 	tr := ops.NewTRiSK(g)
 	ga, gb := make([]float64, tr.Slots()), make([]float64, tr.Slots())
 	tr.CellSums2(ga, gb, flux, qf, 0, nc)
 	for e := 0; e < ne; e++ {
-		c0, c1 := g.CellsOnEdge[2*e], g.CellsOnEdge[2*e+1]
+		c0, c1 := g.EdgeCells[2*e], g.EdgeCells[2*e+1]
 		perp := 0.5 * (qe[e]*tr.Edge(ga, e) + tr.Edge(gb, e))
 		if name == TRiSKEnstrophy {
 			perp = qe[e] * tr.Edge(ga, e)
@@ -72,7 +72,7 @@ func TestTendencyMatchesOperators(t *testing.T) {
 			s.Tendency(got, f.x)
 			want := reference(f, name)
 			scale := make([]float64, 2)
-			nc := f.g.NCells
+			nc := f.g.NumCells
 			for k, w := range want {
 				scale[min(k/nc, 1)] = max(scale[min(k/nc, 1)], math.Abs(w))
 			}

@@ -22,7 +22,7 @@ func BenchmarkPhases(b *testing.B) {
 		f := randomFixtureOn(b, spec, 1)
 		s := newTRiSK(TRiSKEnergy, f.g, f.phys, par.New(1), Options{})
 		dx := make([]float64, len(f.x))
-		s.x, s.dst, s.dh = f.x, dx, dx[:f.m.NCells]
+		s.x, s.dst, s.dh = f.x, dx, dx[:f.m.NumCells]
 		for _, ph := range []struct {
 			name string
 			n    int
@@ -35,7 +35,7 @@ func BenchmarkPhases(b *testing.B) {
 					ph.fn(0, ph.n)
 					best = min(best, time.Since(t0))
 				}
-				b.ReportMetric(float64(best.Nanoseconds())/float64(f.m.NCells), "min-ns/cell")
+				b.ReportMetric(float64(best.Nanoseconds())/float64(f.m.NumCells), "min-ns/cell")
 			})
 		}
 	}

@@ -1,7 +1,7 @@
 // Package scheme computes shallow-water tendencies on C-grids.
 //
 // The prognostic state is one flat vector x = [h | u]: the fluid depth h_i
-// on the NCells cells followed by the normal velocity u_e on the NEdges
+// on the NumCells cells followed by the normal velocity u_e on the NumEdges
 // edges. A Scheme sets dst = dx/dt for the vector-invariant equations
 //
 //	∂h/∂t = −∇·(h u)
@@ -127,12 +127,12 @@ func Anywhere() []string {
 // isSquare reports whether every cell has four edges and every vertex four
 // edges: the topology the Arakawa–Lamb stencil is written for.
 func isSquare(g ops.Grid) bool {
-	for i := 0; i < g.NCells; i++ {
+	for i := 0; i < g.NumCells; i++ {
 		if g.CellEdgeStart[i+1]-g.CellEdgeStart[i] != 4 {
 			return false
 		}
 	}
-	for v := 0; v < g.NVertices; v++ {
+	for v := 0; v < g.NumVertices; v++ {
 		if g.VertexEdgeStart[v+1]-g.VertexEdgeStart[v] != 4 {
 			return false
 		}
@@ -142,11 +142,11 @@ func isSquare(g ops.Grid) bool {
 
 // New builds the named scheme on the grid.
 func New(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options) (Scheme, error) {
-	if len(phys.FVertex) != g.NVertices {
-		return nil, fmt.Errorf("scheme: %d Coriolis values for %d vertices", len(phys.FVertex), g.NVertices)
+	if len(phys.FVertex) != g.NumVertices {
+		return nil, fmt.Errorf("scheme: %d Coriolis values for %d vertices", len(phys.FVertex), g.NumVertices)
 	}
-	if phys.Bottom != nil && len(phys.Bottom) != g.NCells {
-		return nil, fmt.Errorf("scheme: %d bottom heights for %d cells", len(phys.Bottom), g.NCells)
+	if phys.Bottom != nil && len(phys.Bottom) != g.NumCells {
+		return nil, fmt.Errorf("scheme: %d bottom heights for %d cells", len(phys.Bottom), g.NumCells)
 	}
 	if opt.APVMFactor < 0 {
 		return nil, fmt.Errorf("scheme.apvm_factor = %g: must be ≥ 0", opt.APVMFactor)

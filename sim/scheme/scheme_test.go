@@ -33,17 +33,17 @@ func randomFixtureOn(t testing.TB, spec mesh.Spec, seed uint64) fixture {
 	}
 	rng := rand.New(rand.NewPCG(seed, 7))
 	f := fixture{m: m, g: ops.Grid{Topology: &m.Topology, Metric: &m.Metric}}
-	f.phys = Physics{G: 9.80616, FVertex: make([]float64, m.NVertices), Bottom: make([]float64, m.NCells)}
+	f.phys = Physics{G: 9.80616, FVertex: make([]float64, m.NumVertices), Bottom: make([]float64, m.NumCells)}
 	for v := range f.phys.FVertex {
 		f.phys.FVertex[v] = 1e-4 * (1 + 0.3*rng.NormFloat64())
 	}
-	f.x = make([]float64, m.NCells+m.NEdges)
-	for i := 0; i < m.NCells; i++ {
+	f.x = make([]float64, m.NumCells+m.NumEdges)
+	for i := 0; i < m.NumCells; i++ {
 		f.x[i] = 1000 * (1 + 0.1*(rng.Float64()-0.5))
 		f.phys.Bottom[i] = 50 * rng.Float64()
 	}
-	for e := 0; e < m.NEdges; e++ {
-		f.x[m.NCells+e] = 10 * rng.NormFloat64()
+	for e := 0; e < m.NumEdges; e++ {
+		f.x[m.NumCells+e] = 10 * rng.NormFloat64()
 	}
 	return f
 }
@@ -54,21 +54,21 @@ func randomFixtureOn(t testing.TB, spec mesh.Spec, seed uint64) fixture {
 // and potential enstrophy Z = Σ_v A_v h_v q_v²/2.
 func rates(f fixture, dx []float64) (dm, sm, de, se, dz, sz float64) {
 	g, m := f.g, f.m
-	nc := m.NCells
+	nc := m.NumCells
 	h, u := f.x[:nc], f.x[nc:]
 	dh, du := dx[:nc], dx[nc:]
-	he, flux := make([]float64, m.NEdges), make([]float64, m.NEdges)
-	g.EdgeFlux(he, flux, h, u, 0, m.NEdges) // l_e h_e u_e
+	he, flux := make([]float64, m.NumEdges), make([]float64, m.NumEdges)
+	g.EdgeFlux(he, flux, h, u, 0, m.NumEdges) // l_e h_e u_e
 	ke := make([]float64, nc)
 	g.DivKE(nil, ke, flux, u, 0, nc)
-	zeta, hv := make([]float64, m.NVertices), make([]float64, m.NVertices)
-	g.Vorticity(zeta, hv, u, h, 0, m.NVertices)
-	q := make([]float64, m.NVertices)
+	zeta, hv := make([]float64, m.NumVertices), make([]float64, m.NumVertices)
+	g.Vorticity(zeta, hv, u, h, 0, m.NumVertices)
+	q := make([]float64, m.NumVertices)
 	for v := range q {
 		q[v] = (zeta[v] + f.phys.FVertex[v]) / hv[v]
 	}
 	dzdh := make([]float64, nc)
-	for v := 0; v < m.NVertices; v++ {
+	for v := 0; v < m.NumVertices; v++ {
 		lo, hi := g.EdgesOfVertex(v)
 		for k := lo; k < hi; k++ {
 			dzdh[g.VertexCells[k]] -= g.VertexKiteArea[k] * q[v] * q[v] / 2
@@ -84,11 +84,11 @@ func rates(f fixture, dx []float64) (dm, sm, de, se, dz, sz float64) {
 		dz += dzdh[i] * dh[i]
 		sz += math.Abs(dzdh[i] * dh[i])
 	}
-	for e := 0; e < m.NEdges; e++ {
+	for e := 0; e < m.NumEdges; e++ {
 		t := g.DualLength[e] * flux[e] * du[e] // ∂E/∂u_e = l_e d_e h_e u_e
 		de += t
 		se += math.Abs(t)
-		v0, v1 := g.VerticesOnEdge[2*e], g.VerticesOnEdge[2*e+1]
+		v0, v1 := g.EdgeVertices[2*e], g.EdgeVertices[2*e+1]
 		t = g.DualLength[e] * (q[v1] - q[v0]) * du[e]
 		dz += t
 		sz += math.Abs(t)
@@ -179,7 +179,7 @@ func TestSadournyEnstrophyIsTRiSK(t *testing.T) {
 		// worst |a − b| over the velocity tendencies, against their size.
 		gap := func(a, b []float64) float64 {
 			var d, size float64
-			for k := f.m.NCells; k < len(a); k++ {
+			for k := f.m.NumCells; k < len(a); k++ {
 				d = max(d, math.Abs(a[k]-b[k]))
 				size = max(size, math.Abs(a[k]))
 			}

@@ -53,7 +53,7 @@ type square struct {
 
 func newSquare(name string, g ops.Grid, phys Physics, pool *par.Pool) *square {
 	s := &square{core: newCore(g, phys, pool), name: name}
-	ne := g.NEdges
+	ne := g.NumEdges
 	s.invDual = make([]float64, ne)
 	s.nb = make([][6]int32, ne)
 	s.sg = make([][6]float64, ne)
@@ -67,7 +67,7 @@ func newSquare(name string, g ops.Grid, phys Physics, pool *par.Pool) *square {
 	}
 	for e := 0; e < ne; e++ {
 		s.invDual[e] = 1 / g.DualLength[e]
-		c0, c1 := g.CellsOnEdge[2*e], g.CellsOnEdge[2*e+1]
+		c0, c1 := g.EdgeCells[2*e], g.EdgeCells[2*e+1]
 		lo0, j0 := at(c0, e, 1)
 		lo1, j1 := at(c1, e, -1)
 		k0 := func(m int) int { return lo0 + (j0+m)%4 }
@@ -88,7 +88,7 @@ func newSquare(name string, g ops.Grid, phys Physics, pool *par.Pool) *square {
 			cv[k1(2)], cv[k1(3)], cv[k1(0)], cv[k1(1)], // c1: NE, NW, SW, SE
 		}
 	}
-	s.phi = make([]float64, g.NCells)
+	s.phi = make([]float64, g.NumCells)
 	s.bind()
 	s.phaseCells = s.cells
 	switch name {
@@ -138,7 +138,7 @@ func (s *square) cells(lo, hi int) {
 func (s *square) momentumAL81(lo, hi int) {
 	du := s.dst[s.nc:]
 	q, fk := s.q, s.fk
-	cells := s.g.CellsOnEdge
+	cells := s.g.EdgeCells
 	const w = 1.0 / 24
 	for e := lo; e < hi; e++ {
 		c := &s.corner[e]
@@ -167,7 +167,7 @@ func (s *square) northSouth(e int) (qn, qs float64) {
 func (s *square) momentumEnergy(lo, hi int) {
 	du := s.dst[s.nc:]
 	fk := s.fk
-	cells := s.g.CellsOnEdge
+	cells := s.g.EdgeCells
 	for e := lo; e < hi; e++ {
 		qn, qs := s.northSouth(e)
 		nb, sg := &s.nb[e], &s.sg[e]
@@ -179,7 +179,7 @@ func (s *square) momentumEnergy(lo, hi int) {
 func (s *square) momentumEnstrophy(lo, hi int) {
 	du := s.dst[s.nc:]
 	fk := s.fk
-	cells := s.g.CellsOnEdge
+	cells := s.g.EdgeCells
 	for e := lo; e < hi; e++ {
 		qn, qs := s.northSouth(e)
 		nb, sg := &s.nb[e], &s.sg[e]

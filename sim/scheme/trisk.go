@@ -36,10 +36,10 @@ type core struct {
 func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 	c := core{
 		g: g, phys: phys, pool: pool,
-		nc: g.NCells, ne: g.NEdges, nv: g.NVertices,
-		q:       make([]float64, g.NVertices),
-		fk:      make([]pair, g.NEdges),
-		invArea: make([]float64, g.NCells),
+		nc: g.NumCells, ne: g.NumEdges, nv: g.NumVertices,
+		q:       make([]float64, g.NumVertices),
+		fk:      make([]pair, g.NumEdges),
+		invArea: make([]float64, g.NumCells),
 	}
 	for i, a := range g.CellArea {
 		c.invArea[i] = 1 / a
@@ -74,7 +74,7 @@ func (c *core) doVertices(lo, hi int) {
 func (c *core) doEdges(lo, hi int) {
 	h, u := c.x[:c.nc], c.x[c.nc+lo:c.nc+hi]
 	fk := c.fk[lo:hi]
-	cells := c.g.CellsOnEdge[2*lo : 2*hi]
+	cells := c.g.EdgeCells[2*lo : 2*hi]
 	l, d := c.g.EdgeLength[lo:hi], c.g.DualLength[lo:hi]
 	u, l, d = u[:len(fk)], l[:len(fk)], d[:len(fk)]
 	for k := range fk {
@@ -137,9 +137,9 @@ type trisk struct {
 
 func newTRiSK(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options) *trisk {
 	s := &trisk{core: newCore(g, phys, pool), name: name, enstrophy: name == TRiSKEnstrophy}
-	s.tt = make([]pair, g.NEdges)
+	s.tt = make([]pair, g.NumEdges)
 	touch(s.tt)
-	for i := 0; i < g.NCells; i++ {
+	for i := 0; i < g.NumCells; i++ {
 		if lo, hi := g.EdgesOfCell(i); hi-lo > maxCellEdges {
 			panic(fmt.Sprintf("scheme: cell %d has %d edges, more than %d", i, hi-lo, maxCellEdges))
 		}
@@ -152,10 +152,10 @@ func newTRiSK(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options
 	if name == APVM {
 		s.apvm = opt.APVMFactor
 		s.perp = ops.NewTRiSK(g)
-		s.qcell = make([]float64, g.NCells)
-		s.lu = make([]float64, g.NEdges)
+		s.qcell = make([]float64, g.NumCells)
+		s.lu = make([]float64, g.NumEdges)
 		s.gu = make([]float64, s.perp.Slots())
-		s.corr = make([]float64, g.NEdges)
+		s.corr = make([]float64, g.NumEdges)
 		s.phaseQ = s.cellPV
 		s.phaseA = s.anticipate
 	}
@@ -237,7 +237,7 @@ type run struct{ lo, hi, n int32 }
 
 func cellRuns(g ops.Grid) []run {
 	var rs []run
-	for i := 0; i < g.NCells; i++ {
+	for i := 0; i < g.NumCells; i++ {
 		lo, hi := g.EdgesOfCell(i)
 		if n := int32(hi - lo); len(rs) > 0 && rs[len(rs)-1].n == n {
 			rs[len(rs)-1].hi++
@@ -494,7 +494,7 @@ func (s *trisk) cellPV(lo, hi int) {
 // used by Ringler et al. 2010, §5: from memory).
 func (s *trisk) anticipate(lo, hi int) {
 	u := s.x[s.nc:]
-	cells, verts := s.g.CellsOnEdge, s.g.VerticesOnEdge
+	cells, verts := s.g.EdgeCells, s.g.EdgeVertices
 	l, d := s.g.EdgeLength, s.g.DualLength
 	cdt := s.apvm * s.dt
 	for e := lo; e < hi; e++ {
