@@ -131,8 +131,31 @@ func setVelocity(m *mesh.Mesh, u []float64, v func(x, y float64) (float64, float
 	}
 }
 
+// setStreamfunction sets u_e = (ψ(v0) − ψ(v1)) / l_e from the
+// streamfunction ψ at the edge's two vertices, the discrete form of
+// u = k × ∇ψ with t_e = k × n_e running from v0 to v1. Its discrete
+// divergence is zero to round-off on every grid (the divergence of a
+// discrete curl vanishes: Thuburn et al. 2009, J. Comput. Phys. 228,
+// 8321–8335), whereas point values of a nondivergent field projected on
+// n_e carry a truncation-size divergence that starts gravity waves.
+func setStreamfunction(m *mesh.Mesh, u []float64, psi func(x, y float64) float64) {
+	for e := range u {
+		v0, v1 := m.EdgeVertices[2*e], m.EdgeVertices[2*e+1]
+		u[e] = (psi(m.VertexX[v0], m.VertexY[v0]) - psi(m.VertexX[v1], m.VertexY[v1])) / m.EdgeLength[e]
+	}
+}
+
 // wrap returns the periodic image of d nearest zero.
 func wrap(d, l float64) float64 { return d - l*math.Round(d/l) }
+
+// inPeriod returns the periodic image of y in [0, l).
+func inPeriod(y, l float64) float64 {
+	y -= l * math.Floor(y/l)
+	if y >= l { // y a tiny negative number rounds up to l
+		y = 0
+	}
+	return y
+}
 
 func needRotation(name string, p Physics) error {
 	if p.F0 == 0 {
@@ -172,7 +195,7 @@ func geostrophicSteady() *Case {
 func gaussianBump() *Case {
 	return &Case{
 		Name: "gaussian-bump",
-		Doc:  "fluid at rest with a Gaussian depth bump: gravity waves and geostrophic adjustment",
+		Doc:  "fluid at rest with a Gaussian depth bump, unbalanced on purpose: it sheds gravity waves and adjusts geostrophically",
 		Params: []Param{
 			{"amplitude", 10, "bump height, m"},
 			{"width", 0.05, "Gaussian e-folding radius σ as a fraction of the domain width"},
@@ -198,11 +221,13 @@ func gaussianBump() *Case {
 	}
 }
 
-// balancedBumps sets h = H + Σ a_k exp(−r_k²/2σ²) and the geostrophic wind
-// u = −(g/f) ∂h/∂y, v = (g/f) ∂h/∂x of that depth.
-func balancedBumps(m *mesh.Mesh, p Physics, h, u []float64, sigma float64, xs, ys, amps []float64) {
+// balancedBumps sets the nondivergent wind u = −∂ψ/∂y, v = ∂ψ/∂x of the
+// streamfunction ψ = (g/f0) Σ a_k exp(−r_k²/2σ²), which is the geostrophic
+// wind of a depth H + Σ a_k exp(−r_k²/2σ²), and the depth in nonlinear
+// balance with that wind (balancedDepth).
+func balancedBumps(m *mesh.Mesh, p Physics, h, u []float64, sigma float64, xs, ys, amps []float64) error {
 	lx, ly := m.Surface.Lx, m.Surface.Ly
-	depth := func(x, y float64) (hh, hx, hy float64) {
+	bumps := func(x, y float64) (hh, hx, hy float64) {
 		for k := range xs {
 			dx, dy := wrap(x-xs[k], lx), wrap(y-ys[k], ly)
 			g := amps[k] * math.Exp(-(dx*dx+dy*dy)/(2*sigma*sigma))
@@ -212,22 +237,33 @@ func balancedBumps(m *mesh.Mesh, p Physics, h, u []float64, sigma float64, xs, y
 		}
 		return
 	}
-	for i := range h {
-		d, _, _ := depth(m.CellX[i], m.CellY[i])
-		h[i] = p.Depth + d
+	// Six points per σ leave the spectrum of the products below 1e-16 at
+	// the grid's Nyquist wavenumber.
+	nx, err := balanceGridSize(6 * lx / sigma)
+	if err != nil {
+		return err
 	}
-	setVelocity(m, u, func(x, y float64) (float64, float64) {
-		_, hx, hy := depth(x, y)
-		return -p.G / p.F0 * hy, p.G / p.F0 * hx
+	ny, err := balanceGridSize(6 * ly / sigma)
+	if err != nil {
+		return err
+	}
+	balancedDepth(m, p, h, nx, ny, func(x, y float64) float64 {
+		b, _, _ := bumps(x, y)
+		return p.G / p.F0 * b
 	})
+	setStreamfunction(m, u, func(x, y float64) float64 {
+		b, _, _ := bumps(x, y)
+		return p.G / p.F0 * b
+	})
+	return nil
 }
 
 func vortexPair() *Case {
 	return &Case{
 		Name: "vortex-pair",
-		Doc:  "a cyclone and an anticyclone in geostrophic balance that drift together as a dipole",
+		Doc:  "a cyclone and an anticyclone in nonlinear balance that drift together as a dipole",
 		Params: []Param{
-			{"amplitude", 15, "depth anomaly of each vortex, m (low for the cyclone, high for the anticyclone)"},
+			{"amplitude", 15, "geostrophic depth anomaly of each vortex, m (low for the cyclone, high for the anticyclone); the depth adds the nonlinear-balance correction"},
 			{"width", 0.06, "vortex radius σ as a fraction of the domain width"},
 			{"separation", 0.16, "distance between the centres as a fraction of the domain width"},
 		},
@@ -240,7 +276,9 @@ func vortexPair() *Case {
 			if !(s > 0) {
 				return fmt.Errorf("initial.width = %g: must be > 0", prm["width"])
 			}
-			balancedBumps(m, p, h, u, s, []float64{lx/2 - d, lx/2 + d}, []float64{ly / 2, ly / 2}, []float64{-a, a})
+			if err := balancedBumps(m, p, h, u, s, []float64{lx/2 - d, lx/2 + d}, []float64{ly / 2, ly / 2}, []float64{-a, a}); err != nil {
+				return fmt.Errorf("initial.width = %g: too narrow: %w", prm["width"], err)
+			}
 			return nil
 		},
 	}
@@ -249,7 +287,7 @@ func vortexPair() *Case {
 func shearLayer() *Case {
 	return &Case{
 		Name: "shear-layer",
-		Doc:  "two opposed balanced jets whose flanks are barotropically unstable and roll up into vortices",
+		Doc:  "two opposed jets in geostrophic balance whose flanks are barotropically unstable; a small unbalanced depth perturbation sets off their roll-up into vortices",
 		Params: []Param{
 			{"u_max", 20, "jet speed, m/s"},
 			{"width", 0.04, "jet half-width as a fraction of the domain height"},
@@ -266,19 +304,31 @@ func shearLayer() *Case {
 				return fmt.Errorf("initial.width = %g: must be > 0", prm["width"])
 			}
 			y1, y2 := ly/4, 3*ly/4
+			// Distances are taken from y in [0, Ly), not wrapped: erf is odd,
+			// so erf of a wrapped distance jumps by 2 where the wrap flips
+			// sign (y = 3Ly/4 for the first jet, Ly/4 for the second), a
+			// depth step of 2·f·u_max·w·√π/(2g) = 29 m at the defaults.
+			// Unwrapped, each jet's depth profile levels off to ±1 at the
+			// domain edges: at the edges the arguments are at least
+			// Ly/(4w) = 6.25 at the default width, where erfc(6.25) ≈ 1e-18,
+			// so the profile is periodic to far below round-off.
+			arg := func(y float64) (a, c float64) {
+				y = inPeriod(y, ly)
+				return (y - y1) / w, (y - y2) / w
+			}
 			jet := func(y float64) float64 {
-				a, c := wrap(y-y1, ly)/w, wrap(y-y2, ly)/w
+				a, c := arg(y)
 				return um * (math.Exp(-a*a) - math.Exp(-c*c))
 			}
 			// g ∂h/∂y = −f u, integrated in closed form: ∫ exp(−s²) = (√π/2) erf.
 			depth := func(y float64) float64 {
-				a, c := wrap(y-y1, ly)/w, wrap(y-y2, ly)/w
+				a, c := arg(y)
 				return -p.F0 * um * w * math.Sqrt(math.Pi) / 2 * (math.Erf(a) - math.Erf(c)) / p.G
 			}
 			kx := 2 * math.Pi * prm["wavenumber"] / lx
 			for i := range h {
 				x, y := m.CellX[i], m.CellY[i]
-				a, c := wrap(y-y1, ly)/w, wrap(y-y2, ly)/w
+				a, c := arg(y)
 				bump := prm["perturbation"] * math.Sin(kx*x) * (math.Exp(-a*a) + math.Exp(-c*c))
 				h[i] = p.Depth + depth(y) + bump
 			}
@@ -291,7 +341,7 @@ func shearLayer() *Case {
 func turbulence() *Case {
 	return &Case{
 		Name: "turbulence",
-		Doc:  "balanced random-phase eddies with a spectrum peaked at one wavenumber, left to decay and merge",
+		Doc:  "random-phase eddies with a spectrum peaked at one wavenumber and the depth of nonlinear balance, left to decay and merge; at their Rossby number of several the start is not slow and sheds some gravity waves",
 		Params: []Param{
 			{"seed", 1, "random seed"},
 			{"k_peak", 6, "wavenumber of the energy peak, in waves per domain"},
@@ -337,9 +387,9 @@ func turbulence() *Case {
 				return
 			}
 			// Scale to the requested rms speed, measured on the edges.
-			setVelocity(m, u, func(x, y float64) (float64, float64) {
-				_, sx, sy := psi(x, y)
-				return -sy, sx
+			setStreamfunction(m, u, func(x, y float64) float64 {
+				s, _, _ := psi(x, y)
+				return s
 			})
 			ss := 0.0
 			for _, v := range u {
@@ -350,10 +400,17 @@ func turbulence() *Case {
 			for e := range u {
 				u[e] *= scale
 			}
-			for i := range h {
-				s, _, _ := psi(m.CellX[i], m.CellY[i])
-				h[i] = p.Depth + p.F0/p.G*scale*s
+			// The products in the balance equation reach wavenumber 2·kmax;
+			// a grid with more than twice that many points per side holds
+			// them without aliasing, so the depth is exact.
+			nx, err := balanceGridSize(float64(4*kmax + 2))
+			if err != nil {
+				return fmt.Errorf("initial.k_peak = %g: %w", kp, err)
 			}
+			balancedDepth(m, p, h, nx, nx, func(x, y float64) float64 {
+				s, _, _ := psi(x, y)
+				return scale * s
+			})
 			return nil
 		},
 	}

@@ -331,8 +331,8 @@ func galewskyInit(name string, m *mesh.Mesh, p Physics, hHat float64, h, u []flo
 func galewsky() *Case {
 	return &Case{
 		Name: galewskyName,
-		Doc: "Galewsky, Scott & Polvani (2004) barotropically unstable mid-latitude jet (u_max = 80 m/s) with a localised " +
-			"height bump that sets off its roll-up; run 6 days",
+		Doc: "Galewsky, Scott & Polvani (2004) barotropically unstable mid-latitude jet (u_max = 80 m/s) in gradient-wind balance, with a localised " +
+			"height bump, unbalanced on purpose, that sets off its roll-up; run 6 days",
 		Sphere: true,
 		Params: []Param{{"perturbation", 120, "amplitude ĥ of the height bump, m (the paper's 120 m)"}},
 		init: func(m *mesh.Mesh, p Physics, prm map[string]float64, h, u, b []float64) error {

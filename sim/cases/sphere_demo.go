@@ -16,7 +16,7 @@ import (
 func twinHills() *Case {
 	return &Case{
 		Name:   "twin-hills",
-		Doc:    "two depth hills at rest in opposite hemispheres: gravity-wave rings cross the globe and leave balanced vortices",
+		Doc:    "two depth hills at rest in opposite hemispheres, unbalanced on purpose: gravity-wave rings cross the globe and leave balanced vortices",
 		Sphere: true,
 		Params: []Param{
 			{"amplitude", 200, "hill height, m"},
