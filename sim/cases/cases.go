@@ -321,9 +321,11 @@ func shearLayer() *Case {
 				return um * (math.Exp(-a*a) - math.Exp(-c*c))
 			}
 			// g ∂h/∂y = −f u, integrated in closed form: ∫ exp(−s²) = (√π/2) erf.
+			// erf(a) − erf(c) is 2 between the jets and 0 outside, each over
+			// half the domain, so subtracting 1 keeps the mean depth H.
 			depth := func(y float64) float64 {
 				a, c := arg(y)
-				return -p.F0 * um * w * math.Sqrt(math.Pi) / 2 * (math.Erf(a) - math.Erf(c)) / p.G
+				return -p.F0 * um * w * math.Sqrt(math.Pi) / 2 * (math.Erf(a) - math.Erf(c) - 1) / p.G
 			}
 			kx := 2 * math.Pi * prm["wavenumber"] / lx
 			for i := range h {
