@@ -754,7 +754,7 @@ func (j *sweepJob) results(in SweepInfo) *web.SweepResults {
 	}
 	r.CSV, r.JSON = file(sweep.CSVFile), file(sweep.JSONFile)
 	for _, p := range []struct{ base, title string }{
-		{"error", "l2 depth error against grid spacing, with the fitted order"},
+		{"error", "l2 depth error against grid spacing, with the fitted l2 and l∞ orders"},
 		{"energy-drift", "relative energy drift against time"},
 		{"enstrophy-drift", "relative potential-enstrophy drift against time"},
 	} {
@@ -775,7 +775,7 @@ func (j *sweepJob) results(in SweepInfo) *web.SweepResults {
 		for _, x := range f.SpacingM {
 			sp = append(sp, strconv.FormatFloat(x/1000, 'f', 1, 64))
 		}
-		r.Fits = append(r.Fits, web.SweepFit{Group: group, Order: strconv.FormatFloat(f.Order, 'f', 2, 64), Runs: len(f.Runs), Spacings: strings.Join(sp, ", ")})
+		r.Fits = append(r.Fits, web.SweepFit{Group: group, Order: strconv.FormatFloat(f.Order, 'f', 2, 64), OrderLInf: strconv.FormatFloat(f.OrderLInf, 'f', 2, 64), Runs: len(f.Runs), Spacings: strings.Join(sp, ", ")})
 	}
 	j.mu.Lock()
 	res := j.result

@@ -65,14 +65,25 @@ func sphereConfig(caseName string, level int, dt float64) Config {
 	return cfg
 }
 
-// Williamson et al. (1992) case 2 is an exact steady state, so the l2
-// depth error after 5 days measures the spatial discretisation. TRiSK on
+// Williamson et al. (1992) case 2 is an exact steady state, so the depth
+// error after 5 days measures the spatial discretisation. TRiSK on
 // quasi-uniform centroidal Voronoi grids converges at between first and
 // second order (Ringler, Thuburn, Klemp & Skamarock 2010, J. Comput. Phys.
-// 229, 3065–3090, from memory); the test demands at least first order
-// between successive levels, on the bisected and on the Lloyd grid, with
-// the time step halved with the spacing. Mass is conserved to round-off
-// (flux form). GYREBENCH_LONG=1 adds level 6 (about 20 s per grid).
+// 229, 3065–3090, from memory), with the time step halved with the
+// spacing. Measured orders, l2 / l∞ (levels 3 → 4, 4 → 5):
+//
+//	bisected, α = 0     1.63 / 1.15   1.46 / 1.06
+//	Lloyd,    α = 0     2.04 / 1.82   1.91 / 0.38
+//	Lloyd,    α = π/4   1.96 / 1.91   1.99 / 1.28
+//
+// l∞ gains only about 0.4 from level 4 to 5 on the Lloyd grid: the
+// maximum error sits at the few cells where the centroidal grid is least
+// regular (around the twelve pentagons and along the seams of the
+// icosahedron), where TRiSK's error is locally first order or worse, a
+// known property of TRiSK on centroidal grids. The test demands l2 ≥ 1
+// and l∞ ≥ 0.25 between successive levels, on the bisected and on the
+// Lloyd grid. Mass is conserved to round-off (flux form).
+// GYREBENCH_LONG=1 adds level 6 (about 20 s per grid).
 func TestWilliamson2Convergence(t *testing.T) {
 	if testing.Short() {
 		t.Skip("long; runs in the full suite")
@@ -85,7 +96,7 @@ func TestWilliamson2Convergence(t *testing.T) {
 		optimize string
 		alpha    float64
 	}
-	l2 := map[run][]float64{}
+	l2, linf := map[run][]float64{}, map[run][]float64{}
 	for _, r := range []run{{mesh.OptimizeNone, 0}, {mesh.OptimizeLloyd, 0}, {mesh.OptimizeLloyd, math.Pi / 4}} {
 		for _, n := range levels {
 			cfg := sphereConfig("williamson-2", n, 3600/float64(int(1)<<(n-3)))
@@ -94,18 +105,19 @@ func TestWilliamson2Convergence(t *testing.T) {
 			checkCaseAxis(t, m)
 			runFor(t, m, 5*86400)
 			e := diag.ErrorNorms(m.Depth(), m.ExactDepth(), m.Mesh().CellArea)
-			l2[r] = append(l2[r], e.L2)
+			l2[r], linf[r] = append(l2[r], e.L2), append(linf[r], e.LInf)
 			if d := math.Abs(diag.RelDrift(m.Invariants().Mass, m.Initial().Mass)); d > 1e-13 {
 				t.Errorf("%s α=%g level %d: relative mass drift %.2e, want < 1e-13", r.optimize, r.alpha, n, d)
 			}
 			t.Logf("%s α=%.4g level %d (Δt = %g s): l1 %.3e, l2 %.3e, l∞ %.3e", r.optimize, r.alpha, n, cfg.Time.Dt, e.L1, e.L2, e.LInf)
 		}
-		errs := l2[r]
+		errs, errsInf := l2[r], linf[r]
 		for k := 0; k+1 < len(errs); k++ {
 			p := math.Log2(errs[k] / errs[k+1])
-			t.Logf("%s α=%.4g: order %.2f between levels %d and %d", r.optimize, r.alpha, p, levels[k], levels[k+1])
-			if p < 1 {
-				t.Errorf("%s α=%.4g: observed order %.2f between levels %d and %d, want ≥ 1", r.optimize, r.alpha, p, levels[k], levels[k+1])
+			pInf := math.Log2(errsInf[k] / errsInf[k+1])
+			t.Logf("%s α=%.4g: levels %d → %d: order l2 %.2f, l∞ %.2f", r.optimize, r.alpha, levels[k], levels[k+1], p, pInf)
+			if p < 1 || pInf < 0.25 {
+				t.Errorf("%s α=%.4g: observed orders l2 %.2f, l∞ %.2f between levels %d and %d, want l2 ≥ 1 and l∞ ≥ 0.25", r.optimize, r.alpha, p, pInf, levels[k], levels[k+1])
 			}
 		}
 	}

@@ -79,12 +79,15 @@ type Summary struct {
 	MassRelDrift       float64     `json:"mass_rel_drift"`
 	EnergyRelDrift     float64     `json:"energy_rel_drift"`
 	EnstrophyRelDrift  float64     `json:"enstrophy_rel_drift"`
-	HMin               float64     `json:"h_min"`
-	HMax               float64     `json:"h_max"`
-	CourantMax         float64     `json:"courant_max"`
-	L1H                *float64    `json:"l1_h,omitempty"`
-	L2H                *float64    `json:"l2_h,omitempty"`
-	LInfH              *float64    `json:"linf_h,omitempty"`
+	// CirculationDrift is the change of the total circulation, m² s⁻¹:
+	// absolute, because on the sphere its reference is zero.
+	CirculationDrift float64  `json:"circulation_drift"`
+	HMin             float64  `json:"h_min"`
+	HMax             float64  `json:"h_max"`
+	CourantMax       float64  `json:"courant_max"`
+	L1H              *float64 `json:"l1_h,omitempty"`
+	L2H              *float64 `json:"l2_h,omitempty"`
+	LInfH            *float64 `json:"linf_h,omitempty"`
 }
 
 // BlowUpInfo says where and when a run blew up.
@@ -105,8 +108,20 @@ var SeriesColumns = []string{
 	"time_s", "mass", "energy", "potential_enstrophy",
 	"mass_rel_drift", "energy_rel_drift", "enstrophy_rel_drift",
 	"h_min", "h_max", "courant_max",
-	"circulation", "circulation_rel_drift", "courant_advective", "max_speed",
+	"circulation", "circulation_drift", "circulation_rel_drift", "courant_advective", "max_speed",
 	"l1_h", "l2_h", "linf_h",
+}
+
+// circulationDrift returns the change of the total circulation
+// Σ_v A_v (ζ_v + f_v) since the start, in m² s⁻¹, and its relative
+// change, which is NaN on the sphere: there the total circulation of a
+// closed surface is zero (ζ integrates to zero, and so does f = 2Ω sin θ),
+// so its start is round-off and a change relative to it means nothing.
+func circulationDrift(sphere bool, now, start float64) (abs, rel float64) {
+	if sphere {
+		return now - start, math.NaN()
+	}
+	return now - start, diag.RelDrift(now, start)
 }
 
 // Run validates cfg, runs it to its duration and writes the files. It
@@ -261,15 +276,20 @@ func (r *runner) record() error {
 	m := r.model
 	inv := m.Invariants()
 	ini := m.Initial()
+	circAbs, circRel := circulationDrift(m.Mesh().Surface.Sphere, inv.Circulation, ini.Circulation)
 	cols := []float64{
 		m.Time(), inv.Mass, inv.Energy, inv.PotentialEnstrophy,
 		diag.RelDrift(inv.Mass, ini.Mass), diag.RelDrift(inv.Energy, ini.Energy),
 		diag.RelDrift(inv.PotentialEnstrophy, ini.PotentialEnstrophy),
 		inv.HMin, inv.HMax, inv.CourantGravity,
-		inv.Circulation, diag.RelDrift(inv.Circulation, ini.Circulation), inv.CourantAdvective, inv.MaxSpeed,
+		inv.Circulation, circAbs, circRel, inv.CourantAdvective, inv.MaxSpeed,
 	}
 	var row []string
 	for _, v := range cols {
+		if math.IsNaN(v) { // no meaningful value: an empty field
+			row = append(row, "")
+			continue
+		}
 		row = append(row, fmtFloat(v))
 	}
 	if ex := m.ExactDepth(); ex != nil {
@@ -421,6 +441,7 @@ func (r *runner) makeSummary(runErr error) *Summary {
 		MassRelDrift:      diag.RelDrift(inv.Mass, ini.Mass),
 		EnergyRelDrift:    diag.RelDrift(inv.Energy, ini.Energy),
 		EnstrophyRelDrift: diag.RelDrift(inv.PotentialEnstrophy, ini.PotentialEnstrophy),
+		CirculationDrift:  inv.Circulation - ini.Circulation,
 		HMin:              inv.HMin, HMax: inv.HMax, CourantMax: inv.CourantGravity,
 		Interrupted: errors.Is(runErr, ErrInterrupted),
 	}

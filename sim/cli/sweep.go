@@ -126,7 +126,7 @@ func report(w io.Writer, dir string, res *sweep.Result) {
 		if name != "" {
 			name += ": "
 		}
-		fmt.Fprintf(w, "%sfitted order %.3f over %d runs (l2_h against spacing_m)\n", name, f.Order, len(f.Runs))
+		fmt.Fprintf(w, "%sfitted order l2 %.3f, l∞ %.3f over %d runs (l2_h and linf_h against spacing_m)\n", name, f.Order, f.OrderLInf, len(f.Runs))
 	}
 }
 

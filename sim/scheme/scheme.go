@@ -19,7 +19,10 @@
 //   - apvm: trisk-energy with the anticipated potential vorticity method,
 //     q̂_e = q_e − c Δt (u_e ∂q/∂n + v_e ∂q/∂t), c = 1/2 by default
 //     (Sadourny & Basdevant 1985, J. Atmos. Sci. 42; as used by Ringler et
-//     al. 2010, §5: from memory). It dissipates potential enstrophy.
+//     al. 2010, §5: from memory). It adds potential-enstrophy
+//     dissipation; it does not guarantee dZ/dt ≤ 0, because the
+//     energy-conserving PV flux it starts from does not conserve potential
+//     enstrophy, and that change has either sign.
 //   - al81: Arakawa & Lamb (1981, Mon. Wea. Rev. 109, 18–36), conserving
 //     energy and potential enstrophy on the square grid only.
 //   - sadourny-energy, sadourny-enstrophy: the two schemes of Sadourny
@@ -71,7 +74,7 @@ func Conserves(name string) string {
 	case TRiSKEnstrophy:
 		return "conserves mass and potential enstrophy"
 	case APVM:
-		return "conserves mass and energy; dissipates potential enstrophy"
+		return "conserves mass and energy; adds potential-enstrophy dissipation"
 	case AL81:
 		return "conserves mass, energy and potential enstrophy; quad grid only"
 	case SadournyEnergy:

@@ -48,14 +48,19 @@ type Row struct {
 }
 
 // Fit is a least-squares line through (ln spacing, ln l2_h) of one group
-// of runs: l2_h ≈ exp(LogIntercept) · spacing^Order.
+// of runs: l2_h ≈ exp(LogIntercept) · spacing^Order; OrderLInf is the
+// slope of the same fit to ln linf_h, given beside it because the two can
+// differ much (on centroidal grids the largest error converges more
+// slowly than the mean).
 type Fit struct {
 	Group        []Choice  `json:"group"` // the non-resolution choices shared by the runs; empty for one curve
 	Order        float64   `json:"order"`
+	OrderLInf    float64   `json:"order_linf"`
 	LogIntercept float64   `json:"log_intercept"`
 	Runs         []string  `json:"runs"`
 	SpacingM     []float64 `json:"spacing_m"`
 	L2H          []float64 `json:"l2_h"`
+	LInfH        []float64 `json:"linf_h"`
 }
 
 // Result is what Collect assembles.
@@ -359,10 +364,14 @@ func fits(rows []Row) []Fit {
 			f.Runs = append(f.Runs, r.Run)
 			f.SpacingM = append(f.SpacingM, r.SpacingM)
 			f.L2H = append(f.L2H, *r.L2H)
+			if r.LInfH != nil {
+				f.LInfH = append(f.LInfH, *r.LInfH)
+			}
 		}
-		var ok bool
+		var ok, okInf bool
 		f.Order, f.LogIntercept, ok = FitOrder(f.SpacingM, f.L2H)
-		if ok {
+		f.OrderLInf, _, okInf = FitOrder(f.SpacingM, f.LInfH)
+		if ok && okInf {
 			if f.Group == nil {
 				f.Group = []Choice{}
 			}

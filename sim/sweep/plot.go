@@ -226,7 +226,7 @@ func (res *Result) errorPlot() (*figure, error) {
 		if name != "" {
 			name += ": "
 		}
-		fig.add(fmt.Sprintf("%sorder %.2f", name, f.Order), line, sc)
+		fig.add(fmt.Sprintf("%sorder l2 %.2f, l∞ %.2f", name, f.Order, f.OrderLInf), line, sc)
 	}
 	// A second-order guide below the middle of the first curve.
 	f := res.Fits[0]
