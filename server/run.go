@@ -28,7 +28,9 @@ const (
 	maxPoints      = 4096                   // series points kept; older ones are thinned
 	// MaxCourant bounds the Δt a client may ask for: the gravity-wave
 	// Courant number it gives on the current state. Past about 3 every
-	// explicit integrator offered is unstable (references.md §6), so 4 leaves
+	// explicit integrator offered is unstable (the imaginary-axis limits of
+	// step.ImaginaryAxisLimit, at most 2√2 for rk4: Durran 2010, Numerical
+	// Methods for Fluid Dynamics, 2nd ed., ch. 2, from memory), so 4 leaves
 	// room to watch a blow-up without allowing nonsense.
 	MaxCourant = 4.0
 	// MaxLiveCells bounds the grid a client may ask for, well below the

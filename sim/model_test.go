@@ -32,8 +32,9 @@ func runFor(t testing.TB, m *Model, seconds float64) {
 // Energy error of trisk-energy over a fixed time against Δt. The
 // semi-discrete system conserves energy exactly, so all of the error is the
 // integrator's: for rk3 the energy change of a skew system is O(Δt³) per
-// unit time (references.md §6: |R(iz)|² − 1 = −z⁴/12 + …, summed over t/Δt
-// steps), so halving Δt must divide the error by about 8.
+// unit time (|R(iz)|² − 1 = −z⁴/12 + … from the rk3 stability polynomial,
+// summed over t/Δt steps; TestEnergyChangePerStep in sim/step), so halving
+// Δt must divide the error by about 8.
 func TestEnergyErrorOrderInDt(t *testing.T) {
 	cfg := DefaultConfig()
 	cfg.Grid = GridConfig{Kind: "quad", N: 16, Length: 1e6}

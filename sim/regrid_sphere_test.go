@@ -13,7 +13,7 @@ import (
 // to round-off (package remap: conservative depth remap, exact to
 // summation round-off) and the run goes on; the flux-form schemes keep
 // the mass between switches. The wind of Williamson et al. (1992) cases 2
-// and 5 is a solid-body rotation (references.md §1.2, from memory), which
+// and 5 is a solid-body rotation (J. Comput. Phys. 102, 211–224, from memory), which
 // the velocity remap reproduces exactly, so a switch at t = 0 must give the
 // new grid's own initial wind to round-off.
 func TestRegridSphereKeepsMass(t *testing.T) {

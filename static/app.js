@@ -1,6 +1,7 @@
 // The workbench page: connects to the run's websocket, keeps the controls
 // in step with the run, draws frames as they come and sends commands.
-// Elements are found by their data-role attributes (design notes §3).
+// Elements are found by their data-role attributes (DEVELOPERS.md "Pages
+// and their hooks").
 
 import { decodeBinary } from './protocol.js';
 import { FieldView } from './fieldview.js';

@@ -58,7 +58,8 @@ func bandRMS(m *sim.Model, f []float64) float64 {
 // grows into large vortices by day 6. Both jets are run side by side on the
 // same grid; their vorticity difference isolates what the bump does, apart
 // from the grid's own imprint (wavenumber 5 on icosahedral grids, from
-// memory; references.md §2), which both share. The difference must grow
+// memory; Weller, Thuburn & Cotter 2012, Mon. Wea. Rev. 140, 2734–2755),
+// which both share. The difference must grow
 // at least twentyfold between day 1 and day 6 (it grows about 150-fold).
 // The eddy vorticity of each run (departure from the zonal mean) is
 // logged: for the unperturbed jet it is the imprint. The day-6 vorticity maps are kept as artefacts.

@@ -4,8 +4,8 @@
 //
 //	go run github.com/a-h/templ/cmd/templ@v0.3.1100 generate -path web
 //
-// The pages carry the stable data-role hooks of the design notes; the
-// browser code in package static fills and drives them.
+// The pages carry stable data-role hooks (DEVELOPERS.md "Pages and their
+// hooks"); the browser code in package static fills and drives them.
 package web
 
 // Option is one entry of a menu.

@@ -1,6 +1,6 @@
 // Package atomicfile writes output files so that a crash, a failed write or
 // a full disk never leaves a half-written file under the final name
-// (gyrebench design notes §3, "Files written by run --out DIR").
+// (the files of `gyrebench run --out DIR`, README "Headless use").
 //
 // The data go to a temporary file in the destination's own directory (so
 // the final rename stays on one file system and is atomic on POSIX

@@ -9,8 +9,9 @@ import (
 	"gyrebench/sim/mesh"
 )
 
-// Spherical test cases. Their constants are those of the papers as recalled
-// in references.md §1–2, from memory (marked M there); the physics radius,
+// Spherical test cases. Their constants are those of the papers
+// (Williamson et al. 1992, J. Comput. Phys. 102, 211–224; Galewsky, Scott &
+// Polvani 2004, Tellus 56A, 429–440) as recalled from memory; the physics radius,
 // rotation rate and gravity come from Physics, so with the default physics
 // (a = 6.37122e6 m, Ω = 7.292e-5 s⁻¹, g = 9.80616 m s⁻²) they are the
 // published set-ups. Longitude λ is measured from the +x axis towards +y,
@@ -37,7 +38,7 @@ func sphereCases() []*Case {
 // It is the z axis for every case but williamson-2 with alpha ≠ 0: there
 // Williamson et al. (1992, J. Comput. Phys. 102, 211–224, case 2) turn the
 // Coriolis parameter with the flow, f = 2Ω(−cos λ cos θ sin α + sin θ cos α)
-// (references.md §1.2), without which the rotated flow is not steady.
+// (from memory), without which the rotated flow is not steady.
 func (c *Case) RotationAxis(prm map[string]float64) ([3]float64, error) {
 	full, err := c.Resolve(prm)
 	if err != nil {
@@ -96,7 +97,7 @@ func needSphere(name string, p Physics) error {
 //	u = u0 (cos θ cos α + cos λ sin θ sin α),  v = −u0 sin λ sin α,
 //	g h = g h0 − (a Ω u0 + u0²/2) (−cos λ cos θ sin α + sin θ cos α)²
 //
-// (Williamson et al. 1992, case 2; references.md §1.2, from memory).
+// (Williamson et al. 1992, J. Comput. Phys. 102, 211–224, case 2, from memory).
 type zonalFlow struct {
 	p             Physics
 	h0, u0, alpha float64
@@ -134,7 +135,7 @@ func williamson2() *Case {
 // mountain is the isolated cone of Williamson case 5: h_s = h_s0 (1 − r/R)
 // with r² = min(R², (λ − λc)² + (θ − θc)²) in radians of longitude and
 // latitude (not a great-circle distance), h_s0 = 2000 m, R = π/9,
-// (λc, θc) = (3π/2, π/6) (references.md §1.2, from memory).
+// (λc, θc) = (3π/2, π/6) (Williamson et al. 1992, case 5, from memory).
 func mountain(lon, lat float64) float64 {
 	const hs0, r0, lonC, latC = 2000.0, math.Pi / 9, 3 * math.Pi / 2, math.Pi / 6
 	dl := math.Remainder(lon-lonC, 2*math.Pi)
@@ -166,8 +167,8 @@ func williamson5() *Case {
 }
 
 // rossbyHaurwitz is the wavenumber-4 Rossby–Haurwitz wave of Williamson
-// case 6, ω = K = 7.848e-6 s⁻¹, R = 4, h0 = 8000 m (references.md §1.2,
-// formulas from memory).
+// case 6, ω = K = 7.848e-6 s⁻¹, R = 4, h0 = 8000 m (Williamson et al.
+// 1992, J. Comput. Phys. 102, 211–224, case 6; formulas from memory).
 type rossbyHaurwitz struct{ p Physics }
 
 const (
@@ -215,8 +216,8 @@ func williamson6() *Case {
 	}
 }
 
-// Galewsky, Scott & Polvani (2004, Tellus 56A, 429–440) jet, parameters as
-// recalled in references.md §2 (from memory).
+// Galewsky, Scott & Polvani (2004, Tellus 56A, 429–440) jet, parameters
+// from memory.
 const (
 	galewskyUMax  = 80.0
 	galewskyPhi0  = math.Pi / 7

@@ -9,8 +9,8 @@ import (
 	"gyrebench/sim/mesh"
 )
 
-// earth is the physics of Williamson et al. (1992) as recalled in
-// references.md §1.1 (from memory), also used by Galewsky et al. (2004).
+// earth is the physics of Williamson et al. (1992, J. Comput. Phys. 102,
+// 211–224; from memory), also used by Galewsky et al. (2004).
 var earth = Physics{G: 9.80616, Radius: 6.37122e6, Omega: 7.292e-5}
 
 func sphereMesh(t testing.TB, n int) *mesh.Mesh {
@@ -85,9 +85,10 @@ func TestSphereCasesRegistered(t *testing.T) {
 	}
 }
 
-// Williamson et al. (1992), case 2 (references.md §1.2): gh0 = 2.94e4
-// m² s⁻² so h0 = 2998.1155 m, u0 = 2πa/12 days = 38.610683 m/s and, for
-// α = 0, h = 1092.833 m at the poles (derived values, V).
+// Williamson et al. (1992, J. Comput. Phys. 102, 211–224), case 2, from
+// memory: gh0 = 2.94e4 m² s⁻² so h0 = 2998.1155 m, u0 = 2πa/12 days =
+// 38.610683 m/s and, for α = 0, h = 1092.833 m at the poles (values
+// derived by hand from the case's formulas).
 func TestWilliamson2CheckValues(t *testing.T) {
 	z := zonalFlow{p: earth, h0: 2.94e4 / earth.G, u0: 2 * math.Pi * earth.Radius / (12 * day)}
 	if !near(z.h0, 2998.1155, 5e-5) || !near(z.u0, 38.610683, 5e-7) {
@@ -143,7 +144,7 @@ func TestWilliamson2IsSolidBodyRotation(t *testing.T) {
 	}
 }
 
-// Williamson et al. (1992), case 5 (references.md §1.2): the case 2 free
+// Williamson et al. (1992), case 5 (from memory): the case 2 free
 // surface with h0 = 5960 m, u0 = 20 m/s gives h = 4992.059 m at the poles;
 // the cone is 2000 m high at (3π/2, π/6) and its base has a radius of π/9
 // in latitude, R ≈ 2224 km of arc.
@@ -190,9 +191,10 @@ func TestWilliamson5(t *testing.T) {
 	}
 }
 
-// Williamson et al. (1992), case 6 (references.md §1.2): u_max = 100.00
+// Williamson et al. (1992), case 6 (formulas from memory): u_max = 100.00
 // m/s on the equator, h over [8000.00, 10556.41] m with the maximum on the
-// equator and h = h0 = 8000 m at the poles (derived values, V).
+// equator and h = h0 = 8000 m at the poles (values derived from the
+// case's formulas).
 func TestWilliamson6CheckValues(t *testing.T) {
 	r := rossbyHaurwitz{earth}
 	hmin, hmax, latMax := math.Inf(1), math.Inf(-1), 0.0
@@ -290,7 +292,8 @@ func divergenceTendency(p Physics, axis xyz, wind func(lon, lat float64) (float6
 }
 
 // Cases 2 and 6 and the Galewsky jet are balanced: zero initial
-// divergence tendency (references.md §1.2, V for cases 2 and 6; the jet is
+// divergence tendency (Williamson et al. 1992, cases 2 and 6: the fields
+// are nondivergent and balanced, checked by derivation here; the jet is
 // in gradient-wind balance by construction, Galewsky et al. 2004). A
 // height error of 1 m in a wave pattern must give ten times the allowed
 // residual, which checks that the test can fail.
@@ -333,7 +336,7 @@ func TestBalancedCases(t *testing.T) {
 	}
 }
 
-// Galewsky, Scott & Polvani (2004) jet (references.md §2): e_n =
+// Galewsky, Scott & Polvani (2004, Tellus 56A, 429–440) jet, from memory: e_n =
 // 1.468350e−4 so that u(π/4) = u_max = 80 m/s; h0 = 10158.186 m for a
 // global mean depth of 10 km, h(S pole) = h0, h(N pole) = 9071.208 m; the
 // bump peaks at ĥ cos(π/4) = 84.853 m (derived values, V).
@@ -356,7 +359,8 @@ func TestGalewskyCheckValues(t *testing.T) {
 
 // The tabulated Gauss–Legendre integral against an independent composite
 // Simpson rule on 20 000 intervals, written out here from the formulas of
-// references.md §2, and the gradient-wind balance g dh/dφ = −a u (f + u
+// Galewsky et al. (2004, Tellus 56A, 429–440, from memory), and the
+// gradient-wind balance g dh/dφ = −a u (f + u
 // tan φ / a) by central differences of the interpolated height.
 func TestGalewskyQuadrature(t *testing.T) {
 	j := newJet(earth)

@@ -146,8 +146,8 @@ func RelDrift(now, start float64) float64 {
 }
 
 // Norms are the normalised error norms of Williamson, Drake, Hack, Jakob &
-// Swarztrauber (1992, J. Comput. Phys. 102, 211–224; definitions as
-// recalled in references.md §1.3, from memory): with I the area-weighted
+// Swarztrauber (1992, J. Comput. Phys. 102, 211–224; definitions from
+// memory): with I the area-weighted
 // mean,
 //
 //	l1 = I(|h − h_T|)/I(|h_T|), l2 = √I((h − h_T)²)/√I(h_T²),

@@ -190,7 +190,8 @@ func Analyse(ctx context.Context, cfg sim.Config, opt Options) (*Result, error) 
 // limits turns the spectral radius into the largest stable Δt of each
 // integrator: Δt ≤ bound / max|λ|, with the imaginary-axis bounds of
 // step.ImaginaryAxisLimit (rk3 √3, rk4 2√2, filtered leapfrog just below 1,
-// euler none; references.md §6).
+// euler none; derived from the RK stability polynomials, e.g. Durran 2010,
+// Numerical Methods for Fluid Dynamics, 2nd ed., ch. 2, from memory).
 func limits(radius float64, growing int, asselin float64) []Limit {
 	var out []Limit
 	for _, name := range step.Names {

@@ -295,7 +295,7 @@ func contains(s, sub string) bool {
 
 // The predicted limit against the nonlinear scheme: 10 % below it a small
 // perturbation of rest survives VerifySteps steps, 10 % above it blows up
-// (references.md §6 for the bounds).
+// (bounds of step.ImaginaryAxisLimit, checked in sim/step).
 func TestStableDtMatchesEmpirical(t *testing.T) {
 	ctx := context.Background()
 	for _, kind := range []mesh.Kind{mesh.Quad, mesh.Hex} {

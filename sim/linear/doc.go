@@ -120,7 +120,8 @@
 //
 // An integrator with stability interval |ωΔt| ≤ b on the imaginary axis
 // (step.ImaginaryAxisLimit: rk3 √3, rk4 2√2, leapfrog just below 1 with
-// the Robert–Asselin filter, euler none; references.md §6) is stable for
+// the Robert–Asselin filter, euler none; Durran 2010, Numerical Methods
+// for Fluid Dynamics, 2nd ed., ch. 2, from memory) is stable for
 // Δt ≤ b / max|λ|. VerifyDt checks a prediction with the nonlinear scheme:
 // VerifySteps steps from rest plus a random perturbation of relative size
 // VerifyAmplitude; it "blew up" when the perturbation's energy norm grows

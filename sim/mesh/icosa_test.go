@@ -7,7 +7,7 @@ import (
 	"testing"
 )
 
-const earthRadius = 6.37122e6 // Williamson et al. (1992), references.md §1.1 (from memory)
+const earthRadius = 6.37122e6 // Williamson et al. (1992, J. Comput. Phys. 102, 211–224), from memory
 
 func icosa(t testing.TB, n int, opt string) *Mesh {
 	t.Helper()
@@ -22,7 +22,9 @@ func cellPos(m *Mesh, i int32) vec3 { return vec3{m.CellX[i], m.CellY[i], m.Cell
 func vertPos(m *Mesh, v int32) vec3 { return vec3{m.VertexX[v], m.VertexY[v], m.VertexZ[v]} }
 func edgePos(m *Mesh, e int) vec3   { return vec3{m.EdgeX[e], m.EdgeY[e], m.EdgeZ[e]} }
 
-// Counts of the icosahedral geodesic grid, references.md §8:
+// Counts of the icosahedral geodesic grid (each bisection quadruples the
+// 20 triangles; Euler's formula fixes the rest; e.g. Heikes & Randall
+// 1995, Mon. Wea. Rev. 123, 1862–1880, from memory):
 // N_c = 10·4ⁿ + 2, N_e = 30·4ⁿ, N_v = 20·4ⁿ; 12 pentagons, the rest
 // hexagons; every Voronoi vertex has three edges; V − E + F = 2.
 func TestIcosahedralCounts(t *testing.T) {
@@ -269,7 +271,8 @@ func bruteOffset(m *Mesh) float64 {
 	return worst * m.Surface.Radius
 }
 
-// The nominal spacing d = √(2A/√3) of references.md §8 (V) matches the
+// The nominal spacing d = √(2A/√3), the centre spacing of a regular
+// hexagon of the mean cell area A = 4πa²/N_c (derived here), matches the
 // mean distance between neighbouring centres to within a few per cent.
 func TestIcosahedralSpacing(t *testing.T) {
 	for _, tc := range []struct {
@@ -280,7 +283,7 @@ func TestIcosahedralSpacing(t *testing.T) {
 		m := icosa(t, tc.n, "none")
 		a := 4 * math.Pi * earthRadius * earthRadius / float64(m.NumCells)
 		if got := math.Sqrt(a) / 1e3; math.Abs(got-tc.rtKm) > 1 {
-			t.Errorf("level %d: √A = %.1f km, references.md §8 gives %.0f", tc.n, got, tc.rtKm)
+			t.Errorf("level %d: √A = %.1f km, √(4πa²/N_c) gives %.0f", tc.n, got, tc.rtKm)
 		}
 		if got := m.Spacing() / 1e3; math.Abs(got-tc.dKm) > 0.05*tc.dKm {
 			t.Errorf("level %d: mean centre spacing %.1f km, nominal %.0f km", tc.n, got, tc.dKm)

@@ -1,6 +1,7 @@
 // Package ncout writes and reads NetCDF classic files and writes gyrebench
 // meshes and fields in them following the UGRID 1.0 and CF 1.8
-// conventions: the final.nc (and snapshot) files of design notes §3.
+// conventions: the final.nc (and snapshots.nc) files of `gyrebench run`
+// (README "Headless use").
 //
 // # The classic format
 //
@@ -45,7 +46,7 @@
 // MeshFile builds the file of a mesh.Mesh plus data fields; NewSnapshots
 // streams the same fields with a leading unlimited time dimension. The
 // rules come from the UGRID Conventions v1.0 (ugrid-conventions.github.io,
-// "UGRID Conventions (v1.0)"), as summarised in references.md §7:
+// "UGRID Conventions (v1.0)"):
 //
 //   - global Conventions = "CF-1.8 UGRID-1.0", title, source, history;
 //   - a dummy NC_INT variable "mesh" without dimensions with cf_role =

@@ -10,8 +10,8 @@ import (
 	"gyrebench/sim/mesh"
 )
 
-// earthRadius is a of Williamson et al. (1992), references.md §1.1 (from
-// memory); any radius would do.
+// earthRadius is a of Williamson et al. (1992, J. Comput. Phys. 102,
+// 211–224; from memory); any radius would do.
 const earthRadius = 6.37122e6
 
 func ico(t testing.TB, n int, opt string) *mesh.Mesh {
@@ -168,7 +168,7 @@ func TestSphereIdentity(t *testing.T) {
 // v = Ω × x is reproduced to round-off, at every level: the fit contains
 // the three rotations exactly (sphEdgeWeights). Williamson et al. (1992)
 // case 2 is such a flow with u0 = 2πa/12 days about the axis
-// (−sin α, 0, cos α) (references.md §1.2, from memory); the third axis is
+// (−sin α, 0, cos α) (from memory); the third axis is
 // arbitrary.
 func TestSphereSolidBodyExact(t *testing.T) {
 	u0 := 2 * math.Pi * earthRadius / (12 * 86400)

@@ -115,7 +115,7 @@ func TestInitialStatesAreBalanced(t *testing.T) {
 		{"williamson-5", nil, "du", 0.03,
 			"Williamson et al. (1992) case 5 starts from the case 2 free surface over the mountain (h + b balanced), so ∂u/∂t = 0 in the continuum; measured 1.1e-2"},
 		{"galewsky-unperturbed", nil, "du", 0.02,
-			"Galewsky, Scott & Polvani (2004, Tellus 56A, 429–440, eqs. 2–3) define the jet in exact gradient-wind balance, a steady zonal flow; level 6, measured 6.5e-3"},
+			"Galewsky, Scott & Polvani (2004, Tellus 56A, 429–440, from memory) define the jet in exact gradient-wind balance, a steady zonal flow; level 6, measured 6.5e-3"},
 		{"galewsky", []string{"initial.perturbation=0"}, "du", 0.02,
 			"the perturbed case's jet without its bump (the bump itself is unbalanced on purpose, as in the paper); measured 6.5e-3"},
 		{"dipole", nil, "ddiv", 0.3,

@@ -1,6 +1,6 @@
 // Package scenario reads and writes scenario files: strict TOML with the
-// sections grid, physics, scheme, time, initial and output (the contract in
-// the design notes), mapped onto sim.Config.
+// sections grid, physics, scheme, time, initial and output (README
+// "Scenario files"), mapped onto sim.Config.
 //
 // Parsing is strict: an unknown key, a wrong type or a malformed file is an
 // error naming the key and the line. Overrides given as dotted key=value

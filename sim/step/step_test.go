@@ -25,7 +25,7 @@ func amplitude(name string, z float64, steps int) float64 {
 // Stability on the imaginary axis: stable just below the bound, unstable
 // just above (references: any 3-stage third-order RK √3, classical RK4 2√2,
 // leapfrog 1; e.g. Durran 2010, Numerical Methods for Fluid Dynamics, §2.3,
-// from memory; the bounds are also derived in references.md §6).
+// from memory; TestEnergyChangePerStep derives them from the polynomials).
 func TestImaginaryAxisStability(t *testing.T) {
 	for _, name := range []string{RK3, RK4, Leapfrog} {
 		lim := ImaginaryAxisLimit(name, Options{})
@@ -50,8 +50,9 @@ func TestImaginaryAxisStability(t *testing.T) {
 }
 
 // The energy change per step of a skew system: |R(iz)|² − 1 = −z⁴/12 + z⁶/36
-// for rk3 and −z⁶/72 + z⁸/576 for rk4, +z² for euler (references.md §6,
-// derived from the stability polynomials).
+// for rk3 and −z⁶/72 + z⁸/576 for rk4, +z² for euler (derived here from
+// the stability polynomials R(iz) = Σ_{k≤p} (iz)ᵏ/k!; e.g. Durran 2010,
+// Numerical Methods for Fluid Dynamics, 2nd ed., ch. 2, from memory).
 func TestEnergyChangePerStep(t *testing.T) {
 	for _, z := range []float64{0.1, 0.3, 0.7} {
 		want := map[string]float64{
