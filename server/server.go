@@ -21,6 +21,7 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
+	"gyrebench/sim/figure"
 	"gyrebench/sim/scenario"
 	"gyrebench/static"
 )
@@ -178,6 +179,10 @@ func loadStatic() (map[string]staticFile, error) {
 	if err != nil {
 		return nil, fmt.Errorf("reading embedded static files: %w", err)
 	}
+	// The canvas's colour maps are the figures' own (one definition).
+	cm := figure.ColourMapsModule()
+	sum := sha256.Sum256(cm)
+	files["colourmaps.js"] = staticFile{data: cm, etag: `"` + base64.RawURLEncoding.EncodeToString(sum[:12]) + `"`, ctype: "text/javascript; charset=utf-8"}
 	return files, nil
 }
 

@@ -1,52 +1,29 @@
 // Colour maps of the workbench and the colour bar beside the field.
 //
-// Two maps of our own design, each a piecewise-linear ramp through a few
-// stops with lightness rising (or falling) monotonically:
-//   - sequential, for fields that are positive by nature (depth, kinetic
-//     energy): ink blue through sea green to pale sand;
-//   - diverging, for signed fields (vorticity, divergence), centred on
-//     zero: deep blue, a warm near-white at zero, brick red.
+// The maps are those of the server's PNG/SVG figures (package sim/figure),
+// served as the generated module colourmaps.js, so that screen and figure
+// share one definition:
+//   - sequential ("shoal"), for fields that are positive by nature (depth,
+//     kinetic energy): deep navy through teal and sage to pale sand;
+//   - diverging ("twofold"), for signed fields (vorticity, divergence),
+//     centred on zero: deep blue, a warm near-white at zero, brick.
 
 import { fmtTick, superscript, niceStep } from './format.js';
+import { SEQUENTIAL as SEQ_TABLE, DIVERGING as DIV_TABLE } from './colourmaps.js';
+import { THEME } from './theme.js';
 
-const SEQ_STOPS = [
-  [0.0, 0x0d, 0x1b, 0x2a],
-  [0.22, 0x1d, 0x44, 0x66],
-  [0.45, 0x2f, 0x7d, 0x82],
-  [0.7, 0x8d, 0xb5, 0x73],
-  [0.88, 0xd6, 0xd3, 0x98],
-  [1.0, 0xf7, 0xf0, 0xdc],
-];
-
-const DIV_STOPS = [
-  [0.0, 0x12, 0x2f, 0x5e],
-  [0.2, 0x2f, 0x62, 0xa3],
-  [0.4, 0x9d, 0xbc, 0xdc],
-  [0.5, 0xf4, 0xf1, 0xea],
-  [0.6, 0xec, 0xb8, 0x93],
-  [0.8, 0xc2, 0x5b, 0x2e],
-  [1.0, 0x6b, 0x1e, 0x10],
-];
-
-function build(name, stops) {
-  const lut = new Uint32Array(256); // ABGR, as ImageData's bytes on little-endian machines
-  const css = new Array(256);
-  for (let i = 0; i < 256; i++) {
-    const t = i / 255;
-    let k = 1;
-    while (k < stops.length - 1 && stops[k][0] < t) k++;
-    const [t0, r0, g0, b0] = stops[k - 1];
-    const [t1, r1, g1, b1] = stops[k];
-    const f = (t - t0) / (t1 - t0);
-    const r = Math.round(r0 + f * (r1 - r0));
-    const g = Math.round(g0 + f * (g1 - g0));
-    const b = Math.round(b0 + f * (b1 - b0));
+function build(name, table) {
+  const n = table.length;
+  const lut = new Uint32Array(n); // ABGR, as ImageData's bytes on little-endian machines
+  const css = new Array(n);
+  for (let i = 0; i < n; i++) {
+    const [r, g, b] = table[i];
     lut[i] = (255 << 24) | (b << 16) | (g << 8) | r;
     css[i] = `rgb(${r},${g},${b})`;
   }
   // The same colours darkened, for cell outlines when zoomed in.
-  const dark = new Uint32Array(256);
-  for (let i = 0; i < 256; i++) {
+  const dark = new Uint32Array(n);
+  for (let i = 0; i < n; i++) {
     const c = lut[i];
     const r = (c & 255) * 0.72, g = ((c >> 8) & 255) * 0.72, b = ((c >> 16) & 255) * 0.72;
     dark[i] = (255 << 24) | (b << 16) | (g << 8) | r;
@@ -54,8 +31,8 @@ function build(name, stops) {
   return { name, lut, dark, css };
 }
 
-export const SEQUENTIAL = build('sequential', SEQ_STOPS);
-export const DIVERGING = build('diverging', DIV_STOPS);
+export const SEQUENTIAL = build('sequential', SEQ_TABLE.rgb);
+export const DIVERGING = build('diverging', DIV_TABLE.rgb);
 
 // mapFor picks the map for a field definition (from the hello message)
 // and the frame's value range.
@@ -86,10 +63,10 @@ export function drawColourBar(canvas, map, lo, hi, def, scale) {
     ctx.fillStyle = map.css[Math.max(0, Math.min(255, Math.round(t * 255)))];
     ctx.fillRect(x0, y, bw, 1);
   }
-  ctx.strokeStyle = '#8b949e';
+  ctx.strokeStyle = THEME.frame;
   ctx.lineWidth = 1;
   ctx.strokeRect(x0 + 0.5, top + 0.5, bw - 1, bottom - top - 1);
-  ctx.fillStyle = '#e6edf3';
+  ctx.fillStyle = THEME.text;
   ctx.font = `${fs}px system-ui, sans-serif`;
   ctx.textBaseline = 'top';
   ctx.fillText(`${shortLabel(def.label)} (${def.units})`, x0, fs * 0.4);

@@ -7,12 +7,13 @@
 // rank in frequency, and frequency is |ω|/2Ω.
 
 import { fmtTick, niceStep } from './format.js';
+import { THEME } from './theme.js';
 
 export const CLASS_COLOURS = {
   inertia_gravity: '#3fb4a0',
-  geostrophic: '#e8c468',
-  rossby: '#a88bff',
-  spurious: '#ff6b81',
+  geostrophic: '#f2c14e',
+  rossby: '#a99bff',
+  spurious: '#f07a62',
 };
 
 export const CLASS_LABELS = {
@@ -36,7 +37,7 @@ export function drawDispersion(canvas, d, rho, scale) {
   ctx.clearRect(0, 0, w, h);
   const fs = 10.5 * scale;
   ctx.font = `${fs}px system-ui, sans-serif`;
-  ctx.fillStyle = '#9aa5b1';
+  ctx.fillStyle = THEME.muted;
   if (!d || d.state !== 'ready') {
     ctx.textBaseline = 'middle';
     ctx.fillText(d ? d.message : 'no analysis yet', 8, h / 2);
@@ -70,10 +71,10 @@ export function drawDispersion(canvas, d, rho, scale) {
   const X = (x) => left + (x / xmax) * (w - left - right);
   const Y = (y) => h - bottom - (y / ymax) * (h - top - bottom);
   // Axes and ticks.
-  ctx.strokeStyle = '#30363d';
+  ctx.strokeStyle = THEME.rule;
   ctx.lineWidth = 1;
   ctx.strokeRect(left + 0.5, top + 0.5, w - left - right - 1, h - top - bottom - 1);
-  ctx.fillStyle = '#9aa5b1';
+  ctx.fillStyle = THEME.muted;
   ctx.textBaseline = 'top';
   ctx.textAlign = 'center';
   const sx = niceStep(xmax, 4);
@@ -98,7 +99,7 @@ export function drawDispersion(canvas, d, rho, scale) {
   ctx.textAlign = 'left';
   // The run's own fastest mode.
   if (rho > 0) {
-    ctx.strokeStyle = 'rgba(230,237,243,0.6)';
+    ctx.strokeStyle = THEME.chrome;
     ctx.setLineDash([4, 3]);
     ctx.beginPath();
     ctx.moveTo(left, Math.round(Y(ys(rho))) + 0.5);
@@ -112,7 +113,7 @@ export function drawDispersion(canvas, d, rho, scale) {
     ctx.beginPath();
     ctx.rect(left, top, w - left - right, h - top - bottom);
     ctx.clip();
-    ctx.strokeStyle = '#e6edf3';
+    ctx.strokeStyle = THEME.text;
     ctx.lineWidth = 1.2;
     ctx.beginPath();
     for (let i = 0; i <= 100; i++) {
@@ -130,7 +131,7 @@ export function drawDispersion(canvas, d, rho, scale) {
   let drawn = 0;
   for (let ci = 0; ci < d.classes.length; ci++) {
     const spurious = d.classes[ci] === 'spurious';
-    ctx.fillStyle = ctx.strokeStyle = CLASS_COLOURS[d.classes[ci]] || '#fff';
+    ctx.fillStyle = ctx.strokeStyle = CLASS_COLOURS[d.classes[ci]] || THEME.fallback;
     ctx.lineWidth = 1.2;
     if (spurious) ctx.beginPath();
     for (let i = 0; i < n; i++) {
@@ -161,7 +162,7 @@ export function fillLegend(el, d) {
     s.dataset.class = c;
     s.dataset.count = String(k);
     const sw = document.createElement('i');
-    sw.style.background = CLASS_COLOURS[c] || '#fff';
+    sw.style.background = CLASS_COLOURS[c] || THEME.fallback;
     s.append(sw, `${CLASS_LABELS[c] || c} ${k}`);
     el.append(s);
   }

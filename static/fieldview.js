@@ -10,8 +10,9 @@
 // image of the domain.
 
 import { SEQUENTIAL } from './colour.js';
+import { THEME, FIELD_GROUND } from './theme.js';
 
-const BACKGROUND = 0xff1d1713; // ABGR of #13171d
+const BACKGROUND = FIELD_GROUND; // THEME.ground as ABGR
 const OUTLINE_PX = 9; // cells at least this many pixels across get outlines
 const MAX_POLY = 32;
 
@@ -194,7 +195,7 @@ export class FieldView {
     const W = this.canvas.width, H = this.canvas.height;
     const f = this.frame;
     if (!this.geom || !f || !this.view) {
-      ctx.fillStyle = '#13171d';
+      ctx.fillStyle = THEME.ground;
       ctx.fillRect(0, 0, W, H);
       return;
     }
@@ -254,12 +255,12 @@ export class FieldView {
     const [ax, ay] = this.toPixel(g.extent.x0, g.extent.y1);
     const [bx, by] = this.toPixel(g.extent.x1, g.extent.y0);
     const W = this.canvas.width, H = this.canvas.height;
-    ctx.fillStyle = 'rgba(13,17,23,0.45)';
+    ctx.fillStyle = THEME.veil;
     ctx.beginPath();
     ctx.rect(0, 0, W, H);
     ctx.rect(ax, ay, bx - ax, by - ay);
     ctx.fill('evenodd');
-    ctx.strokeStyle = 'rgba(230,237,243,0.55)';
+    ctx.strokeStyle = THEME.chrome;
     ctx.lineWidth = dpr;
     ctx.setLineDash([6 * dpr, 5 * dpr]);
     ctx.strokeRect(ax, ay, bx - ax, by - ay);
@@ -274,12 +275,12 @@ export class FieldView {
         const [x, y] = this.toPixel(h.x, h.y, kx, ky);
         if (x < -r || y < -r || x > W + r || y > H + r) continue;
         ctx.lineWidth = 3 * dpr;
-        ctx.strokeStyle = '#ff3b6b';
+        ctx.strokeStyle = THEME.alarm;
         ctx.beginPath();
         ctx.arc(x, y, r, 0, 2 * Math.PI);
         ctx.stroke();
         ctx.lineWidth = 1.5 * dpr;
-        ctx.strokeStyle = '#ffffff';
+        ctx.strokeStyle = THEME.ring;
         ctx.beginPath();
         ctx.arc(x, y, r + 3 * dpr, 0, 2 * Math.PI);
         ctx.moveTo(x - r * 1.6, y); ctx.lineTo(x - r * 0.6, y);

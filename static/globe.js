@@ -15,8 +15,9 @@
 // latitude, each polygon unwrapped round its centre (server/doc.go).
 
 import { SEQUENTIAL } from './colour.js';
+import { THEME, FIELD_GROUND } from './theme.js';
 
-const BACKGROUND = 0xff1d1713; // ABGR of #13171d
+const BACKGROUND = FIELD_GROUND; // THEME.ground as ABGR
 const OUTLINE_PX = 9;
 const MAX_POLY = 40;
 const RAD = Math.PI / 180;
@@ -278,7 +279,7 @@ export class SphereView {
     const W = this.canvas.width, H = this.canvas.height;
     const f = this.frame;
     if (!this.geom || !f || !this.view) {
-      ctx.fillStyle = '#13171d';
+      ctx.fillStyle = THEME.ground;
       ctx.fillRect(0, 0, W, H);
       return;
     }
@@ -331,7 +332,7 @@ export class SphereView {
       ];
     };
     ctx.lineWidth = dpr;
-    ctx.strokeStyle = 'rgba(230,237,243,0.22)';
+    ctx.strokeStyle = THEME.chromeFaint;
     ctx.beginPath();
     const line = (pts) => {
       let pen = false;
@@ -352,7 +353,7 @@ export class SphereView {
       line(pts);
     }
     ctx.stroke();
-    ctx.strokeStyle = 'rgba(230,237,243,0.55)';
+    ctx.strokeStyle = THEME.chrome;
     ctx.beginPath();
     ctx.arc(cx, cy, R, 0, 2 * Math.PI);
     ctx.stroke();
@@ -370,7 +371,7 @@ export class SphereView {
     const X = (lon) => W / 2 + (lon - v.cx) * v.s;
     const Y = (lat) => H / 2 - (lat - v.cy) * v.s;
     ctx.lineWidth = dpr;
-    ctx.strokeStyle = 'rgba(230,237,243,0.22)';
+    ctx.strokeStyle = THEME.chromeFaint;
     ctx.beginPath();
     const k0 = Math.floor((v.cx - W / 2 / v.s) / 30), k1 = Math.ceil((v.cx + W / 2 / v.s) / 30);
     for (let k = k0; k <= k1; k++) {
@@ -386,14 +387,14 @@ export class SphereView {
     ctx.stroke();
     // One copy of the sphere framed, the periodic copies beside it dimmed.
     const ax = X(v.cx - 180), ay = Y(90);
-    ctx.fillStyle = 'rgba(13,17,23,0.45)';
+    ctx.fillStyle = THEME.veil;
     ctx.beginPath();
     ctx.rect(0, 0, W, H);
     ctx.rect(ax, ay, 360 * v.s, 180 * v.s);
     ctx.fill('evenodd');
-    ctx.strokeStyle = 'rgba(230,237,243,0.55)';
+    ctx.strokeStyle = THEME.chrome;
     ctx.strokeRect(ax, ay, 360 * v.s, 180 * v.s);
-    ctx.fillStyle = 'rgba(230,237,243,0.7)';
+    ctx.fillStyle = THEME.chromeText;
     ctx.font = `${11 * dpr}px system-ui, sans-serif`;
     ctx.textBaseline = 'top';
     for (let k = k0; k <= k1; k++) {
@@ -414,12 +415,12 @@ export class SphereView {
 
 function ring(ctx, x, y, r, dpr) {
   ctx.lineWidth = 3 * dpr;
-  ctx.strokeStyle = '#ff3b6b';
+  ctx.strokeStyle = THEME.alarm;
   ctx.beginPath();
   ctx.arc(x, y, r, 0, 2 * Math.PI);
   ctx.stroke();
   ctx.lineWidth = 1.5 * dpr;
-  ctx.strokeStyle = '#ffffff';
+  ctx.strokeStyle = THEME.ring;
   ctx.beginPath();
   ctx.arc(x, y, r + 3 * dpr, 0, 2 * Math.PI);
   ctx.stroke();

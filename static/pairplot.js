@@ -4,6 +4,7 @@
 // vertical lines labelled with the side.
 
 import { fmtNum, superscript, timeUnit, niceStep, ticks, tickDigits } from './format.js';
+import { THEME, SERIES, SIDES } from './theme.js';
 
 const FLOOR = 1e-18;
 const MAX_POINTS = 6000;
@@ -12,19 +13,19 @@ const PANELS = [
   {
     title: 'relative drift', drift: true, weight: 2,
     series: [
-      { key: 'mass', label: 'mass', colour: '#6cb6ff' },
-      { key: 'energy', label: 'energy', colour: '#f0a33c' },
-      { key: 'enstrophy', label: 'potential enstrophy', colour: '#7ccf7e' },
+      { key: 'mass', label: 'mass', colour: SERIES.mass },
+      { key: 'energy', label: 'energy', colour: SERIES.energy },
+      { key: 'enstrophy', label: 'potential enstrophy', colour: SERIES.enstrophy },
     ],
   },
   {
     title: 'Courant number', weight: 1,
     series: [
-      { key: 'courant', label: 'gravity wave', colour: '#d98cf2' },
-      { key: 'courant_adv', label: 'advective', colour: '#58d0c5' },
+      { key: 'courant', label: 'gravity wave', colour: SERIES.courant },
+      { key: 'courant_adv', label: 'advective', colour: SERIES.courantAdv },
     ],
   },
-  { title: 'minimum depth (m)', weight: 1, series: [{ key: 'h_min', label: 'h min', colour: '#e8e3a1' }] },
+  { title: 'minimum depth (m)', weight: 1, series: [{ key: 'h_min', label: 'h min', colour: SERIES.hMin }] },
 ];
 
 const DASH = [[], [6, 4]];
@@ -74,7 +75,7 @@ export class PairPlot {
     const ctx = this.canvas.getContext('2d');
     const W = w / dpr, H = h / dpr;
     ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
-    ctx.fillStyle = '#161b22';
+    ctx.fillStyle = THEME.panel;
     ctx.fillRect(0, 0, W, H);
     const fs = 11 * this.scale;
     ctx.font = `${fs}px system-ui, sans-serif`;
@@ -101,7 +102,7 @@ export class PairPlot {
     // time axis
     const [unit, name] = timeUnit(t1 - t0);
     const step = niceStep((t1 - t0) / unit, 6) * unit;
-    ctx.fillStyle = '#aab4be';
+    ctx.fillStyle = THEME.muted;
     ctx.textAlign = 'center';
     ctx.textBaseline = 'top';
     for (let t = Math.ceil(t0 / step) * step; t <= t1 + step * 1e-9; t += step) {
@@ -145,11 +146,11 @@ export class PairPlot {
       tv = ticks(lo, hi, Math.max(2, Math.floor(h / (fs * 2.2))));
     }
     const Y = (v) => y + h - ((v - lo) / (hi - lo)) * h;
-    ctx.fillStyle = '#0f1318';
+    ctx.fillStyle = THEME.plot;
     ctx.fillRect(x, y, w, h);
-    ctx.strokeStyle = 'rgba(139,148,158,0.25)';
+    ctx.strokeStyle = THEME.grid;
     ctx.lineWidth = 1;
-    ctx.fillStyle = '#aab4be';
+    ctx.fillStyle = THEME.muted;
     ctx.textAlign = 'right';
     ctx.textBaseline = 'middle';
     let lastLabel = Infinity;
@@ -184,7 +185,7 @@ export class PairPlot {
     ctx.restore();
     ctx.textAlign = 'left';
     ctx.textBaseline = 'top';
-    ctx.fillStyle = '#e6edf3';
+    ctx.fillStyle = THEME.text;
     const title = drift && this.log ? `${panel.title}, log₁₀ |·|` : panel.title;
     ctx.fillText(title, x, yTop + fs * 0.2);
     let lx = x + ctx.measureText(title).width + fs * 1.2;
@@ -205,7 +206,7 @@ export class PairPlot {
     for (let i = 0; i < 2; i++) {
       for (const m of this.markers[i]) {
         const x = Math.round(X(m.t)) + 0.5;
-        ctx.strokeStyle = i === 0 ? '#c7a3ff' : '#ff8f6b';
+        ctx.strokeStyle = SIDES[i === 0 ? 0 : 1];
         ctx.lineWidth = 1;
         ctx.setLineDash(i === 0 ? [4, 3] : [2, 3]);
         ctx.beginPath(); ctx.moveTo(x, yTop); ctx.lineTo(x, yBottom); ctx.stroke();
@@ -216,7 +217,7 @@ export class PairPlot {
         if (row < 0) row = rows.indexOf(Math.min(...rows));
         rows[row] = x + w;
         const ly = yTop + fs * (0.3 + 1.3 * row);
-        ctx.fillStyle = 'rgba(15,19,24,0.85)';
+        ctx.fillStyle = THEME.labelSoft;
         ctx.fillRect(x + 2, ly - 1, w - fs * 0.4, fs * 1.25);
         ctx.fillStyle = ctx.strokeStyle;
         ctx.fillText(label, x + fs * 0.3, ly);

@@ -4,6 +4,7 @@
 // Every mid-run change is a labelled vertical line across all panels.
 
 import { fmtNum, superscript, timeUnit, niceStep, ticks, tickDigits } from './format.js';
+import { THEME, SERIES, MARKERS } from './theme.js';
 
 const MAX_POINTS = 8000;
 const FLOOR = 1e-18; // |drift| below this is drawn at this value in log mode
@@ -12,9 +13,9 @@ const PANELS = [
   {
     title: 'relative drift',
     series: [
-      { key: 'mass', label: 'mass', colour: '#6cb6ff' },
-      { key: 'energy', label: 'energy', colour: '#f0a33c' },
-      { key: 'enstrophy', label: 'potential enstrophy', colour: '#7ccf7e' },
+      { key: 'mass', label: 'mass', colour: SERIES.mass },
+      { key: 'energy', label: 'energy', colour: SERIES.energy },
+      { key: 'enstrophy', label: 'potential enstrophy', colour: SERIES.enstrophy },
     ],
     drift: true,
     weight: 2,
@@ -22,21 +23,19 @@ const PANELS = [
   {
     title: 'Courant number',
     series: [
-      { key: 'courant', label: 'gravity wave', colour: '#d98cf2' },
-      { key: 'courant_adv', label: 'advective', colour: '#58d0c5' },
+      { key: 'courant', label: 'gravity wave', colour: SERIES.courant },
+      { key: 'courant_adv', label: 'advective', colour: SERIES.courantAdv },
     ],
     weight: 1,
   },
   {
     title: 'minimum depth (m)',
-    series: [{ key: 'h_min', label: 'h min', colour: '#e8e3a1' }],
+    series: [{ key: 'h_min', label: 'h min', colour: SERIES.hMin }],
     weight: 1,
   },
 ];
 
-const MARKER_COLOURS = {
-  scheme: '#c7a3ff', integrator: '#ffd166', dt: '#7bdff2', grid: '#ff8f6b', rewind: '#b0b7c0',
-};
+const MARKER_COLOURS = MARKERS;
 
 export class SeriesPlot {
   constructor(canvas) {
@@ -90,7 +89,7 @@ export class SeriesPlot {
     const ctx = this.canvas.getContext('2d');
     const W = this.canvas.width / dpr, H = this.canvas.height / dpr;
     ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
-    ctx.fillStyle = '#161b22';
+    ctx.fillStyle = THEME.panel;
     ctx.fillRect(0, 0, W, H);
     const fs = 11 * this.scale;
     ctx.font = `${fs}px system-ui, sans-serif`;
@@ -148,11 +147,11 @@ export class SeriesPlot {
       tickVals = ticks(lo, hi, Math.max(2, Math.floor(h / (fs * 2.2))));
     }
     const Y = (v) => y + h - ((v - lo) / (hi - lo)) * h;
-    ctx.fillStyle = '#0f1318';
+    ctx.fillStyle = THEME.plot;
     ctx.fillRect(x, y, w, h);
-    ctx.strokeStyle = 'rgba(139,148,158,0.25)';
+    ctx.strokeStyle = THEME.grid;
     ctx.lineWidth = 1;
-    ctx.fillStyle = '#aab4be';
+    ctx.fillStyle = THEME.muted;
     ctx.textAlign = 'right';
     ctx.textBaseline = 'middle';
     let lastLabel = Infinity;
@@ -188,7 +187,7 @@ export class SeriesPlot {
     ctx.textAlign = 'left';
     ctx.textBaseline = 'top';
     let lx = x;
-    ctx.fillStyle = '#e6edf3';
+    ctx.fillStyle = THEME.text;
     const title = drift && this.log ? `${panel.title}, log₁₀ |·|` : panel.title;
     ctx.fillText(title, lx, yTop + fs * 0.2);
     lx += ctx.measureText(title).width + fs * 1.2;
@@ -210,7 +209,7 @@ export class SeriesPlot {
     ctx.textBaseline = 'top';
     for (const m of this.markers) {
       const x = Math.round(X(m.t)) + 0.5;
-      const colour = MARKER_COLOURS[m.kind] || '#c9d1d9';
+      const colour = MARKER_COLOURS[m.kind] || THEME.fallback;
       ctx.strokeStyle = colour;
       ctx.lineWidth = 1;
       ctx.setLineDash([4, 3]);
@@ -225,7 +224,7 @@ export class SeriesPlot {
       const covered = Math.max(w, rows[row] - x);
       rows[row] = x + w;
       const ly = yTop + fs * (0.3 + 1.3 * row);
-      ctx.fillStyle = covered > w ? 'rgb(15,19,24)' : 'rgba(15,19,24,0.85)';
+      ctx.fillStyle = covered > w ? THEME.label : THEME.labelSoft;
       ctx.fillRect(x + 2, ly - 1, covered - fs * 0.4, fs * 1.25);
       ctx.fillStyle = colour;
       ctx.fillText(m.label, x + fs * 0.3, ly);
@@ -235,7 +234,7 @@ export class SeriesPlot {
   drawTimeAxis(ctx, t0, t1, X, y, fs) {
     const [unit, name] = timeUnit(t1 - t0);
     const step = niceStep((t1 - t0) / unit, 6) * unit;
-    ctx.fillStyle = '#aab4be';
+    ctx.fillStyle = THEME.muted;
     ctx.textAlign = 'center';
     ctx.textBaseline = 'top';
     for (let t = Math.ceil(t0 / step) * step; t <= t1 + step * 1e-9; t += step) {

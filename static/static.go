@@ -10,7 +10,10 @@
 //   - linearpanel.js, dispersion.js: the predicted stable Δt beside the Δt
 //     control, its warning, and the dispersion diagram.
 //   - seriesplot.js: the live plot of invariants with change markers.
-//   - colour.js: the colour maps and the colour bar.
+//   - colour.js: the colour maps and the colour bar; its tables come from
+//     colourmaps.js, which the server generates from package sim/figure.
+//   - theme.js: the palette of what the canvases draw (style.css holds
+//     the same values as custom properties).
 //   - format.js: numbers and times for people.
 //   - timeline.js: saving, loading and replaying recorded timelines.
 //   - pair.js, pairplot.js, compare.css: the lockstep pair page (A, B and

@@ -318,7 +318,7 @@ func TestSweepUIRunsAndServesFiles(t *testing.T) {
 		"/run/..%2F" + url.PathEscape(r0) + "/summary.json",
 		"/run/..%2F..%2F" + url.PathEscape(filepath.Base(last.Dir)) + "/sweep.csv",
 		"/run/" + url.PathEscape(r0) + "/planted.txt",
-		"/run/run-999-grid.n=8/summary.json",
+		"/run/point-999/summary.json",
 	} {
 		code, _, b := fetch(t, base+"/sweep/"+id+p)
 		if code != http.StatusNotFound || bytes.Contains(b, []byte("not a sweep output")) || bytes.Contains(b, []byte("root:")) {

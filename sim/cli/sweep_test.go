@@ -197,8 +197,8 @@ func TestSweepJobsAndCollect(t *testing.T) {
 		}
 		for i, line := range lines {
 			words := splitLine(t, line)
-			want := []string{"gyrebench", "run", filepath.Join(dir, "jobs", fmt.Sprintf("run-%03d-grid.n=%d.toml", i, 8<<i)),
-				"--out", filepath.Join(dir, fmt.Sprintf("run-%03d-grid.n=%d", i, 8<<i)), "--workers", "1"}
+			want := []string{"gyrebench", "run", filepath.Join(dir, "jobs", fmt.Sprintf("point-%03d.toml", i+1)),
+				"--out", filepath.Join(dir, fmt.Sprintf("point-%03d", i+1)), "--workers", "1"}
 			if !slices.Equal(words, want) {
 				t.Errorf("%s: line %d = %q, want %q", via, i+1, words, want)
 			}
@@ -270,7 +270,7 @@ func TestSweepBlowUpExit(t *testing.T) {
 		t.Errorf("stderr %q does not count the blow-up", stderr)
 	}
 	rows := reproducible(t, filepath.Join(dir, sweep.CSVFile))
-	if !strings.Contains(rows, "run-001-time.dt=1500,1500,") || strings.Count(rows, ",true,false,") != 1 {
+	if !strings.Contains(rows, "point-002,1500,") || strings.Count(rows, ",true,false,") != 1 {
 		t.Errorf("sweep.csv does not mark the one blown-up run:\n%s", rows)
 	}
 }

@@ -268,7 +268,8 @@ func readSeries(path string, row *Row) error {
 	return nil
 }
 
-// inferPlan builds a plan from run-* folders when there is no
+// inferPlan builds a plan from point-* folders (and the run-* folders of
+// sweeps written before the points were so named) when there is no
 // sweep-plan.json: the choices are the recipe keys whose values differ.
 func inferPlan(dir string) (*Plan, error) {
 	entries, err := os.ReadDir(dir)
@@ -278,7 +279,7 @@ func inferPlan(dir string) (*Plan, error) {
 	var names []string
 	var flats []map[string]string
 	for _, e := range entries {
-		if !e.IsDir() || !strings.HasPrefix(e.Name(), "run-") {
+		if !e.IsDir() || !(strings.HasPrefix(e.Name(), "point-") || strings.HasPrefix(e.Name(), "run-")) {
 			continue
 		}
 		b, err := os.ReadFile(filepath.Join(dir, e.Name(), "recipe.toml"))

@@ -9,7 +9,8 @@
 // A Plan is the validated product of Axes (one per --vary key=v1,v2,...),
 // applied after the --set overrides to a base scenario. The last axis
 // varies fastest; that order is the order of the run folders
-// (run-000-…, run-001-…) and of the rows of sweep.csv, whatever order the
+// (point-001, point-002, …; the choices of each are in sweep.csv and
+// sweep.json) and of the rows of sweep.csv, whatever order the
 // runs finish in. Every run's config is validated before anything is
 // written, and a sweep is capped at MaxRuns runs.
 //

@@ -146,7 +146,7 @@ func NewPlan(base sim.Config, scenarioName, description string, sets []string, a
 		if err != nil {
 			return nil, err
 		}
-		p.Runs = append(p.Runs, Run{Index: i, Name: runName(i, choices), Choices: choices, Config: c})
+		p.Runs = append(p.Runs, Run{Index: i, Name: pointName(i, total), Choices: choices, Config: c})
 		for k := len(axes) - 1; k >= 0; k-- {
 			if idx[k]++; idx[k] < len(axes[k].Values) {
 				break
@@ -235,25 +235,13 @@ func flatten(recipe []byte) (map[string]string, error) {
 	return flat, nil
 }
 
-// runName is the folder of run i: run-007-grid.n=32,scheme.name=apvm, with
-// every character outside [A-Za-z0-9._=,+-] replaced by '_' and the choice
-// part cut to 96 bytes. The index keeps names unique and sorted in
-// product order.
-func runName(i int, cs []Choice) string {
-	var b strings.Builder
-	for _, r := range choiceText(cs) {
-		switch {
-		case r >= 'a' && r <= 'z', r >= 'A' && r <= 'Z', r >= '0' && r <= '9', strings.ContainsRune("._=,+-", r):
-			b.WriteRune(r)
-		default:
-			b.WriteByte('_')
-		}
-	}
-	s := b.String()
-	if len(s) > 96 {
-		s = s[:96]
-	}
-	return fmt.Sprintf("run-%03d-%s", i, s)
+// pointName is the folder of run i of n: point-001, point-002, … in
+// product order, 1-based, with as many digits as n needs (at least three)
+// so that the folders sort in that order. The choices that make the point
+// are in sweep.csv and sweep.json, not in the name.
+func pointName(i, n int) string {
+	w := max(3, len(strconv.Itoa(n)))
+	return fmt.Sprintf("point-%0*d", w, i+1)
 }
 
 // WritePlan writes the plan to DIR/sweep-plan.json, creating DIR.
@@ -300,7 +288,7 @@ func writeBytes(path string, b []byte) error {
 // WriteJobs writes the plan, one resolved scenario per run under
 // DIR/jobs/, and the job list at path: one line per run, in product order,
 //
-//	gyrebench run DIR/jobs/run-000-grid.n=8.toml --out DIR/run-000-grid.n=8 --workers 1
+//	gyrebench run DIR/jobs/point-001.toml --out DIR/point-001 --workers 1
 //
 // Each line is a complete, independent command, quoted for a POSIX shell
 // where needed; paths are DIR as given, so the lines run from the folder

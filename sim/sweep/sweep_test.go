@@ -133,21 +133,22 @@ func TestNewPlanRejects(t *testing.T) {
 }
 
 // The product runs the last axis fastest; values are canonical (as the
-// recipe writes them) and folder names keep only safe characters.
+// recipe writes them); folders are named point-001, … in that order, and
+// the choices of each are in the plan, whatever characters they hold.
 func TestPlanOrderAndNames(t *testing.T) {
 	p := mustPlan(t, geostrophic(), []string{"time.duration=600"}, "grid.n=8,16", "time.dt=60,1.2e2", "title=a b/c")
-	want := []string{
-		"run-000-grid.n=8,time.dt=60,title=a_b_c",
-		"run-001-grid.n=8,time.dt=120,title=a_b_c",
-		"run-002-grid.n=16,time.dt=60,title=a_b_c",
-		"run-003-grid.n=16,time.dt=120,title=a_b_c",
+	want := []struct{ dir, choices string }{
+		{"point-001", "grid.n=8,time.dt=60,title=a b/c"},
+		{"point-002", "grid.n=8,time.dt=120,title=a b/c"},
+		{"point-003", "grid.n=16,time.dt=60,title=a b/c"},
+		{"point-004", "grid.n=16,time.dt=120,title=a b/c"},
 	}
 	if len(p.Runs) != len(want) {
 		t.Fatalf("%d runs, want %d", len(p.Runs), len(want))
 	}
 	for i, r := range p.Runs {
-		if r.Name != want[i] || r.Index != i {
-			t.Errorf("run %d: %q (index %d), want %q", i, r.Name, r.Index, want[i])
+		if r.Name != want[i].dir || r.Index != i || choiceText(r.Choices) != want[i].choices {
+			t.Errorf("run %d: %q (index %d, choices %s), want %q with %s", i, r.Name, r.Index, choiceText(r.Choices), want[i].dir, want[i].choices)
 		}
 		if r.Config.Time.Duration != 600 {
 			t.Errorf("run %d: --set time.duration not applied: %g", i, r.Config.Time.Duration)
@@ -490,7 +491,7 @@ func TestBlowUpIsARow(t *testing.T) {
 	}
 	b, _ := os.ReadFile(filepath.Join(dir, JSONFile))
 	if !strings.Contains(string(b), `"blew_up": [
-    "run-001-time.dt=750"`) {
+    "point-002"`) {
 		t.Errorf("sweep.json does not list the blown-up run:\n%s", b)
 	}
 }
@@ -596,13 +597,13 @@ func ExampleNewPlan() {
 		return
 	}
 	for _, r := range p.Runs {
-		fmt.Println(r.Name)
+		fmt.Println(r.Name, choiceText(r.Choices))
 	}
 	// Output:
-	// run-000-grid.n=16,scheme.name=trisk-energy
-	// run-001-grid.n=16,scheme.name=apvm
-	// run-002-grid.n=32,scheme.name=trisk-energy
-	// run-003-grid.n=32,scheme.name=apvm
+	// point-001 grid.n=16,scheme.name=trisk-energy
+	// point-002 grid.n=16,scheme.name=apvm
+	// point-003 grid.n=32,scheme.name=trisk-energy
+	// point-004 grid.n=32,scheme.name=apvm
 }
 
 func ExampleWriteJobs() {
@@ -620,6 +621,6 @@ func ExampleWriteJobs() {
 	b, _ := os.ReadFile(jobs)
 	fmt.Print(strings.ReplaceAll(string(b), dir, "DIR"))
 	// Output:
-	// gyrebench run DIR/jobs/run-000-grid.n=16.toml --out DIR/run-000-grid.n=16 --workers 2
-	// gyrebench run DIR/jobs/run-001-grid.n=32.toml --out DIR/run-001-grid.n=32 --workers 2
+	// gyrebench run DIR/jobs/point-001.toml --out DIR/point-001 --workers 2
+	// gyrebench run DIR/jobs/point-002.toml --out DIR/point-002 --workers 2
 }
