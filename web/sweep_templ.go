@@ -351,7 +351,7 @@ func SweepNewPage(v SweepNewView) templ.Component {
 					return templ_7745c5c3_Err
 				}
 			}
-			templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 20, "<form method=\"post\" action=\"/sweeps\" class=\"sweep-form\" data-role=\"sweep-form\"><h1>New sweep</h1><p class=\"lead\">Each line under <em>vary</em> gives a scenario key and its values; the sweep runs every combination, each run to the end of its duration, and then fits the convergence order and plots the errors and the drift of the invariants.</p>")
+			templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 20, "<form method=\"post\" action=\"/sweeps\" class=\"sweep-form\" data-role=\"sweep-form\"><h1>New sweep</h1><p class=\"lead\">Each line under <em>vary</em> gives a scenario key and its values; the sweep runs every combination, each run to the end of its duration, and then fits the convergence orders (l2 and l∞) and plots the errors and the drift of the invariants.</p>")
 			if templ_7745c5c3_Err != nil {
 				return templ_7745c5c3_Err
 			}

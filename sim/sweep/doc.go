@@ -49,9 +49,9 @@
 //     function of the plan alone, so the same plan gives the same file up
 //     to the wall_seconds column, wherever the runs ran.
 //   - sweep.json: the varied keys, the blown-up runs, and per curve the
-//     fitted order: the least-squares slope of ln l2_h against ln
-//     spacing over the runs that share every choice but the
-//     ResolutionKeys.
+//     fitted orders side by side: the least-squares slopes of ln l2_h
+//     (order) and of ln linf_h (order_linf) against ln spacing over the
+//     runs that share every choice but the ResolutionKeys.
 //   - error.png, error.svg (when some curve has two spacings or more),
 //     energy-drift.png/.svg and enstrophy-drift.png/.svg.
 //
