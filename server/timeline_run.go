@@ -9,6 +9,7 @@ import (
 
 	"gyrebench/scenarios/timelines"
 	"gyrebench/sim"
+	"gyrebench/sim/mesh"
 	"gyrebench/sim/timeline"
 )
 
@@ -112,7 +113,7 @@ func (r *Run) applyRecorded(m clientMsg) error {
 			optimizeName(cfg.Grid.Optimize) != optimizeName(b.cfg.Grid.Optimize)
 		if changed {
 			e := timeline.Event{Cmd: timeline.SetGrid, Kind: cfg.Grid.Kind, N: cfg.Grid.N}
-			if isSphereKind(cfg.Grid.Kind) {
+			if mesh.Kind(cfg.Grid.Kind) == mesh.Icosahedral {
 				e.Optimize = optimizeName(cfg.Grid.Optimize)
 			}
 			r.record(e)

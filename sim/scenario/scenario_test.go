@@ -116,7 +116,8 @@ func TestSet(t *testing.T) {
 
 // The grid distortion keys are set, formatted and parsed back, and the
 // validation refuses them out of range and on the sphere with a message
-// naming the key and the value.
+// naming the key and the value; the cubed sphere takes the sphere's cases
+// only, n ≥ 2 and no optimisation.
 func TestGridDistortionKeys(t *testing.T) {
 	c := sim.DefaultConfig()
 	for _, a := range []string{"grid.kind=quad", "grid.n=16", "grid.distort=0.125", "grid.jitter=0.1", "grid.seed=12345"} {
@@ -147,6 +148,9 @@ func TestGridDistortionKeys(t *testing.T) {
 		{[]string{"grid.jitter=0.1", "grid.seed=-2"}, "grid.seed = -2"},
 		{[]string{"grid.kind=cubed", "grid.n=8", "initial.case=williamson-2", "grid.distort=0.1"}, "grid.distort = 0.1"},
 		{[]string{"grid.kind=icosahedral", "grid.n=3", "initial.case=williamson-2", "grid.jitter=0.1"}, "grid.jitter = 0.1"},
+		{[]string{"grid.kind=cubed", "grid.n=8"}, `grid.kind = "cubed" does not`},
+		{[]string{"grid.kind=cubed", "grid.n=1", "initial.case=williamson-2"}, "grid.n = 1"},
+		{[]string{"grid.kind=cubed", "grid.n=8", "initial.case=williamson-2", "grid.optimize=lloyd"}, `grid.optimize = "lloyd"`},
 	} {
 		c := sim.DefaultConfig()
 		for _, a := range tc.sets {

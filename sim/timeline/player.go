@@ -5,6 +5,7 @@ import (
 	"fmt"
 
 	"gyrebench/sim"
+	"gyrebench/sim/mesh"
 )
 
 // Player replays a timeline on a model. A driver calls, before every step:
@@ -87,6 +88,9 @@ func (p *Player) Apply(m *sim.Model) (Applied, error) {
 			err = m.SetDt(e.Dt)
 		case SetGrid:
 			opt := m.Config().Grid.Optimize
+			if mesh.Kind(e.Kind) != mesh.Icosahedral {
+				opt = "" // the relaxation is the icosahedral grid's; it does not carry over
+			}
 			if e.Optimize != "" {
 				opt = e.Optimize
 			}

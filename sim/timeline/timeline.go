@@ -272,6 +272,9 @@ func (tl *Timeline) validate(lines []int) error {
 				return fail("kind", "kind = %s: unknown grid; allowed: %s", quote(e.Kind), kindList())
 			}
 			try.Grid.Kind, try.Grid.N = e.Kind, e.N
+			if mesh.Kind(e.Kind) != mesh.Icosahedral {
+				try.Grid.Optimize = ""
+			}
 			if e.Optimize != "" {
 				try.Grid.Optimize = e.Optimize
 			}
