@@ -50,6 +50,16 @@
 //     the dual cells alike: Σ kites of a cell = CellArea, Σ kites of a
 //     vertex = VertexArea.
 //
+// The generators: quad, hex and tri planes (New), optionally distorted
+// smoothly (Spec.Distort) or at random (Spec.Jitter, Spec.Seed), with the
+// cell centres at the centroids of the moved cells (distort.go); the
+// icosahedral Voronoi sphere (icosa.go); and the equiangular gnomonic cubed
+// sphere (cubed.go), with its centres at the normalised means of the cell
+// corners. The regular planes and the Voronoi spheres compute their metric
+// in their own generators; the distorted planes and the cubed sphere take
+// it from the topology and the positions alone (geometry.go), a path that
+// reproduces the former on the regular grids (a test checks it).
+//
 // Everything a Hodge-star construction needs around a vertex v is in
 // Coords: the vertex (VertexX/Y/Z), the centres of the cells around it
 // (CellX/Y/Z of VertexCells) and the crossing points of its edges
