@@ -45,6 +45,19 @@ type GridConfig struct {
 	Seed    int
 }
 
+// SetKind changes the grid family. The Lloyd relaxation belongs to the
+// icosahedral grid: a change to another family drops it (as a mid-run
+// switch does), so that a scenario written for the icosahedral grid runs
+// on the cubed sphere with --set grid.kind=cubed or in a sweep over
+// grid.kind. A relaxation asked for explicitly on another family is still
+// refused by Validate.
+func (g *GridConfig) SetKind(kind string) {
+	g.Kind = kind
+	if mesh.Kind(kind) != mesh.Icosahedral && g.Optimize == mesh.OptimizeLloyd {
+		g.Optimize = ""
+	}
+}
+
 // PhysicsConfig holds the physical constants.
 type PhysicsConfig struct {
 	G      float64 // m s⁻²

@@ -163,3 +163,40 @@ func TestGridDistortionKeys(t *testing.T) {
 		}
 	}
 }
+
+// The Lloyd relaxation of a scenario written for the icosahedral grid
+// stays with that grid: --set grid.kind=cubed drops it (and the run
+// validates), while a relaxation asked for after the change is refused.
+func TestSetGridKindDropsRelaxation(t *testing.T) {
+	src, err := scenarios.Source("williamson-2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, err := Parse(src, "williamson-2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Config.Grid.Optimize != "lloyd" {
+		t.Fatalf("williamson-2 has grid.optimize = %q; the test needs a relaxed grid", s.Config.Grid.Optimize)
+	}
+	c := s.Config.Clone()
+	for _, a := range []string{"grid.kind=cubed", "grid.n=8"} {
+		if err := Set(&c, a); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if c.Grid.Optimize != "" {
+		t.Errorf("grid.optimize = %q after grid.kind=cubed, want it dropped", c.Grid.Optimize)
+	}
+	if err := c.Validate(); err != nil {
+		t.Errorf("williamson-2 on the cubed sphere: %v", err)
+	}
+	back := c.Clone()
+	if err := Set(&back, "grid.kind=icosahedral"); err != nil || back.Grid.Optimize != "" {
+		t.Errorf("grid.kind=icosahedral: optimize %q, %v; want it still dropped", back.Grid.Optimize, err)
+	}
+	same := s.Config.Clone()
+	if err := Set(&same, "grid.kind=icosahedral"); err != nil || same.Grid.Optimize != "lloyd" {
+		t.Errorf("grid.kind=icosahedral on an icosahedral scenario: optimize %q, %v; want lloyd kept", same.Grid.Optimize, err)
+	}
+}

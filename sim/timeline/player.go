@@ -5,7 +5,6 @@ import (
 	"fmt"
 
 	"gyrebench/sim"
-	"gyrebench/sim/mesh"
 )
 
 // Player replays a timeline on a model. A driver calls, before every step:
@@ -87,10 +86,9 @@ func (p *Player) Apply(m *sim.Model) (Applied, error) {
 		case SetDt:
 			err = m.SetDt(e.Dt)
 		case SetGrid:
-			opt := m.Config().Grid.Optimize
-			if mesh.Kind(e.Kind) != mesh.Icosahedral {
-				opt = "" // the relaxation is the icosahedral grid's; it does not carry over
-			}
+			g := m.Config().Grid
+			g.SetKind(e.Kind) // the relaxation is the icosahedral grid's; it does not carry over
+			opt := g.Optimize
 			if e.Optimize != "" {
 				opt = e.Optimize
 			}
