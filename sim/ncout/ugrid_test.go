@@ -345,6 +345,17 @@ func TestSphereCoordinates(t *testing.T) {
 	for _, m := range []*mesh.Mesh{m, cubed} {
 		t.Run(fmt.Sprintf("%s-%d", m.Kind, m.NumCells), func(t *testing.T) { checkSphereCoordinates(t, m, r) })
 	}
+	// The cubed sphere says that its dual is not orthogonal; the regular
+	// planes say nothing.
+	for _, c := range []struct {
+		m    *mesh.Mesh
+		want any
+	}{{cubed, DualEdgesNonOrthogonal}, {planeMeshes(t)[1], nil}} {
+		_, f := writeMeshFile(t, c.m)
+		if got, _ := f.Var(MeshVar).Attr("dual_edges"); got != c.want {
+			t.Errorf("%s: dual_edges = %v, want %v", c.m.Kind, got, c.want)
+		}
+	}
 }
 
 func checkSphereCoordinates(t *testing.T, m *mesh.Mesh, r float64) {
