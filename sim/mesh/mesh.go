@@ -205,12 +205,14 @@ type Spec struct {
 	Radius float64 // sphere radius (m)
 	// Optimize: icosahedral only; "" or OptimizeNone, or OptimizeLloyd.
 	Optimize string
-	// Distort, planes only: the amplitude of a smooth doubly periodic
-	// vertex displacement, 0 ≤ Distort < MaxDistort (see distort.go).
+	// Distort, planes only: a smooth doubly periodic vertex displacement
+	// under which neighbouring vertices move relative to each other by up
+	// to about Distort × spacing, at every resolution; 0 ≤ Distort <
+	// MaxDistort (see distort.go).
 	Distort float64
 	// Jitter, planes only: the radius of a random vertex displacement as a
-	// fraction of the edge length, 0 ≤ Jitter < MaxJitter, drawn from a PCG
-	// generator seeded by Seed.
+	// fraction of the edge length, 0 ≤ Jitter < JitterLimit(Distort),
+	// drawn from a PCG generator seeded by Seed.
 	Jitter float64
 	Seed   uint64
 }
