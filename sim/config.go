@@ -36,8 +36,8 @@ type GridConfig struct {
 	// Optimize is "none" or "lloyd" (centroidal relaxation), icosahedral
 	// only; "" means none.
 	Optimize string
-	// Distort is the amplitude of the smooth vertex displacement of the
-	// planar grids (0 ≤ distort < 0.3, see mesh.Spec.Distort); Jitter the
+	// Distort sets the smooth vertex displacement of the planar grids
+	// (0 ≤ distort < 0.3, see mesh.Spec.Distort); Jitter the
 	// radius of a random one as a fraction of the edge length, drawn with
 	// Seed (≥ 0, default 1). Distort and Jitter are 0 on the sphere.
 	Distort float64
