@@ -19,7 +19,7 @@ import (
 
 // gridKinds are the grid families of the grid menu. A run switches
 // between the planar ones, or between icosahedral levels (sphere.go).
-var gridKinds = []string{string(mesh.Quad), string(mesh.Hex), string(mesh.Tri), string(mesh.Icosahedral)}
+var gridKinds = []string{string(mesh.Quad), string(mesh.Hex), string(mesh.Tri), string(mesh.Icosahedral), string(mesh.Cubed)}
 
 // cmdError refuses a command: which field, the value given, and a message
 // that says what is allowed.
@@ -148,6 +148,9 @@ func maxLiveN(kind string, cfg sim.Config, msh *mesh.Mesh) int {
 // domain, so the height is the current one.
 func liveSpec(kind string, n int, cfg sim.Config, msh *mesh.Mesh) mesh.Spec {
 	cfg.Grid.Kind, cfg.Grid.N = kind, n
+	if mesh.Kind(kind) != mesh.Icosahedral {
+		cfg.Grid.Optimize = "" // the relaxation is the icosahedral grid's
+	}
 	spec := cfg.MeshSpec()
 	if !msh.Surface.Sphere {
 		spec.Height = msh.Surface.Ly
@@ -317,7 +320,7 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&g); err != nil {
-		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side, or the level on the sphere, \"optimize\" (sphere only): \"none\" or \"lloyd\"}", shown(raw), strings.Join(gridKinds, ", "))
+		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side (cubed: per cube edge), or the icosahedral level, \"optimize\" (icosahedral only): \"none\" or \"lloyd\"}", shown(raw), strings.Join(gridKinds, ", "))
 	}
 	cfg := r.m.Config()
 	msh := r.m.Mesh()
@@ -342,9 +345,12 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 		}
 	}
 	opt := cfg.Grid.Optimize
+	if mesh.Kind(g.Kind) != mesh.Icosahedral {
+		opt = "" // the relaxation is the icosahedral grid's; it does not carry over
+	}
 	if g.Optimize != nil {
 		switch {
-		case !isSphereKind(g.Kind):
+		case mesh.Kind(g.Kind) != mesh.Icosahedral:
 			return refuse("grid.optimize", *g.Optimize, "grid.optimize = %q: only icosahedral grids are optimised; leave it out for %s", *g.Optimize, g.Kind)
 		case *g.Optimize != mesh.OptimizeNone && *g.Optimize != mesh.OptimizeLloyd:
 			return refuse("grid.optimize", *g.Optimize, "grid.optimize = %q: allowed: %q (the bisected icosahedron) or %q (centroidal Lloyd relaxation)", *g.Optimize, mesh.OptimizeNone, mesh.OptimizeLloyd)
@@ -361,7 +367,7 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 		return refuseErr("grid.n", strconv.Itoa(n), err)
 	}
 	label := "grid: " + gridName(g.Kind, n)
-	if isSphereKind(g.Kind) && optimizeName(opt) != optimizeName(cfg.Grid.Optimize) {
+	if mesh.Kind(g.Kind) == mesh.Icosahedral && optimizeName(opt) != optimizeName(cfg.Grid.Optimize) {
 		label += ", " + optimizeName(opt)
 	}
 	return r.change("grid", label, func() error {

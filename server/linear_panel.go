@@ -46,7 +46,7 @@ import (
 // Dispersion copies: the largest resolution analysed densely, per family.
 // Each is 576–768 unknowns, about half a second (linear.Analyse's cost note).
 var dispersionN = map[string]int{
-	string(mesh.Quad): 16, string(mesh.Hex): 12, string(mesh.Tri): 12, string(mesh.Icosahedral): 2,
+	string(mesh.Quad): 16, string(mesh.Hex): 12, string(mesh.Tri): 12, string(mesh.Icosahedral): 2, string(mesh.Cubed): 6,
 }
 
 // maxLinCache bounds each cache; past it the cache starts afresh.

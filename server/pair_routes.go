@@ -143,7 +143,8 @@ func applyChoice(cfg *sim.Config, side string, c pairChoice) error {
 		if !contains(gridKinds, c.Grid) {
 			return fmt.Errorf("%s: grid.kind = %q: not a grid the workbench offers; allowed: %s", side, c.Grid, strings.Join(gridKinds, ", "))
 		}
-		cfg.Grid.Kind, cfg.Grid.Height = c.Grid, 0
+		cfg.Grid.SetKind(c.Grid)
+		cfg.Grid.Height = 0
 	}
 	if c.N != "" {
 		n, err := strconv.Atoi(strings.TrimSpace(c.N))

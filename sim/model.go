@@ -341,7 +341,9 @@ func (m *Model) SetState(x []float64, time float64, steps int64) error {
 // run's start. The receiver is left unchanged and usable; the caller closes
 // whichever model it drops.
 func (m *Model) Regrid(kind string, n int) (*Model, error) {
-	return m.RegridOptimize(kind, n, m.cfg.Grid.Optimize)
+	g := m.cfg.Grid
+	g.SetKind(kind) // the relaxation is the icosahedral grid's; it does not carry to another family
+	return m.RegridOptimize(kind, n, g.Optimize)
 }
 
 // RegridOptimize is Regrid that also sets grid.optimize ("none" or
@@ -351,7 +353,7 @@ func (m *Model) RegridOptimize(kind string, n int, optimize string) (*Model, err
 	cfg.Grid.Kind, cfg.Grid.N, cfg.Grid.Optimize = kind, n, optimize
 	if !m.mesh.Surface.Sphere {
 		cfg.Grid.Height = m.mesh.Surface.Ly
-		if mesh.Kind(kind) != mesh.Icosahedral && m.mesh.Surface.Ly == mesh.NaturalHeight(mesh.Kind(kind), n, cfg.Grid.Length) {
+		if !mesh.Kind(kind).OnSphere() && m.mesh.Surface.Ly == mesh.NaturalHeight(mesh.Kind(kind), n, cfg.Grid.Length) {
 			cfg.Grid.Height = 0
 		}
 	}
