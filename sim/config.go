@@ -52,6 +52,10 @@ type PhysicsConfig struct {
 type SchemeConfig struct {
 	Name       string
 	APVMFactor float64 // c of apvm; 0 = default 1/2
+	// Hodge is the edge Hodge star: scheme.HodgeConsistent (the default;
+	// "" means it too) or scheme.HodgeDiagonal. Both are diag(l/d) on
+	// grids whose dual is orthogonal.
+	Hodge string
 }
 
 // TimeConfig chooses the integrator and the time span.
@@ -81,7 +85,7 @@ func DefaultConfig() Config {
 		Title:   "untitled",
 		Grid:    GridConfig{Kind: string(mesh.Hex), N: 64, Length: 1e6},
 		Physics: PhysicsConfig{G: 9.80616, F0: 1e-4, Depth: 1000, Radius: 6.37122e6, Omega: 7.292e-5},
-		Scheme:  SchemeConfig{Name: scheme.TRiSKEnergy},
+		Scheme:  SchemeConfig{Name: scheme.TRiSKEnergy, Hodge: scheme.HodgeConsistent},
 		Time:    TimeConfig{Integrator: step.RK3, Dt: 60, Duration: 86400},
 		Initial: InitialConfig{Case: "gaussian-bump", Params: map[string]float64{}},
 		Output:  OutputConfig{Every: 3600},
@@ -141,6 +145,9 @@ func (c *Config) Validate() error {
 	}
 	if c.Scheme.APVMFactor < 0 {
 		return fmt.Errorf("scheme.apvm_factor = %g: must be ≥ 0", c.Scheme.APVMFactor)
+	}
+	if err := validHodge(c.Scheme.Hodge); err != nil {
+		return err
 	}
 	if _, err := step.New(c.Time.Integrator, 0, step.Options{Asselin: c.Time.Asselin}); err != nil {
 		return err

@@ -79,7 +79,11 @@ func NewModel(cfg Config, workers int) (*Model, error) {
 // newModelOn builds a model on an existing mesh; a non-nil state replaces
 // the initial condition and a non-nil bottom the case's bottom height.
 func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float64) (*Model, error) {
-	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
+	grid, err := HodgeGrid(msh, cfg.Scheme.Hodge)
+	if err != nil {
+		return nil, err
+	}
+	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: grid}
 	nc, ne := msh.NumCells, msh.NumEdges
 	m.x = make([]float64, nc+ne)
 	cs, err := cases.Lookup(cfg.Initial.Case)

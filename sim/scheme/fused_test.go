@@ -89,8 +89,16 @@ func TestTendencyMatchesOperators(t *testing.T) {
 // element-wise update gives, for every stage form and worker count.
 func TestStageMatchesTendency(t *testing.T) {
 	stages := []struct{ a, b float64 }{{0, 1}, {0.75, 0.25}, {1.0 / 3, 2.0 / 3}}
+	var fixtures []fixture
 	for _, spec := range fusedSpecs {
-		f := randomFixtureOn(t, spec, 5)
+		fixtures = append(fixtures, randomFixtureOn(t, spec, 5))
+		if spec.Kind != mesh.Icosahedral {
+			// The same with a general Hodge star (two edge passes).
+			fixtures = append(fixtures, withHodge(t, randomFixtureOn(t, spec, 5), 5))
+		}
+	}
+	for _, f := range fixtures {
+		spec := mesh.Spec{Kind: f.m.Kind}
 		x0 := make([]float64, len(f.x))
 		for k, v := range f.x {
 			x0[k] = v * (1 + 1e-3*math.Sin(float64(k)))
@@ -117,7 +125,7 @@ func TestStageMatchesTendency(t *testing.T) {
 					st.Stage(got, x0, c.a, c.b, 60)
 					for i := range got {
 						if math.Float64bits(got[i]) != math.Float64bits(want[i]) {
-							t.Fatalf("%s on %s, %d workers, stage (%g, %g): element %d is %g, want %g", name, spec.Kind, w, c.a, c.b, i, got[i], want[i])
+							t.Fatalf("%s on %s (general Hodge %t), %d workers, stage (%g, %g): element %d is %g, want %g", name, spec.Kind, f.g.Hodge != nil, w, c.a, c.b, i, got[i], want[i])
 						}
 					}
 				}

@@ -52,6 +52,19 @@ const (
 	SadournyEnstrophy = "sadourny-enstrophy"
 )
 
+// Hodge-star choices (scheme.hodge). On a grid whose dual is orthogonal
+// both are the diagonal l_e/d_e; elsewhere "consistent" uses the grid's
+// general Hodge star (mesh.ConsistentHodge), exact for uniform flow, and
+// "diagonal" keeps l_e/d_e, which still conserves energy but is not
+// consistent there.
+const (
+	HodgeConsistent = "consistent"
+	HodgeDiagonal   = "diagonal"
+)
+
+// HodgeNames lists the Hodge-star choices, the default first.
+var HodgeNames = []string{HodgeConsistent, HodgeDiagonal}
+
 // Names lists every scheme.
 var Names = []string{TRiSKEnergy, TRiSKEnstrophy, APVM, AL81, SadournyEnergy, SadournyEnstrophy}
 

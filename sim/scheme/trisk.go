@@ -3,6 +3,7 @@ package scheme
 import (
 	"fmt"
 
+	"gyrebench/sim/mesh"
 	"gyrebench/sim/ops"
 	"gyrebench/sim/par"
 )
@@ -30,7 +31,11 @@ type core struct {
 	x, dst []float64 // arguments of the tendency in progress
 	dh     []float64 // where the cell pass puts ∂h/∂t (dst[:nc]); nil in a stage
 
-	phaseVertices, phaseEdges func(lo, hi int)
+	// General Hodge star (the grid's Metric.Hodge), nil for diag(l/d).
+	hodge *mesh.Hodge
+	vh    []pair // edges: v_e = d_e u_e and ĥ_e v_e, only with hodge
+
+	phaseVertices, phaseEdges, phaseCirc, phaseHodge func(lo, hi int)
 }
 
 func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
@@ -46,6 +51,11 @@ func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 	}
 	touch(c.q)
 	touch(c.fk)
+	if g.Hodge != nil {
+		c.hodge = g.Hodge
+		c.vh = make([]pair, g.NumEdges)
+		touch(c.vh)
+	}
 	return c
 }
 
@@ -60,6 +70,58 @@ func touch[T any](s []T) { clear(s) }
 func (c *core) bind() {
 	c.phaseVertices = c.doVertices
 	c.phaseEdges = c.doEdges
+	c.phaseCirc = c.doCirculation
+	c.phaseHodge = c.doHodge
+}
+
+// edgePasses runs the edge passes: one with the diagonal Hodge star, two
+// with a general one (circulations first, then the rows of H, so that
+// each edge's flux is computed in one place, in the order of its row).
+func (c *core) edgePasses() {
+	if c.hodge == nil {
+		c.pool.For(c.ne, c.phaseEdges)
+		return
+	}
+	c.pool.For(c.ne, c.phaseCirc)
+	c.pool.For(c.ne, c.phaseHodge)
+}
+
+// doCirculation sets v_e = d_e u_e and ĥ_e v_e.
+func (c *core) doCirculation(lo, hi int) {
+	h, u := c.x[:c.nc], c.x[c.nc+lo:c.nc+hi]
+	vh := c.vh[lo:hi]
+	cells := c.g.EdgeCells[2*lo : 2*hi]
+	d := c.g.DualLength[lo:hi]
+	u, d = u[:len(vh)], d[:len(vh)]
+	for k := range vh {
+		ce := cells[2*k : 2*k+2 : 2*k+2]
+		v := d[k] * u[k]
+		vh[k] = pair{v, 0.5 * (h[ce[0]] + h[ce[1]]) * v}
+	}
+}
+
+// doHodge sets, with the general Hodge star H, the mass flux
+// F = δE/δv = ½[ĥ ∘ (H v) + H (ĥ ∘ v)] and the kinetic-energy share
+// v_e (H v)_e, for the energy E = ½ Σ_e ĥ_e v_e (H v)_e + potential
+// (the Hamiltonian form: Thuburn & Cotter 2012, SIAM J. Sci. Comput. 34,
+// B203–B225, from memory). With H = diag(l/d) both reduce to doEdges.
+// For apvm, l u becomes H v, the flux per unit thickness.
+func (c *core) doHodge(lo, hi int) {
+	st, col, val := c.hodge.Start, c.hodge.Col, c.hodge.Val
+	vh, fk, h, cells := c.vh, c.fk, c.x[:c.nc], c.g.EdgeCells
+	for e := lo; e < hi; e++ {
+		var hv, hhv float64
+		for k := st[e]; k < st[e+1]; k++ {
+			p := &vh[col[k]]
+			hv += val[k] * p[0]
+			hhv += val[k] * p[1]
+		}
+		he := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
+		fk[e] = pair{0.5 * (he*hv + hhv), vh[e][0] * hv}
+		if c.lu != nil {
+			c.lu[e] = hv
+		}
+	}
 }
 
 // doVertices sets q_v = (ζ_v + f_v)/h_v (Ringler et al. 2010, eq. 26).
@@ -196,7 +258,7 @@ func stageValue(x, x0, f, a, b, dt float64) float64 {
 // passes runs every pass up to the cell pass.
 func (s *trisk) passes() {
 	s.pool.For(s.nv, s.phaseVertices)
-	s.pool.For(s.ne, s.phaseEdges)
+	s.edgePasses()
 	if s.corr != nil {
 		s.pool.For(s.nc, s.phaseQ)
 		s.pool.For(s.ne, s.phaseA)
