@@ -13,6 +13,7 @@
 // with v_e = d_e u_e, the energy whose variation the schemes use
 // (Thuburn & Cotter 2012, SIAM J. Sci. Comput. 34, B203–B225, from
 // memory); H = diag(l/d) gives the first form. Then
+//
 //	Z = Σ_v A_v (ζ_v + f_v)² / (2 h_v)
 //	C = Σ_v A_v (ζ_v + f_v)
 //
