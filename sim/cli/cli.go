@@ -53,11 +53,13 @@ func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return cmdSweep(ctx, args[1:], stdout, stderr)
 	case "modes":
 		return cmdModes(ctx, args[1:], stdout, stderr)
+	case "structure":
+		return cmdStructure(ctx, args[1:], stdout, stderr)
 	case "help", "-h", "--help":
 		usage(stdout)
 		return ExitOK
 	}
-	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, sweep, modes, bench\n", args[0])
+	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, sweep, modes, structure, bench\n", args[0])
 	return ExitBadInput
 }
 
@@ -72,6 +74,8 @@ func usage(w io.Writer) {
   gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W]
   gyrebench sweep FILE_OR_NAME --vary key=v1,v2,... [--set key=value]... --out DIR [--jobs J] [--jobs-file PATH] | --collect DIR
   gyrebench modes [FILE_OR_NAME] [--grid G] [--n N] [--set key=value]... --out DIR [--verify-dt] [--extreme]
+  gyrebench structure [FILE_OR_NAME] [--grid G] [--n N] [--set key=value]... --out DIR
+                                              what the grid, Hodge star and scheme conserve (structure.json)
 `)
 }
 
