@@ -312,7 +312,8 @@ func (r *Report) eigenvalues(g ops.Grid) error {
 }
 
 // lanczosExtremes returns the extreme Ritz values of H after at most
-// maxSteps Lanczos steps with full reorthogonalisation, stopping when both
+// maxSteps Lanczos steps with full reorthogonalisation (two Gram–Schmidt
+// passes: one loses orthogonality on these spectra), stopping when both
 // have changed by less than 1e-10 relative over ten steps; it returns the
 // steps taken and that last relative change.
 func lanczosExtremes(g ops.Grid, maxSteps int) (lo, hi float64, steps int, change float64) {
@@ -333,10 +334,12 @@ func lanczosExtremes(g ops.Grid, maxSteps int) (lo, hi float64, steps int, chang
 		applyHodge(g, w, q)
 		a := dot(w, q)
 		alpha = append(alpha, a)
-		for _, b := range basis { // full reorthogonalisation
-			c := dot(w, b)
-			for e := range w {
-				w[e] -= c * b[e]
+		for pass := 0; pass < 2; pass++ { // full reorthogonalisation, twice
+			for _, b := range basis {
+				c := dot(w, b)
+				for e := range w {
+					w[e] -= c * b[e]
+				}
 			}
 		}
 		bn := math.Sqrt(dot(w, w))

@@ -1,0 +1,143 @@
+package structure
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"gyrebench/sim"
+	"gyrebench/sim/mesh"
+	"gyrebench/sim/scheme"
+)
+
+func config(kind string, n int, schemeName, hodge string) sim.Config {
+	c := sim.DefaultConfig()
+	c.Grid.Kind, c.Grid.N, c.Scheme.Name, c.Scheme.Hodge = kind, n, schemeName, hodge
+	return c
+}
+
+// On the existing grids (orthogonal duals) every condition holds:
+// exact sequences (integers), diagonal H exact for uniform flow on the
+// plane, antisymmetric W, D̄2 W = −R D2 (Thuburn et al. 2009; the other
+// sign misses by 2) and steady geostrophic modes; each TRiSK variant
+// conserves what it should (Ringler et al. 2010, §4–5) and misses the
+// other invariant by orders of magnitude.
+func TestReportOnRegularGrids(t *testing.T) {
+	for _, c := range []struct {
+		kind        string
+		n           int
+		scheme      string
+		energy, ens bool
+	}{
+		{"quad", 8, scheme.TRiSKEnergy, true, false},
+		{"quad", 8, scheme.TRiSKEnstrophy, false, true},
+		{"quad", 8, scheme.AL81, true, true},
+		{"hex", 8, scheme.TRiSKEnergy, true, false},
+		{"tri", 8, scheme.TRiSKEnstrophy, false, true},
+		{"icosahedral", 2, scheme.TRiSKEnergy, true, false},
+	} {
+		r, err := FromConfig(config(c.kind, c.n, c.scheme, ""))
+		if err != nil {
+			t.Fatal(err)
+		}
+		name := c.kind + " " + c.scheme
+		if r.IncidenceDefect != 0 || r.HodgeMatrix != "diagonal" || r.HodgeSymmetryDefect != 0 {
+			t.Errorf("%s: incidence %d, Hodge %s, symmetry %g; want 0, diagonal, 0", name, r.IncidenceDefect, r.HodgeMatrix, r.HodgeSymmetryDefect)
+		}
+		if r.CoriolisAntisymmetryDefect > 1e-14 || r.GeostrophicCompatibilityDefect > 1e-14 {
+			t.Errorf("%s: W antisymmetry %g, D̄2W + RD2 %g; want round-off", name, r.CoriolisAntisymmetryDefect, r.GeostrophicCompatibilityDefect)
+		}
+		if r.EnergyConserving != c.energy || r.EnstrophyConserving != c.ens {
+			t.Errorf("%s: energy %t (%.3g), enstrophy %t (%.3g); want %t, %t", name, r.EnergyConserving, r.EnergyRateRelative, r.EnstrophyConserving, r.EnstrophyRateRelative, c.energy, c.ens)
+		}
+		for _, miss := range []struct {
+			conserved bool
+			rate      float64
+		}{{c.energy, r.EnergyRateRelative}, {c.ens, r.EnstrophyRateRelative}} {
+			if !miss.conserved && miss.rate < 1e-8 {
+				t.Errorf("%s: a non-conserved rate is %.3g, want a clear miss (≥ 1e-8)", name, miss.rate)
+			}
+		}
+		if r.MassRateRelative > 1e-14 {
+			t.Errorf("%s: mass rate %.3g, want round-off", name, r.MassRateRelative)
+		}
+		if c.scheme != scheme.AL81 && !r.SteadyGeostrophicModes {
+			t.Errorf("%s: steady geostrophic modes false (residual %.3g)", name, r.GeostrophicResidual)
+		}
+		if !r.Consistent || r.HodgeMinEigenvalue <= 0 {
+			t.Errorf("%s: consistent %t (error %.3g), min eigenvalue %g", name, r.Consistent, r.HodgeConsistencyError, r.HodgeMinEigenvalue)
+		}
+	}
+}
+
+// perturbCentres moves the cell centres of a planar mesh at random by up
+// to ±15 % of the spacing, so that its coordinates describe a dual that is
+// not orthogonal: the consistent Hodge star is built from them, while the
+// diagonal one (from the unmoved lengths) no longer matches them.
+func perturbCentres(m *mesh.Mesh, seed uint64) {
+	rng := rand.New(rand.NewPCG(seed, 1))
+	dx := m.Spacing()
+	for i := range m.CellX {
+		m.CellX[i] += 0.3 * dx * (rng.Float64() - 0.5)
+		m.CellY[i] += 0.3 * dx * (rng.Float64() - 0.5)
+	}
+}
+
+// With a non-orthogonal dual both Hodge choices conserve energy (H is
+// symmetric positive definite either way: Thuburn & Cotter 2012), and only
+// the consistent one is exact for uniform flow.
+func TestReportDiagonalVersusConsistent(t *testing.T) {
+	for _, kind := range []mesh.Kind{mesh.Quad, mesh.Hex, mesh.Tri} {
+		for _, hodge := range scheme.HodgeNames {
+			m, err := mesh.New(mesh.Spec{Kind: kind, N: 8, Length: 1e6})
+			if err != nil {
+				t.Fatal(err)
+			}
+			perturbCentres(m, 4)
+			r, err := Measure(m, config(string(kind), 8, scheme.TRiSKEnergy, hodge))
+			if err != nil {
+				t.Fatal(err)
+			}
+			name := string(kind) + " " + hodge
+			wantMatrix := map[string]string{scheme.HodgeConsistent: "general", scheme.HodgeDiagonal: "diagonal"}[hodge]
+			if r.HodgeMatrix != wantMatrix || r.DualNonOrthogonality < 0.01 {
+				t.Fatalf("%s: Hodge matrix %s, dual |cos| %g", name, r.HodgeMatrix, r.DualNonOrthogonality)
+			}
+			if !r.EnergyConserving || r.HodgeSymmetryDefect != 0 || !(r.HodgeMinEigenvalue > 0) {
+				t.Errorf("%s: energy conserving %t (%.3g), symmetry %g, min eigenvalue %g", name, r.EnergyConserving, r.EnergyRateRelative, r.HodgeSymmetryDefect, r.HodgeMinEigenvalue)
+			}
+			if want := hodge == scheme.HodgeConsistent; r.Consistent != want {
+				t.Errorf("%s: consistent %t (error %.3g), want %t", name, r.Consistent, r.HodgeConsistencyError, want)
+			}
+			if hodge == scheme.HodgeDiagonal && r.HodgeConsistencyError < 1e-3 {
+				t.Errorf("%s: consistency error %.3g, want a clear miss", name, r.HodgeConsistencyError)
+			}
+			if !r.SteadyGeostrophicModes {
+				t.Errorf("%s: steady geostrophic modes false (residual %.3g)", name, r.GeostrophicResidual)
+			}
+			t.Logf("%s: |cos| %.3f, H in [%.4g, %.4g] (%s), consistency %.3g, dE/dt %.3g, geostrophic %.3g",
+				name, r.DualNonOrthogonality, r.HodgeMinEigenvalue, r.HodgeMaxEigenvalue, r.HodgeEigenMethod, r.HodgeConsistencyError, r.EnergyRateRelative, r.GeostrophicResidual)
+		}
+	}
+}
+
+// The Lanczos extremes agree with the dense spectrum.
+func TestLanczosMatchesDense(t *testing.T) {
+	m, err := mesh.New(mesh.Spec{Kind: mesh.Hex, N: 16, Length: 1e6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	perturbCentres(m, 2)
+	g, err := sim.HodgeGrid(m, scheme.HodgeConsistent)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var dense Report
+	if err := dense.eigenvalues(g); err != nil || dense.HodgeEigenMethod != "dense" {
+		t.Fatalf("dense: %v, %s", err, dense.HodgeEigenMethod)
+	}
+	lo, hi, steps, change := lanczosExtremes(g, 300)
+	if math.Abs(lo-dense.HodgeMinEigenvalue) > 1e-8*hi || math.Abs(hi-dense.HodgeMaxEigenvalue) > 1e-8*hi {
+		t.Errorf("Lanczos [%.12g, %.12g] after %d steps (change %.3g); dense [%.12g, %.12g]", lo, hi, steps, change, dense.HodgeMinEigenvalue, dense.HodgeMaxEigenvalue)
+	}
+}
