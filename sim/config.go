@@ -27,8 +27,8 @@ type Config struct {
 
 // GridConfig chooses the mesh.
 type GridConfig struct {
-	Kind   string  // quad, hex, tri, icosahedral
-	N      int     // cells per side (plane) or refinement level (sphere)
+	Kind   string  // quad, hex, tri, icosahedral, cubed
+	N      int     // cells per side (plane), refinement level (icosahedral) or cells per cube edge (cubed)
 	Length float64 // plane: domain width in x, m
 	// Height is the plane's domain height, m; 0 means the family's natural
 	// height (the width for quad, √3/2 of it for hex and tri).
@@ -36,6 +36,13 @@ type GridConfig struct {
 	// Optimize is "none" or "lloyd" (centroidal relaxation), icosahedral
 	// only; "" means none.
 	Optimize string
+	// Distort is the amplitude of the smooth vertex displacement of the
+	// planar grids (0 ≤ distort < 0.3, see mesh.Spec.Distort); Jitter the
+	// radius of a random one as a fraction of the edge length, drawn with
+	// Seed (≥ 0, default 1). Distort and Jitter are 0 on the sphere.
+	Distort float64
+	Jitter  float64
+	Seed    int
 }
 
 // PhysicsConfig holds the physical constants.
@@ -83,7 +90,7 @@ type OutputConfig struct {
 func DefaultConfig() Config {
 	return Config{
 		Title:   "untitled",
-		Grid:    GridConfig{Kind: string(mesh.Hex), N: 64, Length: 1e6},
+		Grid:    GridConfig{Kind: string(mesh.Hex), N: 64, Length: 1e6, Seed: 1},
 		Physics: PhysicsConfig{G: 9.80616, F0: 1e-4, Depth: 1000, Radius: 6.37122e6, Omega: 7.292e-5},
 		Scheme:  SchemeConfig{Name: scheme.TRiSKEnergy, Hodge: scheme.HodgeConsistent},
 		Time:    TimeConfig{Integrator: step.RK3, Dt: 60, Duration: 86400},
@@ -101,7 +108,8 @@ func (c Config) Clone() Config {
 
 // MeshSpec returns the mesh the config asks for.
 func (c *Config) MeshSpec() mesh.Spec {
-	return mesh.Spec{Kind: mesh.Kind(c.Grid.Kind), N: c.Grid.N, Length: c.Grid.Length, Height: c.Grid.Height, Radius: c.Physics.Radius, Optimize: c.Grid.Optimize}
+	return mesh.Spec{Kind: mesh.Kind(c.Grid.Kind), N: c.Grid.N, Length: c.Grid.Length, Height: c.Grid.Height, Radius: c.Physics.Radius, Optimize: c.Grid.Optimize,
+		Distort: c.Grid.Distort, Jitter: c.Grid.Jitter, Seed: uint64(max(c.Grid.Seed, 0))}
 }
 
 func positive(name string, v float64) error {
@@ -121,6 +129,9 @@ func finite(name string, v float64) error {
 // Validate checks every field without building anything large. Its errors
 // name the field, the value and what is allowed.
 func (c *Config) Validate() error {
+	if c.Grid.Seed < 0 {
+		return fmt.Errorf("grid.seed = %d: must be a non-negative integer", c.Grid.Seed)
+	}
 	if _, err := c.MeshSpec().Cells(); err != nil {
 		return err
 	}
@@ -159,10 +170,10 @@ func (c *Config) Validate() error {
 	if err != nil {
 		return err
 	}
-	if cs.Sphere != (c.Grid.Kind == string(mesh.Icosahedral)) {
+	if cs.Sphere != mesh.Kind(c.Grid.Kind).OnSphere() {
 		surf := "plane (quad, hex, tri)"
 		if cs.Sphere {
-			surf = "sphere (icosahedral)"
+			surf = "sphere (icosahedral, cubed)"
 		}
 		return fmt.Errorf("initial.case = %q runs on the %s; grid.kind = %q does not", c.Initial.Case, surf, c.Grid.Kind)
 	}

@@ -345,7 +345,11 @@ func (m *Model) SetState(x []float64, time float64, steps int64) error {
 // run's start. The receiver is left unchanged and usable; the caller closes
 // whichever model it drops.
 func (m *Model) Regrid(kind string, n int) (*Model, error) {
-	return m.RegridOptimize(kind, n, m.cfg.Grid.Optimize)
+	opt := m.cfg.Grid.Optimize
+	if mesh.Kind(kind) != mesh.Icosahedral && opt == mesh.OptimizeLloyd {
+		opt = "" // the relaxation is the icosahedral grid's; it does not carry to another family
+	}
+	return m.RegridOptimize(kind, n, opt)
 }
 
 // RegridOptimize is Regrid that also sets grid.optimize ("none" or
@@ -355,7 +359,7 @@ func (m *Model) RegridOptimize(kind string, n int, optimize string) (*Model, err
 	cfg.Grid.Kind, cfg.Grid.N, cfg.Grid.Optimize = kind, n, optimize
 	if !m.mesh.Surface.Sphere {
 		cfg.Grid.Height = m.mesh.Surface.Ly
-		if mesh.Kind(kind) != mesh.Icosahedral && m.mesh.Surface.Ly == mesh.NaturalHeight(mesh.Kind(kind), n, cfg.Grid.Length) {
+		if !mesh.Kind(kind).OnSphere() && m.mesh.Surface.Ly == mesh.NaturalHeight(mesh.Kind(kind), n, cfg.Grid.Length) {
 			cfg.Grid.Height = 0
 		}
 	}

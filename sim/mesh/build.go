@@ -31,63 +31,10 @@ func wrap(d, l float64) float64 {
 // while cells are small against the domain (n ≥ 4).
 func (p *planeCells) build(kind Kind, n int) *Mesh {
 	nc, nv := len(p.cx), len(p.vx)
-	m := &Mesh{Kind: kind, N: n, Surface: Surface{Lx: p.lx, Ly: p.ly}}
+	m := &Mesh{Kind: kind, N: n, Surface: Surface{Lx: p.lx, Ly: p.ly}, Orthogonal: true}
 	t := &m.Topology
-	t.NumCells, t.NumVertices = nc, nv
-
-	// Edges, in order of discovery; the first cell to meet an edge is c0.
-	// Each side is looked up among the edges already found at its lower
-	// vertex: a chain through the edge numbers, a few links long. The
-	// chains borrow the storage that finishVertices fills with the vertex
-	// edges later (one value per side): on a torus NumVertices = NumEdges −
-	// NumCells, so both fit, and the build leaves little garbage behind.
-	sides := len(p.cellVerts)
-	vertexEdges := make([]int32, max(sides, nv+sides/2))
-	head := vertexEdges[:nv] // last edge found whose lower vertex is v, or −1
-	for v := range head {
-		head[v] = -1
-	}
-	next := vertexEdges[nv:nv:len(vertexEdges)] // the edge found before e at the same lower vertex
-	t.CellEdgeStart = make([]int32, nc+1)
-	t.EdgeCells = make([]int32, 0, sides)
-	t.EdgeVertices = make([]int32, 0, sides)
-	t.CellEdges = make([]int32, 0, sides)
-	t.CellEdgeSign = make([]int8, 0, sides)
-	for i := 0; i < nc; i++ {
-		vs := p.cellVerts[i*p.deg : (i+1)*p.deg]
-		for k := range vs {
-			va, vb := vs[k], vs[(k+1)%len(vs)]
-			lo, hi := min(va, vb), max(va, vb)
-			e := head[lo]
-			for e >= 0 && max(t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]) != hi {
-				e = next[e]
-			}
-			sign := int8(-1)
-			if e < 0 {
-				e = int32(len(t.EdgeCells) / 2)
-				next = append(next, head[lo])
-				head[lo] = e
-				t.EdgeCells = append(t.EdgeCells, int32(i), -1)
-				t.EdgeVertices = append(t.EdgeVertices, va, vb)
-				sign = 1
-			} else {
-				t.EdgeCells[2*e+1] = int32(i)
-			}
-			t.CellEdges = append(t.CellEdges, e)
-			t.CellEdgeSign = append(t.CellEdgeSign, sign)
-		}
-		t.CellEdgeStart[i+1] = int32(len(t.CellEdges))
-	}
-	// The vertex after side k is the polygon's vertex k+1: rotating each
-	// polygon by one turns the description into CellVertices in place.
-	for i := 0; i < nc; i++ {
-		vs := p.cellVerts[i*p.deg : (i+1)*p.deg]
-		v0 := vs[0]
-		copy(vs, vs[1:])
-		vs[len(vs)-1] = v0
-	}
-	t.CellVertices, p.cellVerts = p.cellVerts, nil
-	t.NumEdges = len(t.EdgeCells) / 2
+	vertexEdges := polygonTopology(t, nv, p.deg, p.cellVerts)
+	p.cellVerts = nil
 	ne := t.NumEdges
 
 	g := &m.Metric
@@ -128,11 +75,75 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 			g.CellArea[i] += a
 		}
 	}
-	m.finishVertices(vertexEdges[:sides], func(v int, e int32) float64 {
+	m.finishVertices(vertexEdges, func(v int, e int32) float64 {
 		x, y := wrap(c.EdgeX[e]-p.vx[v], p.lx), wrap(c.EdgeY[e]-p.vy[v], p.ly)
 		return math.Atan2(y, x)
 	})
 	return m
+}
+
+// polygonTopology fills the edge and cell arrays of t from polygons of deg
+// vertices each (cellVerts[deg·i : deg·(i+1)] anticlockwise for cell i, nv
+// vertices in all). cellVerts becomes CellVertices in place. It returns
+// storage for finishVertices' VertexEdges.
+//
+// Edges are numbered in order of discovery; the first cell to meet an edge
+// is c0. Each side is looked up among the edges already found at its lower
+// vertex: a chain through the edge numbers, a few links long. The chains
+// (NumVertices heads and NumEdges links) borrow the storage that
+// finishVertices fills with the vertex edges later (one value per side,
+// 2·NumEdges), so the build leaves little garbage behind.
+func polygonTopology(t *Topology, nv, deg int, cellVerts []int32) []int32 {
+	nc := len(cellVerts) / deg
+	t.NumCells, t.NumVertices = nc, nv
+	sides := len(cellVerts)
+	vertexEdges := make([]int32, max(sides, nv+sides/2))
+	head := vertexEdges[:nv] // last edge found whose lower vertex is v, or −1
+	for v := range head {
+		head[v] = -1
+	}
+	next := vertexEdges[nv:nv:len(vertexEdges)] // the edge found before e at the same lower vertex
+	t.CellEdgeStart = make([]int32, nc+1)
+	t.EdgeCells = make([]int32, 0, sides)
+	t.EdgeVertices = make([]int32, 0, sides)
+	t.CellEdges = make([]int32, 0, sides)
+	t.CellEdgeSign = make([]int8, 0, sides)
+	for i := 0; i < nc; i++ {
+		vs := cellVerts[i*deg : (i+1)*deg]
+		for k := range vs {
+			va, vb := vs[k], vs[(k+1)%len(vs)]
+			lo, hi := min(va, vb), max(va, vb)
+			e := head[lo]
+			for e >= 0 && max(t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]) != hi {
+				e = next[e]
+			}
+			sign := int8(-1)
+			if e < 0 {
+				e = int32(len(t.EdgeCells) / 2)
+				next = append(next, head[lo])
+				head[lo] = e
+				t.EdgeCells = append(t.EdgeCells, int32(i), -1)
+				t.EdgeVertices = append(t.EdgeVertices, va, vb)
+				sign = 1
+			} else {
+				t.EdgeCells[2*e+1] = int32(i)
+			}
+			t.CellEdges = append(t.CellEdges, e)
+			t.CellEdgeSign = append(t.CellEdgeSign, sign)
+		}
+		t.CellEdgeStart[i+1] = int32(len(t.CellEdges))
+	}
+	// The vertex after side k is the polygon's vertex k+1: rotating each
+	// polygon by one turns the description into CellVertices in place.
+	for i := 0; i < nc; i++ {
+		vs := cellVerts[i*deg : (i+1)*deg]
+		v0 := vs[0]
+		copy(vs, vs[1:])
+		vs[len(vs)-1] = v0
+	}
+	t.CellVertices = cellVerts
+	t.NumEdges = len(t.EdgeCells) / 2
+	return vertexEdges[:sides]
 }
 
 func (p *planeCells) rel(i int, x, y float64) (float64, float64) {
@@ -144,8 +155,14 @@ func (p *planeCells) rel(i int, x, y float64) (float64, float64) {
 // vertexEdges, when not nil, is the storage for VertexEdges (2·NumEdges
 // values, whatever they hold).
 func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) float64) {
+	m.sortVertexEdges(vertexEdges, angle)
+	m.vertexKites()
+}
+
+// sortVertexEdges fills the vertex CSR arrays (VertexEdgeStart,
+// VertexEdges, VertexEdgeSign, VertexCells) from the edge arrays.
+func (m *Mesh) sortVertexEdges(vertexEdges []int32, angle func(v int, e int32) float64) {
 	t := &m.Topology
-	g := &m.Metric
 	nv := t.NumVertices
 	start := make([]int32, nv+1)
 	for e := 0; e < t.NumEdges; e++ {
@@ -171,20 +188,8 @@ func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) fl
 	copy(start[1:], start[:nv])
 	start[0] = 0
 	t.VertexEdgeStart = start
-	// Kite area of (cell, vertex), looked up from the cell side.
-	kite := func(i, v int32) float64 {
-		lo, hi := t.EdgesOfCell(int(i))
-		for k := lo; k < hi; k++ {
-			if t.CellVertices[k] == v {
-				return g.CellKiteArea[k]
-			}
-		}
-		panic("mesh: vertex not on cell")
-	}
 	t.VertexEdgeSign = make([]int8, len(t.VertexEdges))
 	t.VertexCells = make([]int32, len(t.VertexEdges))
-	g.VertexKiteArea = make([]float64, len(t.VertexEdges))
-	g.VertexArea = make([]float64, nv)
 	var ang []float64
 	for v := 0; v < nv; v++ {
 		lo, hi := t.EdgesOfVertex(v)
@@ -212,6 +217,29 @@ func (m *Mesh) finishVertices(vertexEdges []int32, angle func(v int, e int32) fl
 				t.VertexEdgeSign[k] = -1
 				t.VertexCells[k] = t.EdgeCells[2*e]
 			}
+		}
+	}
+}
+
+// vertexKites fills VertexKiteArea and VertexArea from the cell kites.
+func (m *Mesh) vertexKites() {
+	t := &m.Topology
+	g := &m.Metric
+	// Kite area of (cell, vertex), looked up from the cell side.
+	kite := func(i, v int32) float64 {
+		lo, hi := t.EdgesOfCell(int(i))
+		for k := lo; k < hi; k++ {
+			if t.CellVertices[k] == v {
+				return g.CellKiteArea[k]
+			}
+		}
+		panic("mesh: vertex not on cell")
+	}
+	g.VertexKiteArea = make([]float64, len(t.VertexEdges))
+	g.VertexArea = make([]float64, t.NumVertices)
+	for v := 0; v < t.NumVertices; v++ {
+		lo, hi := t.EdgesOfVertex(v)
+		for k := lo; k < hi; k++ {
 			g.VertexKiteArea[k] = kite(t.VertexCells[k], int32(v))
 			g.VertexArea[v] += g.VertexKiteArea[k]
 		}
@@ -293,7 +321,7 @@ func (m *Mesh) TRiSKPairs() Pairs {
 // is the triangular mesh.
 func (m *Mesh) Dual(kind Kind) *Mesh {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
-	d := &Mesh{Kind: kind, N: m.N, Surface: m.Surface}
+	d := &Mesh{Kind: kind, N: m.N, Surface: m.Surface, Orthogonal: m.Orthogonal}
 	dt, dg, dc := &d.Topology, &d.Metric, &d.Coords
 	dt.NumCells, dt.NumEdges, dt.NumVertices = t.NumVertices, t.NumEdges, t.NumCells
 	dt.EdgeCells = make([]int32, 2*t.NumEdges)

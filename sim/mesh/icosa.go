@@ -201,7 +201,7 @@ func newIcosahedral(n int, radius float64, optimize string) *Mesh {
 		}
 		tr = tr.bisect()
 	}
-	m := &Mesh{Kind: Icosahedral, N: n, Surface: Surface{Sphere: true, Radius: radius}}
+	m := &Mesh{Kind: Icosahedral, N: n, Surface: Surface{Sphere: true, Radius: radius}, Orthogonal: true}
 	m.Topology = voronoiTopology(tr)
 	if optimize == OptimizeLloyd {
 		lloyd(&m.Topology, tr, tr.pt)

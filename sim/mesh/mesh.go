@@ -12,7 +12,8 @@
 //     2009, J. Comput. Phys. 228, 8321–8335). Schemes see the topology and the
 //     metric, never coordinates.
 //   - Coords: positions and edge normal vectors, used by initial conditions,
-//     output and drawing only.
+//     output, drawing and the construction of metric operators (Hodge stars)
+//     only.
 //
 // # Conventions
 //
@@ -21,6 +22,40 @@
 // v0 = EdgeVertices[2e] and v1 = EdgeVertices[2e+1]; its tangent
 // t_e = k × n_e points from v0 to v1. The normal velocity u_e is the
 // component along n_e.
+//
+// # Dual edges that are not orthogonal
+//
+// The dual edge of e is the segment (on the sphere the great-circle arc)
+// from the centre of c0 to the centre of c1; it crosses the primal edge
+// v0–v1 at the edge point X_e (EdgeX/Y/Z). On the regular planes and the
+// Voronoi spheres it does so at a right angle (Mesh.Orthogonal). On the
+// distorted planes and the cubed sphere it does not, and then:
+//
+//   - n_e (NormalX/Y/Z) is the unit direction of the dual edge at X_e,
+//     from c0 to c1, not the normal of the primal edge; the two differ by
+//     the angle NonOrthogonality measures. t_e = k × n_e still has a
+//     positive component along v1 − v0 but is not parallel to the primal
+//     edge.
+//   - The prognostic u_e is the velocity component along the dual edge:
+//     the circulation along the dual edge per unit dual length, so that
+//     u_e d_e is the circulation (Thuburn & Cotter 2012, SIAM J. Sci.
+//     Comput. 34(3), B203–B225). The flux across the primal edge follows
+//     from it through a Hodge star, which is diagonal (l_e/d_e) only on
+//     orthogonal grids.
+//   - d_e (DualLength) is |c1 − c0| and l_e (EdgeLength) is |v1 − v0|
+//     (great-circle arcs on the sphere), and X_e lies strictly inside both.
+//   - The kite of (cell i, vertex v) is the quadrilateral (x_i, X_e, v,
+//     X_e′), with e, e′ the two edges of i at v; its area is exact (a
+//     planar polygon, or two spherical triangles). Kites tile the cells and
+//     the dual cells alike: Σ kites of a cell = CellArea, Σ kites of a
+//     vertex = VertexArea.
+//
+// Everything a Hodge-star construction needs around a vertex v is in
+// Coords: the vertex (VertexX/Y/Z), the centres of the cells around it
+// (CellX/Y/Z of VertexCells) and the crossing points of its edges
+// (EdgeX/Y/Z of VertexEdges), all in the same frame (periodic metres on the
+// plane, to be unwrapped about the vertex; Cartesian metres on the sphere,
+// to be projected on the tangent plane at the vertex).
 //
 // Cell i lists its edges anticlockwise in
 // CellEdges[CellEdgeStart[i]:CellEdgeStart[i+1]]; CellEdgeSign is +1 where
@@ -58,10 +93,14 @@ const (
 	Hex         Kind = "hex"
 	Tri         Kind = "tri"
 	Icosahedral Kind = "icosahedral"
+	Cubed       Kind = "cubed"
 )
 
 // Kinds lists the grid families, in the order a user meets them.
-var Kinds = []Kind{Quad, Hex, Tri, Icosahedral}
+var Kinds = []Kind{Quad, Hex, Tri, Icosahedral, Cubed}
+
+// OnSphere reports whether the family covers the sphere.
+func (k Kind) OnSphere() bool { return k == Icosahedral || k == Cubed }
 
 // Surface describes the manifold a mesh covers.
 type Surface struct {
@@ -122,16 +161,21 @@ type Metric struct {
 type Coords struct {
 	CellX, CellY, CellZ       []float64
 	VertexX, VertexY, VertexZ []float64
-	EdgeX, EdgeY, EdgeZ       []float64 // where the dual edge crosses the primal edge
-	NormalX, NormalY, NormalZ []float64 // unit n_e
+	EdgeX, EdgeY, EdgeZ       []float64 // X_e, where the dual edge crosses the primal edge
+	NormalX, NormalY, NormalZ []float64 // unit n_e, along the dual edge at X_e
 }
 
 // Mesh is one C-grid: topology, metric and coordinates, and the
 // parameters it was built from.
 type Mesh struct {
 	Kind    Kind
-	N       int // cells per side on the plane; refinement level on the sphere
+	N       int // cells per side on the plane; refinement level (icosahedral) or cells per cube edge (cubed) on the sphere
 	Surface Surface
+	// Orthogonal is true when every dual edge crosses its primal edge at a
+	// right angle, so that the diagonal Hodge star l_e/d_e is consistent.
+	// The generator sets it: true for the regular planes and the Voronoi
+	// spheres, false for the distorted planes and the cubed sphere.
+	Orthogonal bool
 	Topology
 	Metric
 	Coords
@@ -155,6 +199,14 @@ type Spec struct {
 	Radius float64 // sphere radius (m)
 	// Optimize: icosahedral only; "" or OptimizeNone, or OptimizeLloyd.
 	Optimize string
+	// Distort, planes only: the amplitude of a smooth doubly periodic
+	// vertex displacement, 0 ≤ Distort < MaxDistort (see distort.go).
+	Distort float64
+	// Jitter, planes only: the radius of a random vertex displacement as a
+	// fraction of the edge length, 0 ≤ Jitter < MaxJitter, drawn from a PCG
+	// generator seeded by Seed.
+	Jitter float64
+	Seed   uint64
 }
 
 // Cells returns the number of cells the spec would build, or an error
@@ -162,6 +214,9 @@ type Spec struct {
 func (s Spec) Cells() (int, error) {
 	switch s.Kind {
 	case Quad, Hex, Tri:
+		if err := s.checkDistortion(); err != nil {
+			return 0, err
+		}
 		if s.Optimize != "" && s.Optimize != OptimizeNone {
 			return 0, fmt.Errorf("grid.optimize = %q: only the icosahedral grid can be optimised; allowed here: none", s.Optimize)
 		}
@@ -192,6 +247,9 @@ func (s Spec) Cells() (int, error) {
 		}
 		return c, nil
 	case Icosahedral:
+		if err := s.planeOnly(); err != nil {
+			return 0, err
+		}
 		if s.N < 0 || s.N > 9 {
 			return 0, fmt.Errorf("grid.n = %d: the icosahedral level must be 0 to 9", s.N)
 		}
@@ -206,8 +264,44 @@ func (s Spec) Cells() (int, error) {
 			return 0, fmt.Errorf("grid.optimize = %q: unknown; allowed: none, lloyd", s.Optimize)
 		}
 		return c, nil
+	case Cubed:
+		if err := s.planeOnly(); err != nil {
+			return 0, err
+		}
+		if s.Optimize != "" && s.Optimize != OptimizeNone {
+			return 0, fmt.Errorf("grid.optimize = %q: only the icosahedral grid can be optimised; allowed here: none", s.Optimize)
+		}
+		if s.N < 2 || s.N > MaxCubedN {
+			return 0, fmt.Errorf("grid.n = %d: the cubed sphere needs 2 ≤ n ≤ %d cells along a cube edge (6n² ≤ %d cells)", s.N, MaxCubedN, MaxCells)
+		}
+		if !(s.Radius > 0) || math.IsInf(s.Radius, 0) {
+			return 0, fmt.Errorf("physics.radius = %g: must be a positive number of metres", s.Radius)
+		}
+		return 6 * s.N * s.N, nil
 	}
-	return 0, fmt.Errorf("grid.kind = %q: unknown; allowed: quad, hex, tri, icosahedral", s.Kind)
+	return 0, fmt.Errorf("grid.kind = %q: unknown; allowed: %s", s.Kind, kindList())
+}
+
+func kindList() string {
+	var b []byte
+	for i, k := range Kinds {
+		if i > 0 {
+			b = append(b, ", "...)
+		}
+		b = append(b, k...)
+	}
+	return string(b)
+}
+
+// planeOnly refuses the plane's distortion keys on a sphere grid.
+func (s Spec) planeOnly() error {
+	switch {
+	case s.Distort != 0:
+		return fmt.Errorf("grid.distort = %g: distortion applies to the planar grids (quad, hex, tri) only; on grid.kind = %q it must be 0", s.Distort, s.Kind)
+	case s.Jitter != 0:
+		return fmt.Errorf("grid.jitter = %g: jitter applies to the planar grids (quad, hex, tri) only; on grid.kind = %q it must be 0", s.Jitter, s.Kind)
+	}
+	return nil
 }
 
 func (s Spec) height() float64 {
@@ -223,16 +317,29 @@ func New(spec Spec) (*Mesh, error) {
 		return nil, err
 	}
 	switch spec.Kind {
-	case Quad:
-		return newQuad(spec.N, spec.Length, spec.height()), nil
-	case Hex:
-		return newHex(spec.N, spec.Length, spec.height()), nil
-	case Tri:
-		return newHex(spec.N, spec.Length, spec.height()).Dual(Tri), nil
+	case Quad, Hex, Tri:
+		var m *Mesh
+		switch spec.Kind {
+		case Quad:
+			m = newQuad(spec.N, spec.Length, spec.height())
+		case Hex:
+			m = newHex(spec.N, spec.Length, spec.height())
+		default:
+			m = newHex(spec.N, spec.Length, spec.height()).Dual(Tri)
+		}
+		if spec.Distort == 0 && spec.Jitter == 0 {
+			return m, nil
+		}
+		if err := m.distort(spec); err != nil {
+			return nil, err
+		}
+		return m, nil
 	case Icosahedral:
 		return newIcosahedral(spec.N, spec.Radius, spec.Optimize), nil
+	case Cubed:
+		return newCubed(spec.N, spec.Radius)
 	}
-	return nil, fmt.Errorf("grid.kind = %q: unknown; allowed: quad, hex, tri, icosahedral", spec.Kind)
+	return nil, fmt.Errorf("grid.kind = %q: unknown; allowed: %s", spec.Kind, kindList())
 }
 
 // EdgesOfCell returns the index range of cell i in the cell CSR arrays.

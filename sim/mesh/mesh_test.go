@@ -27,6 +27,31 @@ func planarMeshes(t *testing.T) []*Mesh {
 			ms = append(ms, m)
 		}
 	}
+	return append(ms, distortedMeshes(t)...)
+}
+
+// distortedMeshes are the planar families with their vertices moved
+// smoothly, randomly and both, up to just below the limits: grids whose
+// dual is not orthogonal.
+func distortedMeshes(t *testing.T) []*Mesh {
+	t.Helper()
+	var ms []*Mesh
+	for _, k := range []Kind{Quad, Hex, Tri} {
+		for _, s := range []Spec{
+			{N: 4, Distort: 0.2999},
+			{N: 12, Distort: 0.15},
+			{N: 12, Jitter: 0.2499, Seed: 7},
+			{N: 12, Distort: 0.2, Jitter: JitterLimit(0.2) * 0.999, Seed: 3},
+			{N: 12, Height: 1e6, Distort: 0.1, Jitter: 0.1, Seed: 1},
+		} {
+			s.Kind, s.Length = k, 1e6
+			m, err := New(s)
+			if err != nil {
+				t.Fatal(err)
+			}
+			ms = append(ms, m)
+		}
+	}
 	return ms
 }
 
@@ -89,12 +114,22 @@ func TestAreasAndKites(t *testing.T) {
 		if m.Surface.Sphere {
 			continue // the diamonds are spherical quadrilaterals, not l d / 2
 		}
-		// Orthogonal C-grid: Σ_e l_e d_e / 2 = total area (diamond areas).
-		s := 0.0
+		// The diamonds (c0, v0, c1, v1) tile the plane; the area of each is
+		// half the cross product of its diagonals, l_e d_e / 2 on an
+		// orthogonal C-grid.
+		s, sx := 0.0, 0.0
 		for e := range m.EdgeLength {
 			s += m.EdgeLength[e] * m.DualLength[e] / 2
+			c0, c1 := m.EdgeCells[2*e], m.EdgeCells[2*e+1]
+			v0, v1 := m.EdgeVertices[2*e], m.EdgeVertices[2*e+1]
+			dx, dy := wrap(m.CellX[c1]-m.CellX[c0], m.Surface.Lx), wrap(m.CellY[c1]-m.CellY[c0], m.Surface.Ly)
+			lx, ly := wrap(m.VertexX[v1]-m.VertexX[v0], m.Surface.Lx), wrap(m.VertexY[v1]-m.VertexY[v0], m.Surface.Ly)
+			sx += (dx*ly - dy*lx) / 2
 		}
-		if math.Abs(s-total) > 1e-12*total {
+		if math.Abs(sx-total) > 1e-12*total {
+			t.Errorf("%s n=%d: Σ (d × l) / 2 = %g, want %g", m.Kind, m.N, sx, total)
+		}
+		if m.Orthogonal && math.Abs(s-total) > 1e-12*total {
 			t.Errorf("%s n=%d: Σ l d / 2 = %g, want %g", m.Kind, m.N, s, total)
 		}
 	}
@@ -196,8 +231,8 @@ func TestTRiSKWeights(t *testing.T) {
 		// A uniform flow is reconstructed exactly on the regular grids:
 		// F⊥_e = F · t_e with t_e = k × n_e. (On the stretched triangles it
 		// is only approximate.)
-		if m.Surface.Sphere {
-			continue // no uniform flow on the sphere
+		if m.Surface.Sphere || !m.Orthogonal {
+			continue // no uniform flow on the sphere; kite weights are inexact on distorted grids
 		}
 		if m.Kind == Tri && m.Surface.Ly != NaturalHeight(Tri, m.N, m.Surface.Lx) {
 			continue

@@ -38,6 +38,9 @@ type fileGrid struct {
 	Length   *float64 `toml:"length"`
 	Height   *float64 `toml:"height"`
 	Optimize *string  `toml:"optimize"`
+	Distort  *float64 `toml:"distort"`
+	Jitter   *float64 `toml:"jitter"`
+	Seed     *int     `toml:"seed"`
 }
 
 type filePhysics struct {
@@ -103,6 +106,11 @@ func Parse(data []byte, name string) (*Scenario, error) {
 	num(&c.Grid.Length, f.Grid.Length)
 	num(&c.Grid.Height, f.Grid.Height)
 	str(&c.Grid.Optimize, f.Grid.Optimize)
+	num(&c.Grid.Distort, f.Grid.Distort)
+	num(&c.Grid.Jitter, f.Grid.Jitter)
+	if f.Grid.Seed != nil {
+		c.Grid.Seed = *f.Grid.Seed
+	}
 	num(&c.Physics.G, f.Physics.G)
 	num(&c.Physics.F0, f.Physics.F0)
 	num(&c.Physics.Beta, f.Physics.Beta)
@@ -234,6 +242,9 @@ func keys() []key {
 		{"grid.length", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Length })},
 		{"grid.height", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Height })},
 		{"grid.optimize", "string", s(func(c *sim.Config) *string { return &c.Grid.Optimize })},
+		{"grid.distort", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Distort })},
+		{"grid.jitter", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Jitter })},
+		{"grid.seed", "integer", func(c *sim.Config, v any) { c.Grid.Seed = v.(int) }},
 		{"physics.g", "number", f(func(c *sim.Config) *float64 { return &c.Physics.G })},
 		{"physics.f0", "number", f(func(c *sim.Config) *float64 { return &c.Physics.F0 })},
 		{"physics.beta", "number", f(func(c *sim.Config) *float64 { return &c.Physics.Beta })},
@@ -350,6 +361,15 @@ func Format(c sim.Config, description string) []byte {
 	}
 	if c.Grid.Optimize != "" {
 		fmt.Fprintf(&b, "optimize = %s\n", q(c.Grid.Optimize))
+	}
+	if c.Grid.Distort != 0 {
+		fmt.Fprintf(&b, "distort = %s\n", g(c.Grid.Distort))
+	}
+	if c.Grid.Jitter != 0 {
+		fmt.Fprintf(&b, "jitter = %s\n", g(c.Grid.Jitter))
+	}
+	if c.Grid.Jitter != 0 || c.Grid.Seed != sim.DefaultConfig().Grid.Seed {
+		fmt.Fprintf(&b, "seed = %d\n", c.Grid.Seed)
 	}
 	p := c.Physics
 	fmt.Fprintf(&b, "\n[physics]\ng = %s\nf0 = %s\nbeta = %s\ndepth = %s\nradius = %s\nomega = %s\n",

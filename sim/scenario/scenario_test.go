@@ -113,3 +113,49 @@ func TestSet(t *testing.T) {
 		t.Errorf("a failed Set changed the config")
 	}
 }
+
+// The grid distortion keys are set, formatted and parsed back, and the
+// validation refuses them out of range and on the sphere with a message
+// naming the key and the value.
+func TestGridDistortionKeys(t *testing.T) {
+	c := sim.DefaultConfig()
+	for _, a := range []string{"grid.kind=quad", "grid.n=16", "grid.distort=0.125", "grid.jitter=0.1", "grid.seed=12345"} {
+		if err := Set(&c, a); err != nil {
+			t.Fatalf("Set(%q): %v", a, err)
+		}
+	}
+	if c.Grid.Distort != 0.125 || c.Grid.Jitter != 0.1 || c.Grid.Seed != 12345 {
+		t.Fatalf("overrides not applied: %+v", c.Grid)
+	}
+	if err := c.Validate(); err != nil {
+		t.Fatalf("valid distortion refused: %v", err)
+	}
+	again, err := Parse(Format(c, ""), "recipe")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if again.Config.Grid != c.Grid {
+		t.Errorf("round trip changed the grid: %+v → %+v", c.Grid, again.Config.Grid)
+	}
+	for _, tc := range []struct {
+		sets []string
+		want string
+	}{
+		{[]string{"grid.distort=0.3"}, "grid.distort = 0.3"},
+		{[]string{"grid.distort=-0.01"}, "grid.distort = -0.01"},
+		{[]string{"grid.jitter=0.3"}, "grid.jitter = 0.3"},
+		{[]string{"grid.jitter=0.1", "grid.seed=-2"}, "grid.seed = -2"},
+		{[]string{"grid.kind=cubed", "grid.n=8", "initial.case=williamson-2", "grid.distort=0.1"}, "grid.distort = 0.1"},
+		{[]string{"grid.kind=icosahedral", "grid.n=3", "initial.case=williamson-2", "grid.jitter=0.1"}, "grid.jitter = 0.1"},
+	} {
+		c := sim.DefaultConfig()
+		for _, a := range tc.sets {
+			if err := Set(&c, a); err != nil {
+				t.Fatalf("Set(%q): %v", a, err)
+			}
+		}
+		if err := c.Validate(); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%v: Validate() = %v, want an error containing %q", tc.sets, err, tc.want)
+		}
+	}
+}
