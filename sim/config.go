@@ -150,6 +150,10 @@ func (c *Config) Validate() error {
 	if !contains(scheme.Names, c.Scheme.Name) {
 		return fmt.Errorf("scheme.name = %q: unknown; allowed: %s", c.Scheme.Name, strings.Join(scheme.Names, ", "))
 	}
+	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind == string(mesh.Quad) && (c.Grid.Distort != 0 || c.Grid.Jitter != 0) {
+		return fmt.Errorf("scheme.name = %q is written for the regular quad grid; with grid.distort = %g, grid.jitter = %g use one of: %s",
+			c.Scheme.Name, c.Grid.Distort, c.Grid.Jitter, strings.Join(scheme.Anywhere(), ", "))
+	}
 	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind != string(mesh.Quad) {
 		return fmt.Errorf("scheme.name = %q is available on grid.kind = \"quad\" only; on %q use one of: %s",
 			c.Scheme.Name, c.Grid.Kind, strings.Join(scheme.Anywhere(), ", "))

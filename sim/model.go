@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strings"
 
 	"gyrebench/sim/cases"
 	"gyrebench/sim/diag"
@@ -207,6 +208,9 @@ func (m *Model) Initial() diag.Invariants { return m.initial }
 func (m *Model) ExactDepth() []float64 { return m.steadyH }
 
 func (m *Model) setScheme(name string) error {
+	if scheme.SquareOnly(name) && !m.mesh.Orthogonal {
+		return fmt.Errorf("scheme.name = %q is written for the regular quad grid; on this distorted grid use one of: %s", name, strings.Join(scheme.Anywhere(), ", "))
+	}
 	s, err := scheme.New(name, m.grid, m.phys, m.pool, scheme.Options{APVMFactor: m.cfg.Scheme.APVMFactor})
 	if err != nil {
 		return err

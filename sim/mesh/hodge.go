@@ -42,32 +42,12 @@ func (h *Hodge) At(e, f int) float64 {
 	return 0
 }
 
-// DualNonOrthogonality returns the largest |cos| of the angle between a
-// dual edge (centre c0 to centre c1) and its primal edge (v0 to v1): 0 on
-// a grid whose dual is orthogonal.
-func DualNonOrthogonality(m *Mesh) float64 {
-	worst := 0.0
-	for e := 0; e < m.NumEdges; e++ {
-		c0, c1 := int(m.EdgeCells[2*e]), int(m.EdgeCells[2*e+1])
-		v0, v1 := int(m.EdgeVertices[2*e]), int(m.EdgeVertices[2*e+1])
-		d := m.delta(c0, c1, true, true)
-		t := m.delta(v0, v1, false, false)
-		c := math.Abs(d.dot(t)) / (d.norm() * t.norm())
-		worst = max(worst, c)
-	}
-	return worst
-}
-
-// orthogonalTol is the |cos| below which a dual counts as orthogonal: the
-// existing generators give round-off (about 1e-16) there.
-const orthogonalTol = 1e-12
-
 // EnsureHodge computes and stores Metric.Hodge (ConsistentHodge) when the
-// dual of m is not orthogonal, and leaves it nil when it is, where H is
-// the diagonal l_e/d_e that the schemes apply without a matrix. It is
-// idempotent.
+// dual of m is not orthogonal (Mesh.Orthogonal false), and leaves it nil
+// when it is, where H is the diagonal l_e/d_e that the schemes apply
+// without a matrix. It is idempotent.
 func EnsureHodge(m *Mesh) error {
-	if m.Metric.Hodge != nil || DualNonOrthogonality(m) <= orthogonalTol {
+	if m.Metric.Hodge != nil || m.Orthogonal {
 		return nil
 	}
 	h, err := ConsistentHodge(m)

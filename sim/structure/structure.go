@@ -68,8 +68,8 @@ type Report struct {
 	// HodgeMatrix is "diagonal" when H = diag(l/d) is applied (orthogonal
 	// dual, or the diagonal choice), "general" for a sparse matrix.
 	HodgeMatrix string `json:"hodge_matrix"`
-	// DualNonOrthogonality is the largest |cos| of the angle between a
-	// dual edge and its primal edge (0 on an orthogonal dual).
+	// DualNonOrthogonality is the largest angle (radians) between a dual
+	// edge and the normal of its primal edge (0 on an orthogonal dual).
 	DualNonOrthogonality float64 `json:"dual_non_orthogonality"`
 
 	// IncidenceDefect is the largest |entry| of D2·D1 and of D̄2·D̄1, an
@@ -164,7 +164,7 @@ func Measure(msh *mesh.Mesh, cfg sim.Config) (Report, error) {
 	if g.Hodge != nil {
 		r.HodgeMatrix = "general"
 	}
-	r.DualNonOrthogonality = mesh.DualNonOrthogonality(msh)
+	r.DualNonOrthogonality = msh.NonOrthogonality()
 	r.IncidenceDefect = incidenceDefect(g)
 	r.HodgeSymmetryDefect = symmetryDefect(g)
 	if err := r.eigenvalues(g); err != nil {
