@@ -55,20 +55,20 @@ func between(m *mesh.Mesh, a, b vec) vec {
 // primal edges, l_e n_e = k × (x_{v0} − x_{v1}) (r̂ for k on the sphere).
 // On the plane w is uniform, (1, 0) and (0, 1), and both are exact; on the
 // sphere w = ẑ × x, solid rotation, taken at the midpoints of the chords.
-func consistencyError(m *mesh.Mesh, g ops.Grid) (float64, string) {
+func consistencyError(m *mesh.Mesh, g ops.Grid) (worst, l2 float64, name string) {
 	ne := m.NumEdges
 	v, hv, flux := make([]float64, ne), make([]float64, ne), make([]float64, ne)
 	flows := []func(x vec) vec{
 		func(vec) vec { return vec{1, 0, 0} },
 		func(vec) vec { return vec{0, 1, 0} },
 	}
-	name := "uniform flow (1, 0) and (0, 1)"
+	name = "uniform flow (1, 0) and (0, 1)"
 	if m.Surface.Sphere {
 		flows = flows[:1]
 		flows[0] = func(x vec) vec { return vec{0, 0, 1}.cross(x) }
 		name = "solid rotation about the z axis"
 	}
-	worst := 0.0
+	var n2, d2 float64
 	for _, w := range flows {
 		big := 0.0
 		for e := 0; e < ne; e++ {
@@ -91,9 +91,11 @@ func consistencyError(m *mesh.Mesh, g ops.Grid) (float64, string) {
 		applyHodge(g, hv, v)
 		for e := range hv {
 			worst = max(worst, math.Abs(hv[e]-flux[e])/big)
+			n2 += (hv[e] - flux[e]) * (hv[e] - flux[e])
+			d2 += flux[e] * flux[e]
 		}
 	}
-	return worst, name
+	return worst, math.Sqrt(n2 / d2), name
 }
 
 func antisymmetryDefect(m *mesh.Mesh) float64 {

@@ -47,14 +47,17 @@ type Thresholds struct {
 	// ConsistencyPlane bounds hodge_consistency_error on the plane, where
 	// a consistent H is exact for uniform flow.
 	ConsistencyPlane float64 `json:"consistency_plane"`
-	// ConsistencySphere bounds it on the sphere, where the flow is solid
-	// rotation and the reference fluxes are midpoint values, accurate to
-	// second order in the spacing.
+	// ConsistencySphere bounds hodge_consistency_error_l2 on the sphere,
+	// where the flow is solid rotation and the reference fluxes midpoint
+	// values: there a consistent H converges (on the cubed sphere the
+	// relative l2 error falls from 0.021 at n = 8 to 0.00097 at n = 64,
+	// the max error at first order, seams and corners) while the diagonal
+	// one stays near 0.15–0.18 (measured).
 	ConsistencySphere float64 `json:"consistency_sphere"`
 }
 
 // DefaultThresholds are the thresholds Measure uses.
-var DefaultThresholds = Thresholds{RoundOff: 1e-12, Geostrophic: 1e-10, ConsistencyPlane: 1e-10, ConsistencySphere: 0.02}
+var DefaultThresholds = Thresholds{RoundOff: 1e-12, Geostrophic: 1e-10, ConsistencyPlane: 1e-10, ConsistencySphere: 0.05}
 
 // Report is the structure report of one grid, Hodge choice and scheme.
 type Report struct {
@@ -92,8 +95,10 @@ type Report struct {
 	// HodgeConsistencyError is max_e |(H v)_e − flux_e| / max |flux| on
 	// HodgeConsistencyFlow: uniform flow on the plane (exact fluxes), solid
 	// rotation on the sphere (midpoint fluxes).
-	HodgeConsistencyError float64 `json:"hodge_consistency_error"`
-	HodgeConsistencyFlow  string  `json:"hodge_consistency_flow"`
+	// HodgeConsistencyErrorL2 is the relative l2 norm of the same error.
+	HodgeConsistencyError   float64 `json:"hodge_consistency_error"`
+	HodgeConsistencyErrorL2 float64 `json:"hodge_consistency_error_l2"`
+	HodgeConsistencyFlow    string  `json:"hodge_consistency_flow"`
 
 	// CoriolisAntisymmetryDefect is max |W + Wᵀ| / max |W| for the TRiSK
 	// weights.
@@ -170,7 +175,7 @@ func Measure(msh *mesh.Mesh, cfg sim.Config) (Report, error) {
 	if err := r.eigenvalues(g); err != nil {
 		return r, err
 	}
-	r.HodgeConsistencyError, r.HodgeConsistencyFlow = consistencyError(msh, g)
+	r.HodgeConsistencyError, r.HodgeConsistencyErrorL2, r.HodgeConsistencyFlow = consistencyError(msh, g)
 	r.CoriolisAntisymmetryDefect = antisymmetryDefect(msh)
 	r.GeostrophicCompatibilityDefect = compatibilityDefect(g)
 
@@ -202,11 +207,10 @@ func Measure(msh *mesh.Mesh, cfg sim.Config) (Report, error) {
 	r.EnstrophyConserving = r.IncidenceDefect == 0 && r.EnstrophyRateRelative <= t.RoundOff
 	r.SteadyGeostrophicModes = r.IncidenceDefect == 0 && r.GeostrophicCompatibilityDefect <= t.RoundOff &&
 		r.CoriolisAntisymmetryDefect <= t.RoundOff && r.GeostrophicResidual <= t.Geostrophic
-	bound := t.ConsistencyPlane
+	r.Consistent = r.HodgeConsistencyError <= t.ConsistencyPlane
 	if msh.Surface.Sphere {
-		bound = t.ConsistencySphere
+		r.Consistent = r.HodgeConsistencyErrorL2 <= t.ConsistencySphere
 	}
-	r.Consistent = r.HodgeConsistencyError <= bound
 	return r, nil
 }
 
