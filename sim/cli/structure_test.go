@@ -80,3 +80,42 @@ func TestStructureBadInput(t *testing.T) {
 		}
 	}
 }
+
+// A sweep over the Hodge choice on a jittered plane runs both, each
+// recipe saying which it used, and both keep mass to round-off.
+func TestSweepOverHodge(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "sweep")
+	code, _, stderr := gyre(t, "sweep", "bump-adjustment", "--vary", "scheme.hodge=consistent,diagonal",
+		"--set", "grid.kind=quad", "--set", "grid.n=8", "--set", "grid.jitter=0.2", "--set", "time.duration=600", "--out", dir)
+	if code != ExitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "sweep.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows := strings.Split(strings.TrimSpace(string(b)), "\n")
+	if len(rows) != 3 || !strings.Contains(rows[1], ",consistent,") || !strings.Contains(rows[2], ",diagonal,") {
+		t.Fatalf("sweep.csv:\n%s", b)
+	}
+	recipe, err := os.ReadFile(filepath.Join(dir, "run-001-scheme.hodge=diagonal", "recipe.toml"))
+	if err != nil || !strings.Contains(string(recipe), `hodge = "diagonal"`) {
+		t.Errorf("diagonal run's recipe (%v):\n%s", err, recipe)
+	}
+}
+
+// On a distorted plane the diagonal Hodge star still conserves energy
+// but is not consistent; the consistent one is both.
+func TestStructureDistortedPlane(t *testing.T) {
+	for _, hodge := range []string{"diagonal", "consistent"} {
+		dir := filepath.Join(t.TempDir(), "out")
+		code, _, stderr := gyre(t, "structure", "--grid", "hex", "--n", "8", "--set", "grid.distort=0.2", "--set", "scheme.hodge="+hodge, "--out", dir)
+		if code != ExitOK {
+			t.Fatalf("exit %d: %s", code, stderr)
+		}
+		m := readStructure(t, dir)
+		if m["energy_conserving"] != true || m["consistent"] != (hodge == "consistent") || m["steady_geostrophic_modes"] != true {
+			t.Errorf("hodge %s: energy_conserving %v, consistent %v, steady_geostrophic_modes %v", hodge, m["energy_conserving"], m["consistent"], m["steady_geostrophic_modes"])
+		}
+	}
+}
