@@ -146,7 +146,9 @@ func TestConsistentHodgeOnDistortedPlanes(t *testing.T) {
 // second order); diagonal uses l_e/d_e instead of the mesh's H.
 func fluxError(m *Mesh, diagonal bool) (l2, linf float64) {
 	lx, ly := m.Surface.Lx, m.Surface.Ly
-	w := func(x, y float64) (float64, float64) { return math.Sin(2 * math.Pi * y / ly), math.Cos(2 * math.Pi * x / lx) }
+	w := func(x, y float64) (float64, float64) {
+		return math.Sin(2 * math.Pi * y / ly), math.Cos(2 * math.Pi * x / lx)
+	}
 	ne := m.NumEdges
 	v, hv, flux := make([]float64, ne), make([]float64, ne), make([]float64, ne)
 	for e := 0; e < ne; e++ {
