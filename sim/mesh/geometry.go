@@ -14,11 +14,11 @@ import (
 // general path reproduces it on them.
 
 // midpointSnap is the largest offset of the crossing point from the
-// midpoint of the dual edge, as a fraction of the dual edge, that is taken
-// for rounding of the stored positions: far above their rounding (ulp(L)
-// against a spacing L/n is below 1e-12 for every allowed n) and far below
-// any distortion worth the name.
-const midpointSnap = 1e-10
+// midpoint of the dual edge that is taken for the rounding of the
+// positions, and the crossing then for the midpoint: midpointSnap ulps of
+// the coordinates on the plane (metres up to the domain size), and
+// midpointSnap·2⁻⁵² radians on the sphere (unit vectors).
+const midpointSnap = 8
 
 // planeGeometry fills the metric and the edge coordinates of a doubly
 // periodic planar mesh from its topology (complete, vertex arrays
@@ -29,6 +29,7 @@ func (m *Mesh) planeGeometry() error {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	lx, ly := m.Surface.Lx, m.Surface.Ly
 	ne, nc := t.NumEdges, t.NumCells
+	ulp := math.Nextafter(max(lx, ly), math.Inf(1)) - max(lx, ly)
 	g.EdgeLength = make([]float64, ne)
 	g.DualLength = make([]float64, ne)
 	c.EdgeX, c.EdgeY = make([]float64, ne), make([]float64, ne)
@@ -42,15 +43,15 @@ func (m *Mesh) planeGeometry() error {
 		px, py := wrap(c.VertexX[v0]-c.CellX[c0], lx), wrap(c.VertexY[v0]-c.CellY[c0], ly)
 		qx, qy := wrap(c.VertexX[v1]-c.VertexX[v0], lx), wrap(c.VertexY[v1]-c.VertexY[v0], ly)
 		// The crossing c0 + s d = v0 + u q by Cramer's rule, with s written
-		// as ½ + σ about the dual edge's midpoint. |σ| ≤ midpointSnap is
-		// the rounding of the stored positions (metres of size L, so a few
-		// ulp(L) against a spacing L/n): the crossing is then the midpoint,
-		// as the regular grids' own generators compute it.
+		// as ½ + σ about the dual edge's midpoint. An offset |σ d| of a few
+		// ulp(L) is the rounding of the stored positions (metres up to the
+		// domain size): the crossing is then the midpoint, as the regular
+		// grids' own generators compute it.
 		hx, hy := dx/2, dy/2
 		den := dx*qy - dy*qx
 		sigma := ((px-hx)*qy - (py-hy)*qx) / den
 		u := (px*dy - py*dx) / den
-		if math.Abs(sigma) <= midpointSnap {
+		if math.Abs(sigma)*math.Max(math.Abs(dx), math.Abs(dy)) <= midpointSnap*ulp {
 			sigma = 0
 		}
 		if !(sigma > -0.5 && sigma < 0.5 && u > 0 && u < 1) {
@@ -134,12 +135,12 @@ func (m *Mesh) sphereGeometryFrom(x, p []vec3) error {
 		n0 := d.sub(mp.scale(d.dot(mp))).unit()
 		// X_e = mp cos θ + n0 sin θ lies on the great circle of v0–v1, of
 		// pole pv (from differences, so that short arcs keep full relative
-		// precision): tan θ = −(mp·pv)/(n0·pv). |θ| ≤ midpointSnap·(arc
-		// a–b) is rounding, and X_e is then the midpoint, as on the Voronoi
+		// precision): tan θ = −(mp·pv)/(n0·pv). |θ| ≤ midpointSnap·2⁻⁵²
+		// is rounding, and X_e is then the midpoint, as on the Voronoi
 		// sphere.
 		pv := v0.cross(v1.sub(v0))
 		th := math.Atan(-mp.dot(pv) / n0.dot(pv))
-		if math.Abs(th) <= midpointSnap*arc(a, b) {
+		if math.Abs(th) <= midpointSnap*0x1p-52 {
 			th = 0
 		}
 		xe := mp

@@ -55,11 +55,19 @@ func distortedMeshes(t *testing.T) []*Mesh {
 	return ms
 }
 
-// testMeshes adds icosahedral levels 1–3, bisected and Lloyd-relaxed, to
-// the planar meshes, for the checks that hold on any C-grid.
+// testMeshes adds icosahedral levels 1–3, bisected and Lloyd-relaxed, and
+// cubed spheres of 2, 3 and 5 cells along a cube edge to the planar meshes,
+// for the checks that hold on any C-grid.
 func testMeshes(t *testing.T) []*Mesh {
 	t.Helper()
 	ms := planarMeshes(t)
+	for _, n := range []int{2, 3, 5} {
+		m, err := New(Spec{Kind: Cubed, N: n, Radius: 6.37122e6})
+		if err != nil {
+			t.Fatal(err)
+		}
+		ms = append(ms, m)
+	}
 	for _, opt := range []string{OptimizeNone, OptimizeLloyd} {
 		for n := 1; n <= 3; n++ {
 			m, err := New(Spec{Kind: Icosahedral, N: n, Radius: 6.37122e6, Optimize: opt})
@@ -140,40 +148,47 @@ func TestAreasAndKites(t *testing.T) {
 func TestExactSequence(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	for _, m := range testMeshes(t) {
-		for trial := 0; trial < 3; trial++ {
-			h := make([]int64, m.NumCells)
-			for i := range h {
-				h[i] = rng.Int64N(1<<40) - 1<<39
+		checkExactSequence(t, m, rng)
+	}
+}
+
+// checkExactSequence applies grad then curl, and skew-grad then div, to
+// random integer fields and requires exact zeros.
+func checkExactSequence(t *testing.T, m *Mesh, rng *rand.Rand) {
+	t.Helper()
+	for trial := 0; trial < 3; trial++ {
+		h := make([]int64, m.NumCells)
+		for i := range h {
+			h[i] = rng.Int64N(1<<40) - 1<<39
+		}
+		psi := make([]int64, m.NumVertices)
+		for i := range psi {
+			psi[i] = rng.Int64N(1<<40) - 1<<39
+		}
+		grad := make([]int64, m.NumEdges)
+		skew := make([]int64, m.NumEdges)
+		for e := 0; e < m.NumEdges; e++ {
+			grad[e] = h[m.EdgeCells[2*e+1]] - h[m.EdgeCells[2*e]]
+			skew[e] = psi[m.EdgeVertices[2*e+1]] - psi[m.EdgeVertices[2*e]]
+		}
+		for v := 0; v < m.NumVertices; v++ {
+			lo, hi := m.EdgesOfVertex(v)
+			var c int64
+			for k := lo; k < hi; k++ {
+				c += int64(m.VertexEdgeSign[k]) * grad[m.VertexEdges[k]]
 			}
-			psi := make([]int64, m.NumVertices)
-			for i := range psi {
-				psi[i] = rng.Int64N(1<<40) - 1<<39
+			if c != 0 {
+				t.Fatalf("%s n=%d: curl·grad = %d at vertex %d", m.Kind, m.N, c, v)
 			}
-			grad := make([]int64, m.NumEdges)
-			skew := make([]int64, m.NumEdges)
-			for e := 0; e < m.NumEdges; e++ {
-				grad[e] = h[m.EdgeCells[2*e+1]] - h[m.EdgeCells[2*e]]
-				skew[e] = psi[m.EdgeVertices[2*e+1]] - psi[m.EdgeVertices[2*e]]
+		}
+		for i := 0; i < m.NumCells; i++ {
+			lo, hi := m.EdgesOfCell(i)
+			var d int64
+			for k := lo; k < hi; k++ {
+				d += int64(m.CellEdgeSign[k]) * skew[m.CellEdges[k]]
 			}
-			for v := 0; v < m.NumVertices; v++ {
-				lo, hi := m.EdgesOfVertex(v)
-				var c int64
-				for k := lo; k < hi; k++ {
-					c += int64(m.VertexEdgeSign[k]) * grad[m.VertexEdges[k]]
-				}
-				if c != 0 {
-					t.Fatalf("%s n=%d: curl·grad = %d at vertex %d", m.Kind, m.N, c, v)
-				}
-			}
-			for i := 0; i < m.NumCells; i++ {
-				lo, hi := m.EdgesOfCell(i)
-				var d int64
-				for k := lo; k < hi; k++ {
-					d += int64(m.CellEdgeSign[k]) * skew[m.CellEdges[k]]
-				}
-				if d != 0 {
-					t.Fatalf("%s n=%d: div·curlᵀ = %d at cell %d", m.Kind, m.N, d, i)
-				}
+			if d != 0 {
+				t.Fatalf("%s n=%d: div·curlᵀ = %d at cell %d", m.Kind, m.N, d, i)
 			}
 		}
 	}
