@@ -206,6 +206,48 @@ func TestSemiDiscreteConservation(t *testing.T) {
 	}
 }
 
+// The same conservation on the cubed sphere (a dual that is not
+// orthogonal), with the general Hodge star and with the diagonal one:
+// both are symmetric positive definite, so the energy-conserving schemes
+// conserve energy with either (Thuburn & Cotter 2012, SIAM J. Sci.
+// Comput. 34, B203–B225), and trisk-enstrophy conserves potential
+// enstrophy whatever H is.
+func TestSemiDiscreteConservationCubed(t *testing.T) {
+	const tol = 1e-12
+	pool := par.New(1)
+	for _, general := range []bool{true, false} {
+		for _, c := range []struct {
+			scheme           string
+			energy, enstroph bool
+		}{{TRiSKEnergy, true, false}, {TRiSKEnstrophy, false, true}, {APVM, true, false}} {
+			f := randomFixtureOn(t, mesh.Spec{Kind: mesh.Cubed, N: 6, Radius: 6.37122e6}, 3)
+			if general {
+				if err := mesh.EnsureHodge(f.m); err != nil || f.m.Hodge == nil {
+					t.Fatalf("no general Hodge star on the cubed sphere (%v)", err)
+				}
+			}
+			s, err := New(c.scheme, f.g, f.phys, pool, Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			s.SetDt(100)
+			dx := make([]float64, len(f.x))
+			s.Tendency(dx, f.x)
+			dm, sm, de, se, dz, sz := rates(f, dx)
+			for _, r := range []struct {
+				name      string
+				conserved bool
+				d, s      float64
+			}{{"M", true, dm, sm}, {"E", c.energy, de, se}, {"Z", c.enstroph, dz, sz}} {
+				ratio := math.Abs(r.d) / r.s
+				if (r.conserved && ratio > tol) || (!r.conserved && ratio < 1e4*tol) {
+					t.Errorf("%s on cubed (general Hodge %t): |d%s/dt| / Σ|terms| = %.3g (conserved: %t)", c.scheme, general, r.name, ratio, r.conserved)
+				}
+			}
+		}
+	}
+}
+
 // TestSadournyEnstrophyIsTRiSK: on square and rectangular cells the TRiSK
 // weights are ±1/4 l_e'/d_e on the four cross edges and 0 on the parallel
 // ones, so trisk-enstrophy's q_e Σ w F is Sadourny's (1975) enstrophy
