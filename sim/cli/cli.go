@@ -23,6 +23,7 @@ import (
 	"gyrebench/scenarios"
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
+	"gyrebench/sim/mesh"
 	"gyrebench/sim/scenario"
 	"gyrebench/sim/timeline"
 )
@@ -246,8 +247,9 @@ type BenchResult struct {
 func cmdBench(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("bench", flag.ContinueOnError)
 	fs.SetOutput(stderr)
-	grid := fs.String("grid", "hex", "grid kind: quad, hex, tri, icosahedral")
-	n := fs.Int("n", 512, "cells per side (plane) or level (sphere)")
+	grid := fs.String("grid", "hex", "grid kind: quad, hex, tri, icosahedral, cubed")
+	n := fs.Int("n", 512, "cells per side (plane), level (icosahedral) or cells per cube edge (cubed)")
+	hodge := fs.String("hodge", "consistent", "edge Hodge star on non-orthogonal grids: consistent, diagonal")
 	steps := fs.Int("steps", 20, "time steps to time")
 	workers := fs.Int("workers", 1, "goroutines for the tendency loops")
 	schemeName := fs.String("scheme", "trisk-energy", "scheme")
@@ -268,8 +270,8 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	}
 	cfg := sim.DefaultConfig()
 	cfg.Grid.Kind, cfg.Grid.N = *grid, *n
-	cfg.Scheme.Name, cfg.Time.Integrator = *schemeName, *integ
-	if *grid != "icosahedral" {
+	cfg.Scheme.Name, cfg.Time.Integrator, cfg.Scheme.Hodge = *schemeName, *integ, *hodge
+	if !mesh.Kind(*grid).OnSphere() {
 		// Keep the spacing of the default scenario so the step is stable.
 		cfg.Grid.Length = 1e6 * float64(*n) / 64
 	} else {
