@@ -7,15 +7,14 @@
 //
 //	M = Σ_i A_i h_i
 //	E = Σ_e (l_e d_e / 2) h_e u_e² + Σ_i A_i g (h_i²/2 + h_i b_i)
-//
-// and with a general edge Hodge star H (the grid's Metric.Hodge, on grids
-// whose dual is not orthogonal) the kinetic part is ½ Σ_e h_e v_e (H v)_e
-// with v_e = d_e u_e, the energy whose variation the schemes use
-// (Thuburn & Cotter 2012, SIAM J. Sci. Comput. 34, B203–B225, from
-// memory); H = diag(l/d) gives the first form. Then
-//
 //	Z = Σ_v A_v (ζ_v + f_v)² / (2 h_v)
 //	C = Σ_v A_v (ζ_v + f_v)
+//
+// With a general edge Hodge star H (the grid's Metric.Hodge, on grids
+// whose dual is not orthogonal) the kinetic part of E is
+// ½ Σ_e h_e v_e (H v)_e with v_e = d_e u_e, the energy whose variation the
+// schemes use (Thuburn & Cotter 2012, SIAM J. Sci. Comput. 34, B203–B225,
+// from memory); H = diag(l/d) gives the form above.
 //
 // Sums run serially in index order, so they are bit-identical whatever
 // the number of workers used by the scheme.
