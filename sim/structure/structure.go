@@ -103,6 +103,13 @@ type Report struct {
 	// CoriolisAntisymmetryDefect is max |W + Wᵀ| / max |W| for the TRiSK
 	// weights.
 	CoriolisAntisymmetryDefect float64 `json:"coriolis_antisymmetry_defect"`
+	// CoriolisConsistencyError and its _l2 compare W F, for the fluxes F
+	// of the same known flow, with the circulations of k × w along the
+	// dual edges: the accuracy of the PV flux, which no conservation law
+	// needs (with kite-area R it does not converge in max at the seams of
+	// the cubed sphere).
+	CoriolisConsistencyError   float64 `json:"coriolis_consistency_error"`
+	CoriolisConsistencyErrorL2 float64 `json:"coriolis_consistency_error_l2"`
 	// GeostrophicCompatibilityDefect is max |D̄2 W F − R D2 F| over the
 	// larger of the two terms, on random fluxes F.
 	GeostrophicCompatibilityDefect float64 `json:"geostrophic_compatibility_defect"`
@@ -177,6 +184,7 @@ func Measure(msh *mesh.Mesh, cfg sim.Config) (Report, error) {
 	}
 	r.HodgeConsistencyError, r.HodgeConsistencyErrorL2, r.HodgeConsistencyFlow = consistencyError(msh, g)
 	r.CoriolisAntisymmetryDefect = antisymmetryDefect(msh)
+	r.CoriolisConsistencyError, r.CoriolisConsistencyErrorL2 = coriolisConsistency(msh, g)
 	r.GeostrophicCompatibilityDefect = compatibilityDefect(g)
 
 	pool := par.New(1)
