@@ -215,3 +215,27 @@ func TestCoriolisConsistency(t *testing.T) {
 		}
 	}
 }
+
+// Of follows a running model's Hodge choice, as a panel would after a
+// switch.
+func TestOfFollowsSetHodge(t *testing.T) {
+	cfg := config("quad", 8, scheme.TRiSKEnergy, "")
+	cfg.Grid.Jitter, cfg.Initial.Case = 0.2, "gaussian-bump"
+	m, err := sim.NewModel(cfg, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer m.Close()
+	for _, hodge := range []string{scheme.HodgeDiagonal, scheme.HodgeConsistent} {
+		if err := m.SetHodge(hodge); err != nil {
+			t.Fatal(err)
+		}
+		r, err := Of(m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if r.Hodge != hodge || r.Consistent != (hodge == scheme.HodgeConsistent) || !r.EnergyConserving {
+			t.Errorf("after SetHodge(%s): hodge %s, consistent %t, energy conserving %t", hodge, r.Hodge, r.Consistent, r.EnergyConserving)
+		}
+	}
+}
