@@ -72,6 +72,10 @@ type PhysicsConfig struct {
 type SchemeConfig struct {
 	Name       string
 	APVMFactor float64 // c of apvm; 0 = default 1/2
+	// Hodge is the edge Hodge star: scheme.HodgeConsistent (the default;
+	// "" means it too) or scheme.HodgeDiagonal. Both are diag(l/d) on
+	// grids whose dual is orthogonal.
+	Hodge string
 }
 
 // TimeConfig chooses the integrator and the time span.
@@ -101,7 +105,7 @@ func DefaultConfig() Config {
 		Title:   "untitled",
 		Grid:    GridConfig{Kind: string(mesh.Hex), N: 64, Length: 1e6, Seed: 1},
 		Physics: PhysicsConfig{G: 9.80616, F0: 1e-4, Depth: 1000, Radius: 6.37122e6, Omega: 7.292e-5},
-		Scheme:  SchemeConfig{Name: scheme.TRiSKEnergy},
+		Scheme:  SchemeConfig{Name: scheme.TRiSKEnergy, Hodge: scheme.HodgeConsistent},
 		Time:    TimeConfig{Integrator: step.RK3, Dt: 60, Duration: 86400},
 		Initial: InitialConfig{Case: "gaussian-bump", Params: map[string]float64{}},
 		Output:  OutputConfig{Every: 3600},
@@ -159,12 +163,19 @@ func (c *Config) Validate() error {
 	if !contains(scheme.Names, c.Scheme.Name) {
 		return fmt.Errorf("scheme.name = %q: unknown; allowed: %s", c.Scheme.Name, strings.Join(scheme.Names, ", "))
 	}
+	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind == string(mesh.Quad) && (c.Grid.Distort != 0 || c.Grid.Jitter != 0) {
+		return fmt.Errorf("scheme.name = %q is written for the regular quad grid; with grid.distort = %g, grid.jitter = %g use one of: %s",
+			c.Scheme.Name, c.Grid.Distort, c.Grid.Jitter, strings.Join(scheme.Anywhere(), ", "))
+	}
 	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind != string(mesh.Quad) {
 		return fmt.Errorf("scheme.name = %q is available on grid.kind = \"quad\" only; on %q use one of: %s",
 			c.Scheme.Name, c.Grid.Kind, strings.Join(scheme.Anywhere(), ", "))
 	}
 	if c.Scheme.APVMFactor < 0 {
 		return fmt.Errorf("scheme.apvm_factor = %g: must be ≥ 0", c.Scheme.APVMFactor)
+	}
+	if err := validHodge(c.Scheme.Hodge); err != nil {
+		return err
 	}
 	if _, err := step.New(c.Time.Integrator, 0, step.Options{Asselin: c.Time.Asselin}); err != nil {
 		return err

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strings"
 
 	"gyrebench/sim/cases"
 	"gyrebench/sim/diag"
@@ -79,7 +80,11 @@ func NewModel(cfg Config, workers int) (*Model, error) {
 // newModelOn builds a model on an existing mesh; a non-nil state replaces
 // the initial condition and a non-nil bottom the case's bottom height.
 func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float64) (*Model, error) {
-	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: ops.Grid{Topology: &msh.Topology, Metric: &msh.Metric}}
+	grid, err := HodgeGrid(msh, cfg.Scheme.Hodge)
+	if err != nil {
+		return nil, err
+	}
+	m := &Model{cfg: cfg, workers: workers, mesh: msh, grid: grid}
 	nc, ne := msh.NumCells, msh.NumEdges
 	m.x = make([]float64, nc+ne)
 	cs, err := cases.Lookup(cfg.Initial.Case)
@@ -203,6 +208,9 @@ func (m *Model) Initial() diag.Invariants { return m.initial }
 func (m *Model) ExactDepth() []float64 { return m.steadyH }
 
 func (m *Model) setScheme(name string) error {
+	if scheme.SquareOnly(name) && !m.mesh.Orthogonal {
+		return fmt.Errorf("scheme.name = %q is written for the regular quad grid; on this distorted grid use one of: %s", name, strings.Join(scheme.Anywhere(), ", "))
+	}
 	s, err := scheme.New(name, m.grid, m.phys, m.pool, scheme.Options{APVMFactor: m.cfg.Scheme.APVMFactor})
 	if err != nil {
 		return err

@@ -54,11 +54,13 @@ func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return cmdSweep(ctx, args[1:], stdout, stderr)
 	case "modes":
 		return cmdModes(ctx, args[1:], stdout, stderr)
+	case "structure":
+		return cmdStructure(ctx, args[1:], stdout, stderr)
 	case "help", "-h", "--help":
 		usage(stdout)
 		return ExitOK
 	}
-	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, sweep, modes, bench\n", args[0])
+	fmt.Fprintf(stderr, "gyrebench: unknown command %q; commands: serve, run, scenarios, sweep, modes, structure, bench\n", args[0])
 	return ExitBadInput
 }
 
@@ -73,6 +75,8 @@ func usage(w io.Writer) {
   gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W]
   gyrebench sweep FILE_OR_NAME --vary key=v1,v2,... [--set key=value]... --out DIR [--jobs J] [--jobs-file PATH] | --collect DIR
   gyrebench modes [FILE_OR_NAME] [--grid G] [--n N] [--set key=value]... --out DIR [--verify-dt] [--extreme]
+  gyrebench structure [FILE_OR_NAME] [--grid G] [--n N] [--set key=value]... --out DIR
+                                              what the grid, Hodge star and scheme conserve (structure.json)
 `)
 }
 
@@ -245,6 +249,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	fs.SetOutput(stderr)
 	grid := fs.String("grid", "hex", "grid kind: quad, hex, tri, icosahedral, cubed")
 	n := fs.Int("n", 512, "cells per side (plane), level (icosahedral) or cells per cube edge (cubed)")
+	hodge := fs.String("hodge", "consistent", "edge Hodge star on non-orthogonal grids: consistent, diagonal")
 	steps := fs.Int("steps", 20, "time steps to time")
 	workers := fs.Int("workers", 1, "goroutines for the tendency loops")
 	schemeName := fs.String("scheme", "trisk-energy", "scheme")
@@ -265,7 +270,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	}
 	cfg := sim.DefaultConfig()
 	cfg.Grid.Kind, cfg.Grid.N = *grid, *n
-	cfg.Scheme.Name, cfg.Time.Integrator = *schemeName, *integ
+	cfg.Scheme.Name, cfg.Time.Integrator, cfg.Scheme.Hodge = *schemeName, *integ, *hodge
 	if !mesh.Kind(*grid).OnSphere() {
 		// Keep the spacing of the default scenario so the step is stable.
 		cfg.Grid.Length = 1e6 * float64(*n) / 64

@@ -10,6 +10,12 @@
 //	Z = Σ_v A_v (ζ_v + f_v)² / (2 h_v)
 //	C = Σ_v A_v (ζ_v + f_v)
 //
+// With a general edge Hodge star H (the grid's Metric.Hodge, on grids
+// whose dual is not orthogonal) the kinetic part of E is
+// ½ Σ_e h_e v_e (H v)_e with v_e = d_e u_e, the energy whose variation the
+// schemes use (Thuburn & Cotter 2012, SIAM J. Sci. Comput. 34, B203–B225,
+// from memory); H = diag(l/d) gives the form above.
+//
 // Sums run serially in index order, so they are bit-identical whatever
 // the number of workers used by the scheme.
 package diag
@@ -41,6 +47,7 @@ type Calculator struct {
 	grav float64
 	f, b []float64
 	a, c []float64 // chunk scratch
+	v    []float64 // edges: d_e u_e, only with a general Hodge star
 }
 
 // chunk is the number of elements processed at a time.
@@ -49,7 +56,18 @@ const chunk = 2048
 // New returns a calculator for the grid, gravity, Coriolis parameter at
 // vertices and bottom height at cells (nil for flat).
 func New(g ops.Grid, grav float64, fVertex, bottom []float64) *Calculator {
-	return &Calculator{g: g, grav: grav, f: fVertex, b: bottom, a: make([]float64, chunk), c: make([]float64, chunk)}
+	c := &Calculator{g: g, grav: grav, f: fVertex, b: bottom, a: make([]float64, chunk), c: make([]float64, chunk)}
+	if g.Hodge != nil {
+		c.v = make([]float64, g.NumEdges)
+	}
+	return c
+}
+
+// circulations fills c.v with v_e = d_e u_e.
+func (c *Calculator) circulations(u []float64) {
+	for e, ue := range u {
+		c.v[e] = c.g.DualLength[e] * ue
+	}
 }
 
 // Compute returns the invariants of x = [h | u] for time step dt.
@@ -72,12 +90,22 @@ func (c *Calculator) Compute(x []float64, dt float64) Invariants {
 		inv.HMax = max(inv.HMax, hi)
 	}
 	he, flx := c.a, c.c
+	if c.v != nil {
+		c.circulations(u)
+	}
 	for lo := 0; lo < g.NumEdges; lo += chunk {
 		hi := min(lo+chunk, g.NumEdges)
 		g.EdgeFlux(he, flx, h, u, lo, hi)
+		if c.v != nil {
+			g.Hodge.Apply(flx, c.v, lo, hi) // H v over the chunk
+		}
 		for e := lo; e < hi; e++ {
 			ue, hm, d := u[e], he[e-lo], g.DualLength[e]
-			inv.Energy += 0.5 * g.EdgeLength[e] * d * hm * ue * ue
+			if c.v != nil {
+				inv.Energy += 0.5 * hm * c.v[e] * flx[e-lo]
+			} else {
+				inv.Energy += 0.5 * g.EdgeLength[e] * d * hm * ue * ue
+			}
 			s := math.Abs(ue)
 			inv.MaxSpeed = max(inv.MaxSpeed, s)
 			inv.CourantAdvective = max(inv.CourantAdvective, s*dt/d)
@@ -124,17 +152,38 @@ func (c *Calculator) Divergence(div, x []float64) {
 	nc := g.NumCells
 	u := x[nc:]
 	lu := make([]float64, g.NumEdges) // not a hot path: drawn on request
-	for e, ue := range u {
-		lu[e] = g.EdgeLength[e] * ue
+	if c.v != nil {
+		c.circulations(u)
+		g.Hodge.Apply(lu, c.v, 0, g.NumEdges) // H v, the flux per unit depth
+	} else {
+		for e, ue := range u {
+			lu[e] = g.EdgeLength[e] * ue
+		}
 	}
 	g.DivKE(div, nil, lu, u, 0, nc)
 }
 
-// KineticEnergy fills ke with K = |u|²/2 at cells.
+// KineticEnergy fills ke with K = |u|²/2 at cells:
+// K_i = (1/4A_i) Σ_e v_e (H v)_e, which is (1/4A_i) Σ_e l_e d_e u_e² for
+// the diagonal Hodge star.
 func (c *Calculator) KineticEnergy(ke, x []float64) {
 	g := c.g
 	nc := g.NumCells
-	g.DivKE(nil, ke, x[nc:], x[nc:], 0, nc)
+	if c.v == nil {
+		g.DivKE(nil, ke, x[nc:], x[nc:], 0, nc)
+		return
+	}
+	c.circulations(x[nc:])
+	hv := make([]float64, g.NumEdges) // not a hot path: drawn on request
+	g.Hodge.Apply(hv, c.v, 0, g.NumEdges)
+	for i := 0; i < nc; i++ {
+		s := 0.0
+		for k := g.CellEdgeStart[i]; k < g.CellEdgeStart[i+1]; k++ {
+			e := g.CellEdges[k]
+			s += c.v[e] * hv[e]
+		}
+		ke[i] = 0.25 * s / g.CellArea[i]
+	}
 }
 
 // RelDrift returns (now − start)/|start|, or now − start when start is 0.

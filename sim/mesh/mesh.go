@@ -159,6 +159,10 @@ type Metric struct {
 	CellKiteArea   []float64 // parallel to CellVertices
 	VertexKiteArea []float64 // parallel to VertexCells
 
+	// Hodge is the general edge Hodge star (ConsistentHodge) on a grid
+	// whose dual is not orthogonal; nil where H = diag(l_e/d_e), which the
+	// schemes apply without a matrix (EnsureHodge).
+	Hodge *Hodge
 }
 
 // Coords holds positions, for initial conditions, output and drawing.

@@ -23,6 +23,7 @@ import (
 
 	"gyrebench/sim"
 	"gyrebench/sim/cases"
+	"gyrebench/sim/scheme"
 )
 
 // Scenario is a parsed scenario file.
@@ -54,6 +55,7 @@ type filePhysics struct {
 type fileScheme struct {
 	Name       *string  `toml:"name"`
 	APVMFactor *float64 `toml:"apvm_factor"`
+	Hodge      *string  `toml:"hodge"`
 }
 
 type fileTime struct {
@@ -117,6 +119,7 @@ func Parse(data []byte, name string) (*Scenario, error) {
 	num(&c.Physics.Omega, f.Physics.Omega)
 	str(&c.Scheme.Name, f.Scheme.Name)
 	num(&c.Scheme.APVMFactor, f.Scheme.APVMFactor)
+	str(&c.Scheme.Hodge, f.Scheme.Hodge)
 	str(&c.Time.Integrator, f.Time.Integrator)
 	num(&c.Time.Dt, f.Time.Dt)
 	num(&c.Time.Duration, f.Time.Duration)
@@ -250,6 +253,7 @@ func keys() []key {
 		{"physics.omega", "number", f(func(c *sim.Config) *float64 { return &c.Physics.Omega })},
 		{"scheme.name", "string", s(func(c *sim.Config) *string { return &c.Scheme.Name })},
 		{"scheme.apvm_factor", "number", f(func(c *sim.Config) *float64 { return &c.Scheme.APVMFactor })},
+		{"scheme.hodge", "string", s(func(c *sim.Config) *string { return &c.Scheme.Hodge })},
 		{"time.integrator", "string", s(func(c *sim.Config) *string { return &c.Time.Integrator })},
 		{"time.dt", "number", f(func(c *sim.Config) *float64 { return &c.Time.Dt })},
 		{"time.duration", "number", f(func(c *sim.Config) *float64 { return &c.Time.Duration })},
@@ -373,6 +377,9 @@ func Format(c sim.Config, description string) []byte {
 	fmt.Fprintf(&b, "\n[scheme]\nname = %s\n", q(c.Scheme.Name))
 	if c.Scheme.APVMFactor != 0 {
 		fmt.Fprintf(&b, "apvm_factor = %s\n", g(c.Scheme.APVMFactor))
+	}
+	if c.Scheme.Hodge != "" && c.Scheme.Hodge != scheme.HodgeConsistent {
+		fmt.Fprintf(&b, "hodge = %s\n", q(c.Scheme.Hodge))
 	}
 	fmt.Fprintf(&b, "\n[time]\nintegrator = %s\ndt = %s\nduration = %s\n", q(c.Time.Integrator), g(c.Time.Dt), g(c.Time.Duration))
 	if c.Time.Asselin != 0 {

@@ -164,6 +164,60 @@ func TestGridDistortionKeys(t *testing.T) {
 	}
 }
 
+// scheme.hodge is set, written to the recipe only when it is not the
+// default, parsed back, and refused with the key, the value and the
+// allowed values when unknown; square-grid schemes are refused on
+// distorted quads.
+func TestSchemeHodgeKey(t *testing.T) {
+	for _, h := range []string{"consistent", "diagonal"} {
+		c := sim.DefaultConfig()
+		for _, a := range []string{"grid.kind=quad", "grid.n=16", "grid.jitter=0.1", "scheme.hodge=" + h} {
+			if err := Set(&c, a); err != nil {
+				t.Fatalf("Set(%q): %v", a, err)
+			}
+		}
+		if c.Scheme.Hodge != h {
+			t.Fatalf("scheme.hodge = %q after --set %s", c.Scheme.Hodge, h)
+		}
+		if err := c.Validate(); err != nil {
+			t.Fatalf("scheme.hodge = %s refused: %v", h, err)
+		}
+		recipe := Format(c, "")
+		if strings.Contains(string(recipe), "hodge") != (h != "consistent") {
+			t.Errorf("scheme.hodge = %s: recipe\n%s", h, recipe)
+		}
+		again, err := Parse(recipe, "recipe")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if again.Config.Scheme != c.Scheme {
+			t.Errorf("round trip changed the scheme: %+v → %+v", c.Scheme, again.Config.Scheme)
+		}
+	}
+	c := sim.DefaultConfig()
+	if err := Set(&c, "scheme.hodge=mixed"); err != nil {
+		t.Fatal(err)
+	}
+	err := c.Validate()
+	for _, want := range []string{"scheme.hodge", `"mixed"`, "consistent, diagonal"} {
+		if err == nil || !strings.Contains(err.Error(), want) {
+			t.Errorf("Validate() = %v, want an error containing %s", err, want)
+		}
+	}
+	if _, err := Parse([]byte("[scheme]\nhodge = \"mixed\"\n"), "f.toml"); err != nil {
+		t.Fatalf("parse: %v", err) // types only; Validate names the value
+	}
+	c = sim.DefaultConfig()
+	for _, a := range []string{"grid.kind=quad", "grid.n=16", "grid.distort=0.1", "scheme.name=al81"} {
+		if err := Set(&c, a); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := c.Validate(); err == nil || !strings.Contains(err.Error(), "regular quad") {
+		t.Errorf("al81 on a distorted quad: Validate() = %v", err)
+	}
+}
+
 // The Lloyd relaxation of a scenario written for the icosahedral grid
 // stays with that grid: --set grid.kind=cubed drops it (and the run
 // validates), while a relaxation asked for after the change is refused.

@@ -29,6 +29,19 @@
 //     (1975, J. Atmos. Sci. 32, 680–689), square grid only, conserving
 //     energy and potential enstrophy respectively.
 //
+// On grids whose dual is not orthogonal the metric may carry a general
+// edge Hodge star H (mesh.Hodge, Metric.Hodge; nil means diag(l_e/d_e)).
+// The state keeps u_e along the dual edge, so v_e = d_e u_e is the
+// circulation, and every scheme uses H in the Hamiltonian form (Thuburn &
+// Cotter 2012, SIAM J. Sci. Comput. 34(3), B203–B225, from memory):
+// E = ½ Σ_e h_e v_e (H v)_e + Σ_i A_i g (h_i²/2 + h_i b_i), mass flux
+// F = δE/δv = ½[h_e (H v)_e + (H (h v))_e] in the continuity equation and
+// the PV flux, and K_i = (1/4A_i) Σ_{e∈i} v_e (H v)_e in the Bernoulli
+// function. With H = diag(l/d) these are today's l_e h_e u_e and
+// (1/4A_i) Σ l_e d_e u_e², computed by the same single edge pass; a
+// general H adds one pass (circulations) and one sparse row per edge.
+// Energy is conserved for any symmetric H (TestSemiDiscreteConservation).
+//
 // A scheme sees topology and metric (ops.Grid), never coordinates.
 // Tendency allocates nothing; its loops run on a par.Pool and give
 // bit-identical results for any number of workers. The TRiSK schemes also
@@ -54,6 +67,19 @@ const (
 	SadournyEnergy    = "sadourny-energy"
 	SadournyEnstrophy = "sadourny-enstrophy"
 )
+
+// Hodge-star choices (scheme.hodge). On a grid whose dual is orthogonal
+// both are the diagonal l_e/d_e; elsewhere "consistent" uses the grid's
+// general Hodge star (mesh.ConsistentHodge), exact for uniform flow, and
+// "diagonal" keeps l_e/d_e, which still conserves energy but is not
+// consistent there.
+const (
+	HodgeConsistent = "consistent"
+	HodgeDiagonal   = "diagonal"
+)
+
+// HodgeNames lists the Hodge-star choices, the default first.
+var HodgeNames = []string{HodgeConsistent, HodgeDiagonal}
 
 // Names lists every scheme.
 var Names = []string{TRiSKEnergy, TRiSKEnstrophy, APVM, AL81, SadournyEnergy, SadournyEnstrophy}

@@ -107,7 +107,7 @@ func (s *square) SetDt(float64) {}
 func (s *square) Tendency(dst, x []float64) {
 	s.x, s.dst = x, dst
 	s.pool.For(s.nv, s.phaseVertices)
-	s.pool.For(s.ne, s.phaseEdges)
+	s.edgePasses()
 	s.pool.For(s.nc, s.phaseCells)
 	s.pool.For(s.ne, s.phaseMomentum)
 	s.x, s.dst = nil, nil

@@ -3,6 +3,7 @@ package scheme
 import (
 	"fmt"
 
+	"gyrebench/sim/mesh"
 	"gyrebench/sim/ops"
 	"gyrebench/sim/par"
 )
@@ -30,7 +31,11 @@ type core struct {
 	x, dst []float64 // arguments of the tendency in progress
 	dh     []float64 // where the cell pass puts ∂h/∂t (dst[:nc]); nil in a stage
 
-	phaseVertices, phaseEdges func(lo, hi int)
+	// General Hodge star (the grid's Metric.Hodge), nil for diag(l/d).
+	hodge *mesh.Hodge
+	vh    []pair // edges: v_e = d_e u_e and ĥ_e v_e, only with hodge
+
+	phaseVertices, phaseEdges, phaseCirc, phaseHodge func(lo, hi int)
 }
 
 func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
@@ -46,6 +51,11 @@ func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 	}
 	touch(c.q)
 	touch(c.fk)
+	if g.Hodge != nil {
+		c.hodge = g.Hodge
+		c.vh = make([]pair, g.NumEdges)
+		touch(c.vh)
+	}
 	return c
 }
 
@@ -60,6 +70,58 @@ func touch[T any](s []T) { clear(s) }
 func (c *core) bind() {
 	c.phaseVertices = c.doVertices
 	c.phaseEdges = c.doEdges
+	c.phaseCirc = c.doCirculation
+	c.phaseHodge = c.doHodge
+}
+
+// edgePasses runs the edge passes: one with the diagonal Hodge star, two
+// with a general one (circulations first, then the rows of H, so that
+// each edge's flux is computed in one place, in the order of its row).
+func (c *core) edgePasses() {
+	if c.hodge == nil {
+		c.pool.For(c.ne, c.phaseEdges)
+		return
+	}
+	c.pool.For(c.ne, c.phaseCirc)
+	c.pool.For(c.ne, c.phaseHodge)
+}
+
+// doCirculation sets v_e = d_e u_e and ĥ_e v_e.
+func (c *core) doCirculation(lo, hi int) {
+	h, u := c.x[:c.nc], c.x[c.nc+lo:c.nc+hi]
+	vh := c.vh[lo:hi]
+	cells := c.g.EdgeCells[2*lo : 2*hi]
+	d := c.g.DualLength[lo:hi]
+	u, d = u[:len(vh)], d[:len(vh)]
+	for k := range vh {
+		ce := cells[2*k : 2*k+2 : 2*k+2]
+		v := d[k] * u[k]
+		vh[k] = pair{v, 0.5 * (h[ce[0]] + h[ce[1]]) * v}
+	}
+}
+
+// doHodge sets, with the general Hodge star H, the mass flux
+// F = δE/δv = ½[ĥ ∘ (H v) + H (ĥ ∘ v)] and the kinetic-energy share
+// v_e (H v)_e, for the energy E = ½ Σ_e ĥ_e v_e (H v)_e + potential
+// (the Hamiltonian form: Thuburn & Cotter 2012, SIAM J. Sci. Comput. 34,
+// B203–B225, from memory). With H = diag(l/d) both reduce to doEdges.
+// For apvm, l u becomes H v, the flux per unit thickness.
+func (c *core) doHodge(lo, hi int) {
+	st, col, val := c.hodge.Start, c.hodge.Col, c.hodge.Val
+	vh, fk, h, cells := c.vh, c.fk, c.x[:c.nc], c.g.EdgeCells
+	for e := lo; e < hi; e++ {
+		var hv, hhv float64
+		for k := st[e]; k < st[e+1]; k++ {
+			p := &vh[col[k]]
+			hv += val[k] * p[0]
+			hhv += val[k] * p[1]
+		}
+		he := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
+		fk[e] = pair{0.5 * (he*hv + hhv), vh[e][0] * hv}
+		if c.lu != nil {
+			c.lu[e] = hv
+		}
+	}
 }
 
 // doVertices sets q_v = (ζ_v + f_v)/h_v (Ringler et al. 2010, eq. 26).
@@ -196,7 +258,7 @@ func stageValue(x, x0, f, a, b, dt float64) float64 {
 // passes runs every pass up to the cell pass.
 func (s *trisk) passes() {
 	s.pool.For(s.nv, s.phaseVertices)
-	s.pool.For(s.ne, s.phaseEdges)
+	s.edgePasses()
 	if s.corr != nil {
 		s.pool.For(s.nc, s.phaseQ)
 		s.pool.For(s.ne, s.phaseA)
@@ -224,9 +286,12 @@ func (s *trisk) doCells(lo, hi int) {
 		if a >= b {
 			continue
 		}
-		if r.n == 6 && s.corr == nil {
+		switch {
+		case r.n == 6 && s.corr == nil:
 			s.cells6(a, b)
-		} else {
+		case r.n == 4 && s.corr == nil:
+			s.cells4(a, b)
+		default:
 			s.cellsAny(a, b)
 		}
 	}
@@ -368,6 +433,103 @@ func (s *trisk) cells6(lo, hi int) {
 			tt[es[3]][o3] = 0.5*(qe3*ga3+gb3) + phi
 			tt[es[4]][o4] = 0.5*(qe4*ga4+gb4) + phi
 			tt[es[5]][o5] = 0.5*(qe5*ga5+gb5) + phi
+		}
+	}
+}
+
+// cells4 is cellsAny for quadrilaterals (the quad grids and the cubed
+// sphere), written out like cells6 with the same arithmetic in the same
+// order.
+func (s *trisk) cells4(lo, hi int) {
+	h, invA := s.x[lo:hi], s.invArea[lo:hi]
+	invA = invA[:len(h)]
+	dh, x0 := s.dh, s.x0
+	if dh != nil {
+		dh = dh[lo:hi]
+		dh = dh[:len(h)]
+	} else {
+		x0 = x0[lo:hi]
+		x0 = x0[:len(h)]
+	}
+	stA, stB, stDt := s.stageA, s.stageB, s.stageDt
+	k0 := int(s.g.CellEdgeStart[lo])
+	n4 := k0 + 4*len(h)
+	edges, signs, verts, kite := s.g.CellEdges[k0:n4], s.g.CellEdgeSign[k0:n4], s.g.CellVertices[k0:n4], s.g.CellKiteArea[k0:n4]
+	q, fk, tt := s.q, s.fk, s.tt
+	b, grav, enst := s.phys.Bottom, s.phys.G, s.enstrophy
+	if b != nil {
+		b = b[lo:hi]
+		b = b[:len(h)]
+	}
+	sgn := [2]float64{1, -1}
+	for i := range h {
+		es := (*[4]int32)(edges[4*i : 4*i+4])
+		ss := (*[4]int8)(signs[4*i : 4*i+4])
+		vs := (*[4]int32)(verts[4*i : 4*i+4])
+		ks := (*[4]float64)(kite[4*i : 4*i+4])
+		inv := invA[i]
+		q3 := q[vs[3]]
+		p0 := &fk[es[0]]
+		o0 := int(ss[0]>>1) & 1
+		q0 := q[vs[0]]
+		p1 := &fk[es[1]]
+		o1 := int(ss[1]>>1) & 1
+		q1 := q[vs[1]]
+		p2 := &fk[es[2]]
+		o2 := int(ss[2]>>1) & 1
+		q2 := q[vs[2]]
+		p3 := &fk[es[3]]
+		o3 := int(ss[3]>>1) & 1
+		qe0 := 0.5 * (q3 + q0)
+		qe1 := 0.5 * (q0 + q1)
+		qe2 := 0.5 * (q1 + q2)
+		qe3 := 0.5 * (q2 + q3)
+		a0 := sgn[o0] * p0[0]
+		b0 := qe0 * a0
+		a1 := sgn[o1] * p1[0]
+		b1 := qe1 * a1
+		a2 := sgn[o2] * p2[0]
+		b2 := qe2 * a2
+		a3 := sgn[o3] * p3[0]
+		b3 := qe3 * a3
+		r0, r1, r2 := ks[0]*inv, ks[1]*inv, ks[2]*inv
+		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
+		c2 := c1 + r1
+		c3 := c2 + r2
+		sa := 0.0 + a0 + a1 + a2 + a3
+		sb := 0.0 + b0 + b1 + b2 + b3
+		ta := c1*a1 + c2*a2 + c3*a3
+		tb := c1*b1 + c2*b2 + c3*b3
+		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1]
+		h0 := h[i]
+		hb := h0
+		if b != nil {
+			hb += b[i]
+		}
+		phi := 0.25*ke*inv + grav*hb
+		if dh != nil {
+			dh[i] = -(sa * inv)
+		} else {
+			h[i] = stageValue(h0, x0[i], -(sa * inv), stA, stB, stDt)
+		}
+		ga0 := 0.5*(sa-a0) - ta
+		gb0 := 0.5*(sb-b0) - tb
+		ga1 := ga0 + (r0*sa - 0.5*(a0+a1))
+		gb1 := gb0 + (r0*sb - 0.5*(b0+b1))
+		ga2 := ga1 + (r1*sa - 0.5*(a1+a2))
+		gb2 := gb1 + (r1*sb - 0.5*(b1+b2))
+		ga3 := ga2 + (r2*sa - 0.5*(a2+a3))
+		gb3 := gb2 + (r2*sb - 0.5*(b2+b3))
+		if enst {
+			tt[es[0]][o0] = qe0*ga0 + phi
+			tt[es[1]][o1] = qe1*ga1 + phi
+			tt[es[2]][o2] = qe2*ga2 + phi
+			tt[es[3]][o3] = qe3*ga3 + phi
+		} else {
+			tt[es[0]][o0] = 0.5*(qe0*ga0+gb0) + phi
+			tt[es[1]][o1] = 0.5*(qe1*ga1+gb1) + phi
+			tt[es[2]][o2] = 0.5*(qe2*ga2+gb2) + phi
+			tt[es[3]][o3] = 0.5*(qe3*ga3+gb3) + phi
 		}
 	}
 }
