@@ -98,7 +98,7 @@ func TestSweepOverHodge(t *testing.T) {
 	if len(rows) != 3 || !strings.Contains(rows[1], ",consistent,") || !strings.Contains(rows[2], ",diagonal,") {
 		t.Fatalf("sweep.csv:\n%s", b)
 	}
-	recipe, err := os.ReadFile(filepath.Join(dir, "run-001-scheme.hodge=diagonal", "recipe.toml"))
+	recipe, err := os.ReadFile(filepath.Join(dir, "point-002", "recipe.toml"))
 	if err != nil || !strings.Contains(string(recipe), `hodge = "diagonal"`) {
 		t.Errorf("diagonal run's recipe (%v):\n%s", err, recipe)
 	}
