@@ -89,6 +89,8 @@ type msg struct {
 	Enstrophy float64 `json:"enstrophy"`
 	MassAbs   float64 `json:"mass_abs"`
 
+	Hodge string `json:"hodge"` // config
+
 	bin *frameHdr
 }
 
