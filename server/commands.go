@@ -148,6 +148,9 @@ func maxLiveN(kind string, cfg sim.Config, msh *mesh.Mesh) int {
 // domain, so the height is the current one.
 func liveSpec(kind string, n int, cfg sim.Config, msh *mesh.Mesh) mesh.Spec {
 	cfg.Grid.Kind, cfg.Grid.N = kind, n
+	if kind != string(mesh.Icosahedral) {
+		cfg.Grid.Optimize = "" // the icosahedral grid's alone
+	}
 	spec := cfg.MeshSpec()
 	if !msh.Surface.Sphere {
 		spec.Height = msh.Surface.Ly

@@ -119,3 +119,19 @@ func TestGridLimits(t *testing.T) {
 		}
 	}
 }
+
+// TestMaxLiveCubedFromLloyd: from a run on a Lloyd-relaxed icosahedral
+// grid, the cubed sphere is offered up to the largest n within
+// MaxLiveCells (the relaxation does not carry to the cubed sphere).
+func TestMaxLiveCubedFromLloyd(t *testing.T) {
+	sphere, err := mesh.New(mesh.Spec{Kind: mesh.Icosahedral, N: 2, Radius: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := sim.DefaultConfig()
+	cfg.Grid = sim.GridConfig{Kind: "icosahedral", N: 2, Optimize: mesh.OptimizeLloyd}
+	n := maxLiveN("cubed", cfg, sphere)
+	if 6*n*n > MaxLiveCells || 6*(n+1)*(n+1) <= MaxLiveCells {
+		t.Errorf("maxLiveN(cubed) from a Lloyd grid = %d: 6n² = %d, 6(n+1)² = %d, limit %d", n, 6*n*n, 6*(n+1)*(n+1), MaxLiveCells)
+	}
+}

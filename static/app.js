@@ -169,12 +169,24 @@ function onBinary(buf) {
     view.setGeometry(msg);
     st.range = null;
     el.canvas.dataset.grid = st.config ? `${st.config.grid.kind} ${st.config.grid.n}` : '';
+    el.canvas.dataset.cellCorners = cornerRange(msg.polys[0]); // "4" on the cubed sphere, "5–6" icosahedral
     return;
   }
   if (!st.geometry || msg.gen !== st.geometry.gen) return; // a frame of a grid just replaced
   st.skipped += msg.skipped;
   st.frame = msg;
   schedule('field');
+}
+
+// cornerRange writes the fewest and most corners of the polygons p.
+function cornerRange(p) {
+  let lo = Infinity, hi = 0;
+  for (let i = 0; i < p.n; i++) {
+    const k = p.start[i + 1] - p.start[i];
+    lo = Math.min(lo, k);
+    hi = Math.max(hi, k);
+  }
+  return lo === hi ? String(lo) : `${lo}–${hi}`;
 }
 
 // ---- drawing ------------------------------------------------------------

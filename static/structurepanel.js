@@ -79,10 +79,8 @@ export class StructurePanel {
       th.textContent = label;
       const td = document.createElement('td');
       td.textContent = value(r);
-      const w = document.createElement('td');
-      w.className = 'want';
-      w.textContent = typeof want === 'function' ? want(r) : want;
-      tr.append(th, td, w);
+      tr.title = `wanted: ${typeof want === 'function' ? want(r) : want}`;
+      tr.append(th, td);
       measures.append(tr);
     }
   }

@@ -91,6 +91,14 @@ type msg struct {
 
 	Hodge string `json:"hodge"` // config
 
+	// history: the server's series of points and its markers.
+	Points []struct {
+		Mass *float64 `json:"mass"`
+	} `json:"points"`
+	Markers []struct {
+		Label string `json:"label"`
+	} `json:"markers"`
+
 	bin *frameHdr
 }
 

@@ -30,7 +30,7 @@ func StructurePanel() templ.Component {
 		}
 		ctx = templ.InitializeContext(ctx)
 		ctx = templ.ClearChildren(ctx)
-		templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 1, "<fieldset class=\"structure\"><legend>Structure</legend> <label>Hodge star <select data-role=\"hodge-select\" title=\"The edge Hodge star H, which maps circulations to fluxes\"><option value=\"consistent\">consistent (general H, exact for uniform flow)</option> <option value=\"diagonal\">diagonal (l/d, the orthogonal-grid H)</option></select></label><p class=\"hint\" data-role=\"hodge-hint\"></p><div data-role=\"structure-panel\" data-state=\"computing\" aria-live=\"polite\"><p class=\"hint\" data-role=\"structure-caption\">waiting for the report…</p><ul class=\"verdicts\" data-role=\"structure-verdicts\"></ul><table class=\"measures\" data-role=\"structure-measures\"></table></div></fieldset>")
+		templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 1, "<fieldset class=\"structure\"><legend>Structure</legend> <label>Hodge star <select data-role=\"hodge-select\" title=\"The edge Hodge star H, which maps circulations to fluxes\"><option value=\"consistent\">consistent (general H)</option> <option value=\"diagonal\">diagonal (l/d)</option></select></label><p class=\"hint\" data-role=\"hodge-hint\"></p><div data-role=\"structure-panel\" data-state=\"computing\" aria-live=\"polite\"><p class=\"hint\" data-role=\"structure-caption\">waiting for the report…</p><ul class=\"verdicts\" data-role=\"structure-verdicts\"></ul><table class=\"measures\" data-role=\"structure-measures\"></table></div></fieldset>")
 		if templ_7745c5c3_Err != nil {
 			return templ_7745c5c3_Err
 		}
