@@ -18,7 +18,7 @@ import (
 )
 
 // gridKinds are the grid families of the grid menu. A run switches
-// between the planar ones, or between icosahedral levels (sphere.go).
+// between the planar ones, or between the sphere ones (sphere.go).
 var gridKinds = []string{string(mesh.Quad), string(mesh.Hex), string(mesh.Tri), string(mesh.Icosahedral), string(mesh.Cubed)}
 
 // cmdError refuses a command: which field, the value given, and a message
@@ -148,8 +148,8 @@ func maxLiveN(kind string, cfg sim.Config, msh *mesh.Mesh) int {
 // domain, so the height is the current one.
 func liveSpec(kind string, n int, cfg sim.Config, msh *mesh.Mesh) mesh.Spec {
 	cfg.Grid.Kind, cfg.Grid.N = kind, n
-	if mesh.Kind(kind) != mesh.Icosahedral {
-		cfg.Grid.Optimize = "" // the relaxation is the icosahedral grid's
+	if kind != string(mesh.Icosahedral) {
+		cfg.Grid.Optimize = "" // the icosahedral grid's alone
 	}
 	spec := cfg.MeshSpec()
 	if !msh.Surface.Sphere {
@@ -251,6 +251,10 @@ func (r *Run) apply(m clientMsg) error {
 		})
 	case "set-grid":
 		return r.setGrid(m.Value)
+	case "set-hodge":
+		return r.setHodge(m.Value)
+	case "structure":
+		return r.structureOn(m.Value)
 	case "mark", "replay", "stop-replay":
 		return r.applyTimeline(m)
 	case "linear":
@@ -320,7 +324,7 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&g); err != nil {
-		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side (cubed: per cube edge), or the icosahedral level, \"optimize\" (icosahedral only): \"none\" or \"lloyd\"}", shown(raw), strings.Join(gridKinds, ", "))
+		return refuse("grid", shown(raw), "grid = %s: want {\"kind\": one of %s, \"n\": cells per side, the level (icosahedral) or cells along a cube edge (cubed), \"optimize\" (icosahedral only): \"none\" or \"lloyd\"}", shown(raw), strings.Join(gridKinds, ", "))
 	}
 	cfg := r.m.Config()
 	msh := r.m.Mesh()
@@ -345,12 +349,12 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 		}
 	}
 	opt := cfg.Grid.Optimize
-	if mesh.Kind(g.Kind) != mesh.Icosahedral {
-		opt = "" // the relaxation is the icosahedral grid's; it does not carry over
+	if g.Kind != string(mesh.Icosahedral) {
+		opt = "" // the relaxation is the icosahedral grid's; it does not carry to another family
 	}
 	if g.Optimize != nil {
 		switch {
-		case mesh.Kind(g.Kind) != mesh.Icosahedral:
+		case g.Kind != string(mesh.Icosahedral):
 			return refuse("grid.optimize", *g.Optimize, "grid.optimize = %q: only icosahedral grids are optimised; leave it out for %s", *g.Optimize, g.Kind)
 		case *g.Optimize != mesh.OptimizeNone && *g.Optimize != mesh.OptimizeLloyd:
 			return refuse("grid.optimize", *g.Optimize, "grid.optimize = %q: allowed: %q (the bisected icosahedron) or %q (centroidal Lloyd relaxation)", *g.Optimize, mesh.OptimizeNone, mesh.OptimizeLloyd)
@@ -367,7 +371,7 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 		return refuseErr("grid.n", strconv.Itoa(n), err)
 	}
 	label := "grid: " + gridName(g.Kind, n)
-	if mesh.Kind(g.Kind) == mesh.Icosahedral && optimizeName(opt) != optimizeName(cfg.Grid.Optimize) {
+	if g.Kind == string(mesh.Icosahedral) && (optimizeName(opt) != optimizeName(cfg.Grid.Optimize) || opt == mesh.OptimizeLloyd && cfg.Grid.Kind != g.Kind) {
 		label += ", " + optimizeName(opt)
 	}
 	return r.change("grid", label, func() error {

@@ -46,7 +46,8 @@ import (
 // Dispersion copies: the largest resolution analysed densely, per family.
 // Each is 576–768 unknowns, about half a second (linear.Analyse's cost note).
 var dispersionN = map[string]int{
-	string(mesh.Quad): 16, string(mesh.Hex): 12, string(mesh.Tri): 12, string(mesh.Icosahedral): 2, string(mesh.Cubed): 6,
+	string(mesh.Quad): 16, string(mesh.Hex): 12, string(mesh.Tri): 12, string(mesh.Icosahedral): 2,
+	string(mesh.Cubed): 6, // 216 cells, 648 unknowns
 }
 
 // maxLinCache bounds each cache; past it the cache starts afresh.
@@ -68,12 +69,13 @@ type linKey struct {
 	grid    sim.GridConfig
 	physics sim.PhysicsConfig
 	scheme  string
+	hodge   string
 	apvm    float64
 	dt      float64 // apvm only
 }
 
 func keyOf(cfg sim.Config) linKey {
-	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, apvm: cfg.Scheme.APVMFactor}
+	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: hodgeName(cfg.Scheme.Hodge), apvm: cfg.Scheme.APVMFactor}
 	if cfg.Scheme.Name == "apvm" {
 		k.dt = cfg.Time.Dt
 	}

@@ -39,6 +39,8 @@ func TestDispersionCopy(t *testing.T) {
 		{"tri", 12, 1e6, 0, 12, 1e6, 0, false},
 		{"icosahedral", 5, 1e6, 0, 2, 1e6, 0, true},
 		{"icosahedral", 2, 1e6, 0, 2, 1e6, 0, false},
+		{"cubed", 48, 1e6, 0, 6, 1e6, 0, true},
+		{"cubed", 4, 1e6, 0, 4, 1e6, 0, false},
 	} {
 		cfg := sim.DefaultConfig()
 		cfg.Grid = sim.GridConfig{Kind: c.kind, N: c.n, Length: c.length, Height: c.height}
@@ -64,6 +66,16 @@ func TestLinKey(t *testing.T) {
 	if keyOf(a) == keyOf(b) {
 		t.Error("apvm: a change of Δt kept the spectrum key")
 	}
+	// The Hodge star is part of the operator; "" is the consistent one.
+	c, d := sim.DefaultConfig(), sim.DefaultConfig()
+	c.Scheme.Hodge, d.Scheme.Hodge = "", "consistent"
+	if keyOf(c) != keyOf(d) {
+		t.Error("scheme.hodge \"\" and \"consistent\" gave different keys")
+	}
+	d.Scheme.Hodge = "diagonal"
+	if keyOf(c) == keyOf(d) {
+		t.Error("a change of Hodge star kept the spectrum key")
+	}
 }
 
 func TestGridLimits(t *testing.T) {
@@ -72,6 +84,10 @@ func TestGridLimits(t *testing.T) {
 		t.Fatal(err)
 	}
 	sphere, err := mesh.New(mesh.Spec{Kind: mesh.Icosahedral, N: 1, Radius: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cube, err := mesh.New(mesh.Spec{Kind: mesh.Cubed, N: 4, Radius: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -88,14 +104,34 @@ func TestGridLimits(t *testing.T) {
 		{"level 1", resolutionRange("icosahedral", 1, 6), "grid.n", "2 ≤ n ≤ 6"},
 		{"hex n = 2", resolutionRange("hex", 2, 362), "grid.n", "too small"},
 		{"hex n = 400", resolutionRange("hex", 400, 362), "grid.n", "4 ≤ n ≤ 362, even"},
+		{"cubed on a plane run", surfaceSwitch("cubed", cfg, plane), "grid.kind", "on the plane"},
+		{"quad on a cubed run", surfaceSwitch("quad", cfg, cube), "grid.kind", "icosahedral, cubed"},
+		{"cubed n = 3", resolutionRange("cubed", 3, 147), "grid.n", "4 ≤ n ≤ 147 (the cubed sphere has 6n² cells"},
+		{"cubed n = 148", resolutionRange("cubed", 148, 147), "grid.n", "cells along a cube edge"},
 	} {
 		if c.err == nil || c.err.field != c.field || !strings.Contains(c.err.msg, c.says) {
 			t.Errorf("%s: %+v, want a refusal of %s saying %q", c.name, c.err, c.field, c.says)
 		}
 	}
-	for _, ok := range []*cmdError{surfaceSwitch("hex", cfg, plane), surfaceSwitch("icosahedral", cfg, sphere), resolutionRange("icosahedral", 2, 6), resolutionRange("quad", 4, 362)} {
+	for _, ok := range []*cmdError{surfaceSwitch("hex", cfg, plane), surfaceSwitch("icosahedral", cfg, sphere), surfaceSwitch("cubed", cfg, sphere), surfaceSwitch("icosahedral", cfg, cube), resolutionRange("icosahedral", 2, 6), resolutionRange("cubed", 4, 147), resolutionRange("quad", 4, 362)} {
 		if ok != nil {
 			t.Errorf("refused what is allowed: %v", ok)
 		}
+	}
+}
+
+// TestMaxLiveCubedFromLloyd: from a run on a Lloyd-relaxed icosahedral
+// grid, the cubed sphere is offered up to the largest n within
+// MaxLiveCells (the relaxation does not carry to the cubed sphere).
+func TestMaxLiveCubedFromLloyd(t *testing.T) {
+	sphere, err := mesh.New(mesh.Spec{Kind: mesh.Icosahedral, N: 2, Radius: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := sim.DefaultConfig()
+	cfg.Grid = sim.GridConfig{Kind: "icosahedral", N: 2, Optimize: mesh.OptimizeLloyd}
+	n := maxLiveN("cubed", cfg, sphere)
+	if 6*n*n > MaxLiveCells || 6*(n+1)*(n+1) <= MaxLiveCells {
+		t.Errorf("maxLiveN(cubed) from a Lloyd grid = %d: 6n² = %d, 6(n+1)² = %d, limit %d", n, 6*n*n, 6*(n+1)*(n+1), MaxLiveCells)
 	}
 }

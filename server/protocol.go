@@ -33,7 +33,7 @@ type gridValue struct {
 }
 
 // commands lists the client commands, for messages.
-var commands = []string{"play", "pause", "step", "reset", "set-dt", "set-integrator", "set-scheme", "set-grid", "set-field", "load", "scrub", "linear", "mark", "replay", "stop-replay"}
+var commands = []string{"play", "pause", "step", "reset", "set-dt", "set-integrator", "set-scheme", "set-hodge", "set-grid", "set-field", "load", "scrub", "linear", "structure", "mark", "replay", "stop-replay"}
 
 // num is a float64 that encodes non-finite values as null, which JSON
 // cannot carry otherwise.

@@ -42,7 +42,7 @@ var (
 		"hex":         "hexagonal",
 		"tri":         "triangular",
 		"icosahedral": "icosahedral (sphere)",
-		"cubed":       "cubed (sphere)",
+		"cubed":       "cubed sphere (equiangular)",
 	}
 )
 

@@ -118,6 +118,7 @@ type Run struct {
 	frames chan *frame
 
 	lin linPanel      // the linear analysis (linear_panel.go)
+	sp  structPanel   // the structure report (structure_panel.go)
 	tl  timelineState // the recorded timeline and a replay (timeline_run.go)
 
 	born                             time.Time
@@ -170,6 +171,7 @@ func buildRun(ctx context.Context, id, scenario string, cfg sim.Config, lim runL
 	}
 	r.ring.init(ringSize)
 	r.lin.init(ctx)
+	r.sp.init(ctx)
 	r.install(m, scenario, cfg.Title)
 	return r, nil
 }
@@ -352,6 +354,7 @@ func (r *Run) join(s *subscriber) {
 	s.send(r.statusMsg())
 	s.send(r.timelineMsg())
 	r.linearJoin(s)
+	r.structureJoin(s)
 	if f := r.buildFrame(); f != nil {
 		s.offer(f)
 		f.release()
@@ -394,6 +397,7 @@ func (r *Run) afterInstall() {
 	r.emitFrame()
 	r.publishInfo()
 	r.linearChanged()
+	r.structureChanged()
 }
 
 // pause stops a running run and brings every subscriber up to date.
@@ -432,6 +436,7 @@ func (r *Run) change(kind, label string, apply func() error) error {
 	r.emitStatus()
 	r.publishInfo()
 	r.linearChanged()
+	r.structureChanged()
 	return nil
 }
 
@@ -565,6 +570,8 @@ func (r *Run) configMsg() outMsg {
 		Vertices int     `json:"vertices"`
 		Sphere   bool    `json:"sphere"`
 		Optimize string  `json:"optimize"`
+		// Orthogonal: the dual is orthogonal, so both Hodge stars are diag(l/d).
+		Orthogonal bool `json:"orthogonal"`
 	}
 	return outMsg{typ: textMsg, data: mustJSON(struct {
 		Type       string `json:"type"`
@@ -572,14 +579,15 @@ func (r *Run) configMsg() outMsg {
 		Title      string `json:"title"`
 		Grid       grid   `json:"grid"`
 		Scheme     string `json:"scheme"`
+		Hodge      string `json:"hodge"`
 		Integrator string `json:"integrator"`
 		Dt         num    `json:"dt"`
 		Field      string `json:"field"`
 		Limits     limits `json:"limits"`
 	}{
 		"config", r.scenario, r.title,
-		grid{cfg.Grid.Kind, cfg.Grid.N, msh.Surface.Lx, msh.Surface.Ly, msh.NumCells, msh.NumEdges, msh.NumVertices, msh.Surface.Sphere, optimizeName(cfg.Grid.Optimize)},
-		cfg.Scheme.Name, cfg.Time.Integrator, num(cfg.Time.Dt), r.field.Name,
+		grid{cfg.Grid.Kind, cfg.Grid.N, msh.Surface.Lx, msh.Surface.Ly, msh.NumCells, msh.NumEdges, msh.NumVertices, msh.Surface.Sphere, optimizeName(cfg.Grid.Optimize), msh.Orthogonal},
+		cfg.Scheme.Name, hodgeName(cfg.Scheme.Hodge), cfg.Time.Integrator, num(cfg.Time.Dt), r.field.Name,
 		limits{DtMax: r.dtMax(), NMax: nmax, NMin: 4, NMinKind: nMinByKind()},
 	})}
 }

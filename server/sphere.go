@@ -9,8 +9,11 @@ import (
 
 // The sphere in a live run. The icosahedral grid's resolution is its
 // refinement level n (10·4ⁿ + 2 cells); the workbench offers levels from
-// minLevel up to the largest within MaxLiveCells. The cubed sphere's is
-// the number of cells along a cube edge (6n² cells), from minCubedN. A run stays on the
+// minLevel up to the largest within MaxLiveCells. The cubed sphere's
+// resolution is the number of cells along a cube edge (6n² cells), from
+// minCubedN up. A run switches between the two families and their
+// resolutions (the state is remapped conservatively, package sim/remap).
+// A run stays on the
 // surface it was loaded on: its initial case is written for the plane or
 // for the sphere (sim.Config.Validate), so a switch between the plane and
 // the sphere is refused, and another surface is reached by loading a
@@ -21,7 +24,7 @@ import (
 const minLevel = 2
 
 // minCubedN is the coarsest cubed sphere a live run may switch to: 96
-// cells, 4 along a cube edge, which is as coarse as icosahedral level 2.
+// cells, about the icosahedral level 2.
 const minCubedN = 4
 
 // isSphereKind reports whether grid family kind lives on the sphere.
@@ -30,10 +33,10 @@ func isSphereKind(kind string) bool { return mesh.Kind(kind).OnSphere() }
 // nMinLive is the smallest resolution of grid family kind a live run may
 // switch to.
 func nMinLive(kind string) int {
-	switch mesh.Kind(kind) {
-	case mesh.Icosahedral:
+	switch {
+	case kind == string(mesh.Icosahedral):
 		return minLevel
-	case mesh.Cubed:
+	case kind == string(mesh.Cubed):
 		return minCubedN
 	}
 	return 4
@@ -41,10 +44,10 @@ func nMinLive(kind string) int {
 
 // resolutionWhat says what grid.n is for kind, for messages.
 func resolutionWhat(kind string) string {
-	switch mesh.Kind(kind) {
-	case mesh.Icosahedral:
+	switch kind {
+	case string(mesh.Icosahedral):
 		return "a whole refinement level"
-	case mesh.Cubed:
+	case string(mesh.Cubed):
 		return "a whole number of cells along a cube edge"
 	}
 	return "a whole number of cells per side"
@@ -53,7 +56,7 @@ func resolutionWhat(kind string) string {
 // gridName writes a grid for labels: "hex n = 64", "icosahedral level 5",
 // "cubed n = 48".
 func gridName(kind string, n int) string {
-	if mesh.Kind(kind) == mesh.Icosahedral {
+	if kind == string(mesh.Icosahedral) {
 		return kind + " level " + strconv.Itoa(n)
 	}
 	return kind + " n = " + strconv.Itoa(n)
@@ -66,7 +69,7 @@ func surfaceSwitch(kind string, cfg sim.Config, msh *mesh.Mesh) *cmdError {
 	}
 	if msh.Surface.Sphere {
 		return refuse("grid.kind", kind, "grid.kind = %q: this run is on the sphere (initial case %q is written for it); "+
-			"it can switch between icosahedral and cubed grids only. To run on the plane, load a planar scenario",
+			"it can switch between sphere grids only (icosahedral, cubed). To run on the plane, load a planar scenario",
 			kind, cfg.Initial.Case)
 	}
 	return refuse("grid.kind", kind, "grid.kind = %q: this run is on the plane (initial case %q is written for it); "+
@@ -80,12 +83,12 @@ func resolutionRange(kind string, n, nmax int) *cmdError {
 	if n >= nmin && n <= nmax {
 		return nil
 	}
-	switch mesh.Kind(kind) {
-	case mesh.Icosahedral:
+	switch kind {
+	case string(mesh.Icosahedral):
 		return refuse("grid.n", strconv.Itoa(n), "grid.n = %d: allowed icosahedral levels for a live run: %d ≤ n ≤ %d (level n has 10·4ⁿ+2 cells, at most %d in a live run)",
 			n, nmin, nmax, MaxLiveCells)
-	case mesh.Cubed:
-		return refuse("grid.n", strconv.Itoa(n), "grid.n = %d: allowed cubed-sphere resolutions for a live run: %d ≤ n ≤ %d cells along a cube edge (6n² cells, at most %d in a live run)",
+	case string(mesh.Cubed):
+		return refuse("grid.n", strconv.Itoa(n), "grid.n = %d: allowed cells along a cube edge for a live run: %d ≤ n ≤ %d (the cubed sphere has 6n² cells, at most %d in a live run)",
 			n, nmin, nmax, MaxLiveCells)
 	}
 	even := ""
@@ -109,8 +112,8 @@ func nMinByKind() map[string]int {
 	return m
 }
 
-// optimizeName is grid.optimize for people: "none" when unset. Planar grids
-// are never optimised.
+// optimizeName is grid.optimize for people: "none" when unset. Only
+// icosahedral grids are optimised.
 func optimizeName(opt string) string {
 	if opt == "" {
 		return mesh.OptimizeNone

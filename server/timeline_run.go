@@ -9,7 +9,6 @@ import (
 
 	"gyrebench/scenarios/timelines"
 	"gyrebench/sim"
-	"gyrebench/sim/mesh"
 	"gyrebench/sim/timeline"
 )
 
@@ -98,6 +97,11 @@ func (r *Run) applyRecorded(m clientMsg) error {
 		if changed {
 			r.record(timeline.Event{Cmd: timeline.SetScheme, Scheme: cfg.Scheme.Name})
 		}
+	case "set-hodge":
+		changed = hodgeName(cfg.Scheme.Hodge) != hodgeName(b.cfg.Scheme.Hodge)
+		if changed {
+			r.record(timeline.Event{Cmd: timeline.SetHodge, Hodge: hodgeName(cfg.Scheme.Hodge)})
+		}
 	case "set-integrator":
 		changed = cfg.Time.Integrator != b.cfg.Time.Integrator
 		if changed {
@@ -113,7 +117,7 @@ func (r *Run) applyRecorded(m clientMsg) error {
 			optimizeName(cfg.Grid.Optimize) != optimizeName(b.cfg.Grid.Optimize)
 		if changed {
 			e := timeline.Event{Cmd: timeline.SetGrid, Kind: cfg.Grid.Kind, N: cfg.Grid.N}
-			if mesh.Kind(cfg.Grid.Kind) == mesh.Icosahedral {
+			if cfg.Grid.Kind == "icosahedral" { // the only family with grid.optimize
 				e.Optimize = optimizeName(cfg.Grid.Optimize)
 			}
 			r.record(e)
@@ -276,8 +280,7 @@ func liveLimits(tl *timeline.Timeline) error {
 			return fmt.Errorf("event %d of %d: kind = %q: not a grid the workbench can switch to; allowed: %s", i+1, len(tl.Events), e.Kind, strings.Join(gridKinds, ", "))
 		}
 		cfg := tl.Config
-		cfg.Grid.SetKind(e.Kind)
-		cfg.Grid.N = e.N
+		cfg.Grid.Kind, cfg.Grid.N = e.Kind, e.N
 		if c, err := cfg.MeshSpec().Cells(); err == nil && c > MaxLiveCells {
 			return fmt.Errorf("event %d of %d: grid %s n = %d has %d cells, more than a live run allows (%d)", i+1, len(tl.Events), e.Kind, e.N, c, MaxLiveCells)
 		}
@@ -312,7 +315,7 @@ func (r *Run) replayBeforeStep() bool {
 	}
 	for e := p.Next(r.m); e != nil; e = p.Next(r.m) {
 		switch e.Cmd {
-		case timeline.SetScheme, timeline.SetIntegrator, timeline.SetDt, timeline.SetGrid:
+		case timeline.SetScheme, timeline.SetHodge, timeline.SetIntegrator, timeline.SetDt, timeline.SetGrid:
 			// Through the user's own command path: the same validation,
 			// the same Model calls, the same markers and messages.
 			msg := clientMsg{Cmd: string(e.Cmd), Value: eventValue(*e)}
@@ -375,6 +378,8 @@ func eventValue(e timeline.Event) json.RawMessage {
 	switch e.Cmd {
 	case timeline.SetScheme:
 		return mustJSON(e.Scheme)
+	case timeline.SetHodge:
+		return mustJSON(e.Hodge)
 	case timeline.SetIntegrator:
 		return mustJSON(e.Integrator)
 	case timeline.SetDt:

@@ -8,6 +8,7 @@ import { FieldView } from './fieldview.js';
 import { SphereView, PROJECTIONS } from './globe.js';
 import { LinearPanel } from './linearpanel.js';
 import { SeriesPlot } from './seriesplot.js';
+import { StructurePanel } from './structurepanel.js';
 import { TimelinePanel } from './timeline.js';
 import { drawColourBar, mapFor } from './colour.js';
 import { fmtClock, fmtNum } from './format.js';
@@ -45,6 +46,10 @@ const linear = new LinearPanel({
 });
 const plot = new SeriesPlot(el.plot);
 const timeline = new TimelinePanel(send, showMessage); // record, mark, replay (timeline.js)
+const structure = new StructurePanel({
+  panel: $('structure-panel'), caption: $('structure-caption'), verdicts: $('structure-verdicts'),
+  measures: $('structure-measures'), hodge: $('hodge-select'), hint: $('hodge-hint'),
+}, send); // the Hodge star and the structure report (structurepanel.js)
 
 const st = {
   ws: null, retry: 500, fields: [], config: null, status: null, geometry: null,
@@ -64,6 +69,7 @@ function connect() {
   ws.onopen = () => {
     st.retry = 500;
     send('linear'); // the stable-Δt prediction and the dispersion diagram
+    send('structure'); // the structure report
   };
   ws.onmessage = (ev) => {
     if (typeof ev.data === 'string') onJSON(JSON.parse(ev.data));
@@ -117,6 +123,9 @@ function onJSON(m) {
     case 'dispersion':
       linear.onDispersion(m);
       break;
+    case 'structure':
+      structure.onStructure(m);
+      break;
     case 'warning':
       linear.onWarning(m);
       break;
@@ -161,12 +170,24 @@ function onBinary(buf) {
     view.setGeometry(msg);
     st.range = null;
     el.canvas.dataset.grid = st.config ? `${st.config.grid.kind} ${st.config.grid.n}` : '';
+    el.canvas.dataset.cellCorners = cornerRange(msg.polys[0]); // "4" on the cubed sphere, "5–6" icosahedral
     return;
   }
   if (!st.geometry || msg.gen !== st.geometry.gen) return; // a frame of a grid just replaced
   st.skipped += msg.skipped;
   st.frame = msg;
   schedule('field');
+}
+
+// cornerRange writes the fewest and most corners of the polygons p.
+function cornerRange(p) {
+  let lo = Infinity, hi = 0;
+  for (let i = 0; i < p.n; i++) {
+    const k = p.start[i + 1] - p.start[i];
+    lo = Math.min(lo, k);
+    hi = Math.max(hi, k);
+  }
+  return lo === hi ? String(lo) : `${lo}–${hi}`;
 }
 
 // ---- drawing ------------------------------------------------------------
@@ -293,18 +314,19 @@ function showConfig() {
   const nmin = (c.limits.n_min_kind && c.limits.n_min_kind[c.grid.kind]) || c.limits.n_min;
   const icosahedral = c.grid.kind === 'icosahedral';
   el.optimizeBox.hidden = !icosahedral;
-  if (icosahedral) {
+  if (c.grid.kind === 'cubed') {
+    el.nLabel.textContent = 'Cells along a cube edge n';
+    el.gridHint.textContent = `${c.grid.cells} cells (6n²) · n from ${nmin} to ${nmax}`;
+  } else if (c.grid.sphere) {
     el.optimize.value = c.grid.optimize;
     el.nLabel.textContent = 'Refinement level n';
     el.gridHint.textContent = `${c.grid.cells} cells (10·4ⁿ+2) · levels ${nmin} to ${nmax}`;
-  } else if (c.grid.kind === 'cubed') {
-    el.nLabel.textContent = 'Cells per cube edge n';
-    el.gridHint.textContent = `${c.grid.cells} cells (6n²) · n from ${nmin} to ${nmax}`;
   } else {
     el.nLabel.textContent = 'Cells per side n';
     el.gridHint.textContent = `${c.grid.cells} cells · n from ${nmin} to ${nmax}${c.grid.kind === 'quad' ? '' : ', even'}`;
   }
   linear.onConfig(c);
+  structure.onConfig(c);
   el.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
   el.canvas.dataset.optimize = icosahedral ? c.grid.optimize : '';
   schedule('field');
@@ -401,9 +423,28 @@ function togglePlay() {
 }
 
 function setGrid() {
+  const c = st.config;
+  if (c && el.grid.value !== c.grid.kind && String(c.grid.n) === el.n.value.trim()) {
+    el.n.value = String(similarN(c.grid.kind, el.grid.value, c.grid.n));
+  }
   const g = { kind: el.grid.value, n: numberOrText(el.n.value) };
   if (g.kind === 'icosahedral') g.optimize = el.optimize.value;
   send('set-grid', g);
+}
+
+// similarN is the resolution of family `to` whose cell count is nearest
+// that of family `from` at n, on a logarithmic scale: icosahedral level L
+// has 10·4ᴸ+2 cells, the cubed sphere 6n²; the planar families share n.
+function similarN(from, to, n) {
+  const cells = (k, m) => (k === 'icosahedral' ? 10 * 4 ** m + 2 : k === 'cubed' ? 6 * m * m : m * m);
+  if (from === to || (from !== 'icosahedral' && from !== 'cubed') || (to !== 'icosahedral' && to !== 'cubed')) return n;
+  const want = Math.log(cells(from, n));
+  let best = 1;
+  for (let m = 1; m <= 1024; m++) {
+    if (Math.abs(Math.log(cells(to, m)) - want) < Math.abs(Math.log(cells(to, best)) - want)) best = m;
+    if (to === 'icosahedral' && m >= 12) break;
+  }
+  return best;
 }
 
 function nextField() {

@@ -16,6 +16,8 @@
 //     the same values as custom properties).
 //   - format.js: numbers and times for people.
 //   - timeline.js: saving, loading and replaying recorded timelines.
+//   - structurepanel.js, structure.css: the Hodge-star choice and the
+//     structure report of the current grid and scheme.
 //   - pair.js, pairplot.js, compare.css: the lockstep pair page (A, B and
 //     A − B on one view, both runs' invariants on one plot).
 //   - sweep.js, sweep.css: the sweep pages (the form, the progress

@@ -89,6 +89,16 @@ type msg struct {
 	Enstrophy float64 `json:"enstrophy"`
 	MassAbs   float64 `json:"mass_abs"`
 
+	Hodge string `json:"hodge"` // config
+
+	// history: the server's series of points and its markers.
+	Points []struct {
+		Mass *float64 `json:"mass"`
+	} `json:"points"`
+	Markers []struct {
+		Label string `json:"label"`
+	} `json:"markers"`
+
 	bin *frameHdr
 }
 

@@ -1,6 +1,6 @@
 // Package timeline records, writes, reads and replays what was done to a
 // run: the fully resolved scenario it started from plus the ordered list
-// of events (scheme, integrator, Δt and grid changes, rewinds, blow-ups,
+// of events (scheme, Hodge star, integrator, Δt and grid changes, rewinds, blow-ups,
 // marked moments) with the step count at which each applied.
 //
 // # Exactness
@@ -8,7 +8,7 @@
 // Steps are exact; times are for people. A replay applies each event when
 // the model's step count reaches the event's step, by calling the same
 // sim.Model methods in the same order as the live run did (SetScheme,
-// SetIntegrator, SetDt, Regrid, SetState, a Step that fails), so its state
+// SetHodge, SetIntegrator, SetDt, Regrid, SetState, a Step that fails), so its state
 // at every event is bit for bit the live run's. Changing a choice to the
 // value already in effect calls nothing, live and in replay. Play and
 // pause are recorded for the record and change nothing.
@@ -61,6 +61,8 @@
 // cmd with its own keys:
 //
 //	set-scheme      scheme = NAME
+//	set-hodge       hodge = "consistent" | "diagonal" (scheme.hodge: the edge
+//	                Hodge star; the two differ where the dual is not orthogonal)
 //	set-integrator  integrator = NAME
 //	set-dt          dt = SECONDS
 //	set-grid        kind = KIND, n = N, optimize = "none" | "lloyd" (optional,

@@ -75,6 +75,7 @@ type fileHead struct {
 // keysOf lists the keys each command takes besides step, time and cmd.
 var keysOf = map[Cmd][]string{
 	SetScheme:     {"scheme"},
+	SetHodge:      {"hodge"},
 	SetIntegrator: {"integrator"},
 	SetDt:         {"dt"},
 	SetGrid:       {"kind", "n", "optimize"},
@@ -235,6 +236,8 @@ func event(raw map[string]any, index, total, line int) (Event, error) {
 	switch e.Cmd {
 	case SetScheme:
 		e.Scheme = str("scheme")
+	case SetHodge:
+		e.Hodge = str("hodge")
 	case SetIntegrator:
 		e.Integrator = str("integrator")
 	case SetDt:

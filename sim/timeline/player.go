@@ -81,6 +81,8 @@ func (p *Player) Apply(m *sim.Model) (Applied, error) {
 		switch e.Cmd {
 		case SetScheme:
 			err = m.SetScheme(e.Scheme)
+		case SetHodge:
+			err = m.SetHodge(e.Hodge)
 		case SetIntegrator:
 			err = m.SetIntegrator(e.Integrator)
 		case SetDt:

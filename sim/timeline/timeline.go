@@ -11,6 +11,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/scenario"
+	"gyrebench/sim/scheme"
 )
 
 // Version is the timeline file format version written and read.
@@ -22,6 +23,7 @@ type Cmd string
 // Commands.
 const (
 	SetScheme     Cmd = "set-scheme"
+	SetHodge      Cmd = "set-hodge"
 	SetIntegrator Cmd = "set-integrator"
 	SetDt         Cmd = "set-dt"
 	SetGrid       Cmd = "set-grid"
@@ -33,7 +35,7 @@ const (
 )
 
 // Cmds lists the commands, in the order messages name them.
-var Cmds = []Cmd{SetScheme, SetIntegrator, SetDt, SetGrid, Mark, Rewind, BlowUp, Play, Pause}
+var Cmds = []Cmd{SetScheme, SetHodge, SetIntegrator, SetDt, SetGrid, Mark, Rewind, BlowUp, Play, Pause}
 
 // MaxLabel bounds a mark's label, in characters.
 const MaxLabel = 200
@@ -45,6 +47,7 @@ type Event struct {
 	Cmd  Cmd
 
 	Scheme     string  // set-scheme
+	Hodge      string  // set-hodge: scheme.hodge, "consistent" or "diagonal"
 	Integrator string  // set-integrator
 	Dt         float64 // set-dt, s
 	Kind       string  // set-grid
@@ -69,6 +72,8 @@ func (e Event) String() string {
 	switch e.Cmd {
 	case SetScheme:
 		return "scheme: " + e.Scheme
+	case SetHodge:
+		return "Hodge star: " + e.Hodge
 	case SetIntegrator:
 		return "integrator: " + e.Integrator
 	case SetDt:
@@ -93,6 +98,8 @@ func (e Event) Noop(cfg sim.Config) bool {
 	switch e.Cmd {
 	case SetScheme:
 		return e.Scheme == cfg.Scheme.Name
+	case SetHodge:
+		return e.Hodge == hodgeName(cfg.Scheme.Hodge)
 	case SetIntegrator:
 		return e.Integrator == cfg.Time.Integrator
 	case SetDt:
@@ -133,6 +140,8 @@ func (tl *Timeline) Format() []byte {
 		switch e.Cmd {
 		case SetScheme:
 			fmt.Fprintf(&b, "scheme = %s\n", quote(e.Scheme))
+		case SetHodge:
+			fmt.Fprintf(&b, "hodge = %s\n", quote(e.Hodge))
 		case SetIntegrator:
 			fmt.Fprintf(&b, "integrator = %s\n", quote(e.Integrator))
 		case SetDt:
@@ -260,6 +269,11 @@ func (tl *Timeline) validate(lines []int) error {
 		switch e.Cmd {
 		case SetScheme:
 			try.Scheme.Name = e.Scheme
+		case SetHodge:
+			if e.Hodge == "" {
+				return fail("hodge", "hodge = \"\": allowed: %s", hodgeList())
+			}
+			try.Scheme.Hodge = e.Hodge
 		case SetIntegrator:
 			try.Time.Integrator = e.Integrator
 		case SetDt:
@@ -296,7 +310,7 @@ func (tl *Timeline) validate(lines []int) error {
 			}
 		}
 		switch e.Cmd {
-		case SetScheme, SetIntegrator, SetDt, SetGrid:
+		case SetScheme, SetHodge, SetIntegrator, SetDt, SetGrid:
 			if err := try.Validate(); err != nil {
 				return fail(fieldOf(e.Cmd, err), "%v", err)
 			}
@@ -321,6 +335,8 @@ func fieldOf(c Cmd, err error) string {
 	switch c {
 	case SetScheme:
 		return "scheme"
+	case SetHodge:
+		return "hodge"
 	case SetIntegrator:
 		return "integrator"
 	case SetDt:
@@ -362,6 +378,16 @@ func kindList() string {
 	}
 	return strings.Join(s, ", ")
 }
+
+// hodgeName is scheme.hodge with the default spelled out.
+func hodgeName(h string) string {
+	if h == "" {
+		return scheme.HodgeConsistent
+	}
+	return h
+}
+
+func hodgeList() string { return strings.Join(scheme.HodgeNames, ", ") }
 
 // optimizeName is grid.optimize with the default spelled out.
 func optimizeName(opt string) string {
