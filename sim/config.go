@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"gyrebench/sim/cases"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/scheme"
 	"gyrebench/sim/step"
@@ -52,6 +53,16 @@ type PhysicsConfig struct {
 type SchemeConfig struct {
 	Name       string
 	APVMFactor float64 // c of apvm; 0 = default 1/2
+	// Explicit dissipation added to ∂u/∂t after the scheme (package
+	// dissip); all zero by default, which changes nothing.
+	Viscosity         float64 // ν₂, m² s⁻¹
+	Hyperviscosity    float64 // ν₄, m⁴ s⁻¹
+	DivergenceDamping float64 // ν_δ, m² s⁻¹
+}
+
+// Dissipation returns the dissipation coefficients of the scheme section.
+func (s SchemeConfig) Dissipation() dissip.Coefficients {
+	return dissip.Coefficients{Viscosity: s.Viscosity, Hyperviscosity: s.Hyperviscosity, DivergenceDamping: s.DivergenceDamping}
 }
 
 // TimeConfig chooses the integrator and the time span.
@@ -138,6 +149,9 @@ func (c *Config) Validate() error {
 	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind != string(mesh.Quad) {
 		return fmt.Errorf("scheme.name = %q is available on grid.kind = \"quad\" only; on %q use one of: %s",
 			c.Scheme.Name, c.Grid.Kind, strings.Join(scheme.Anywhere(), ", "))
+	}
+	if err := c.Scheme.Dissipation().Validate(); err != nil {
+		return err
 	}
 	if c.Scheme.APVMFactor < 0 {
 		return fmt.Errorf("scheme.apvm_factor = %g: must be ≥ 0", c.Scheme.APVMFactor)

@@ -22,6 +22,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/atomicfile"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/ncout"
 	"gyrebench/sim/scenario"
 )
@@ -85,6 +86,26 @@ type Summary struct {
 	L1H                *float64    `json:"l1_h,omitempty"`
 	L2H                *float64    `json:"l2_h,omitempty"`
 	LInfH              *float64    `json:"linf_h,omitempty"`
+
+	// The explicit dissipation at the end of the run (scenario keys
+	// scheme.viscosity, scheme.hyperviscosity, scheme.divergence_damping).
+	Viscosity         float64 `json:"viscosity_m2_s"`
+	Hyperviscosity    float64 `json:"hyperviscosity_m4_s"`
+	DivergenceDamping float64 `json:"divergence_damping_m2_s"`
+	// Budget holds the time integrals of the budget columns of series.csv
+	// (package dissip's Ledger): the change of energy (m⁵ s⁻²) and
+	// potential enstrophy (m s⁻²) from the start, split by cause.
+	Budget BudgetIntegrals `json:"budget_integrals"`
+}
+
+// BudgetIntegrals are the time integrals of the budget rates.
+type BudgetIntegrals struct {
+	EnergyScheme         float64 `json:"energy_scheme"`
+	EnergyDissipation    float64 `json:"energy_dissipation"`
+	EnergyResidual       float64 `json:"energy_residual"`
+	EnstrophyScheme      float64 `json:"enstrophy_scheme"`
+	EnstrophyDissipation float64 `json:"enstrophy_dissipation"`
+	EnstrophyResidual    float64 `json:"enstrophy_residual"`
 }
 
 // BlowUpInfo says where and when a run blew up.
@@ -107,6 +128,11 @@ var SeriesColumns = []string{
 	"h_min", "h_max", "courant_max",
 	"circulation", "circulation_rel_drift", "courant_advective", "max_speed",
 	"l1_h", "l2_h", "linf_h",
+	// The budget of each output interval (package dissip's Ledger): the
+	// scheme's own term, the explicit dissipation and the time-stepping
+	// residual of dE/dt and dZ/dt.
+	"energy_rate_scheme", "energy_rate_dissipation", "energy_rate_residual",
+	"enstrophy_rate_scheme", "enstrophy_rate_dissipation", "enstrophy_rate_residual",
 }
 
 // Run validates cfg, runs it to its duration and writes the files. It
@@ -152,6 +178,8 @@ type runner struct {
 	series   bytes.Buffer
 	rowSteps []int64 // the step of each series row
 	rowEnds  []int   // the end of each row in series
+	ledger   dissip.Ledger
+	ledgers  []dissip.Ledger // the ledger after each row, for rewinds
 	snapFile *atomicfile.File
 	snaps    *ncout.Snapshots
 	snapZeta []float64
@@ -236,6 +264,7 @@ func (r *runner) schedule(s Schedule) (bool, error) {
 	if k < len(r.rowSteps) { // k ≥ 1: the row of step 0 always stays
 		r.series.Truncate(r.rowEnds[k-1])
 		r.rowSteps, r.rowEnds = r.rowSteps[:k], r.rowEnds[:k]
+		r.ledger, r.ledgers = r.ledgers[k-1], r.ledgers[:k]
 	}
 	return end, err
 }
@@ -278,8 +307,13 @@ func (r *runner) record() error {
 	} else {
 		row = append(row, "", "", "")
 	}
+	b := r.ledger.Record(m.Time(), inv.Energy, inv.PotentialEnstrophy, m.Rates())
+	for _, v := range []float64{b.EnergyScheme, b.EnergyDissipation, b.EnergyResidual, b.EnstrophyScheme, b.EnstrophyDissipation, b.EnstrophyResidual} {
+		row = append(row, fmtFloat(v))
+	}
 	r.series.WriteString(strings.Join(row, ",") + "\n")
 	r.rowSteps, r.rowEnds = append(r.rowSteps, m.Steps()), append(r.rowEnds, r.series.Len())
+	r.ledgers = append(r.ledgers, r.ledger)
 	if r.snaps != nil {
 		m.Diagnostics().Vorticity(r.snapZeta, nil, m.State())
 		if err := r.snaps.Write(m.Time(), m.Depth(), m.Velocity(), r.snapZeta); err != nil {
@@ -423,6 +457,9 @@ func (r *runner) makeSummary(runErr error) *Summary {
 		EnstrophyRelDrift: diag.RelDrift(inv.PotentialEnstrophy, ini.PotentialEnstrophy),
 		HMin:              inv.HMin, HMax: inv.HMax, CourantMax: inv.CourantGravity,
 		Interrupted: errors.Is(runErr, ErrInterrupted),
+
+		Viscosity: c.Scheme.Viscosity, Hyperviscosity: c.Scheme.Hyperviscosity, DivergenceDamping: c.Scheme.DivergenceDamping,
+		Budget: BudgetIntegrals(r.ledger.Integrated),
 	}
 	var bu *sim.BlowUpError
 	if errors.As(runErr, &bu) {
