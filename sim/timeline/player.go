@@ -85,6 +85,8 @@ func (p *Player) Apply(m *sim.Model) (Applied, error) {
 			err = m.SetIntegrator(e.Integrator)
 		case SetDt:
 			err = m.SetDt(e.Dt)
+		case SetDissipation:
+			err = m.SetDissipation(e.Dissipation)
 		case SetGrid:
 			opt := m.Config().Grid.Optimize
 			if e.Optimize != "" {
