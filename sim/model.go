@@ -305,7 +305,7 @@ func (m *Model) Rates() dissip.Rates {
 // (measured once per model).
 func (m *Model) GridScale() dissip.GridScale {
 	if m.scale == nil {
-		s := dissip.MeasureGridScale(m.grid, m.star())
+		s := dissip.MeasureGridScale(m.grid, m.star(), m.pool.For)
 		m.scale = &s
 	}
 	return *m.scale

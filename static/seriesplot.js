@@ -36,11 +36,14 @@ const PANELS = [
 
 const MARKER_COLOURS = {
   scheme: '#c7a3ff', integrator: '#ffd166', dt: '#7bdff2', grid: '#ff8f6b', rewind: '#b0b7c0',
+  dissipation: '#ff9ecf',
 };
 
 export class SeriesPlot {
-  constructor(canvas) {
+  // panels replaces the invariant panels (the budget plot has its own).
+  constructor(canvas, panels = PANELS) {
     this.canvas = canvas;
+    this.panels = panels;
     this.points = [];
     this.markers = [];
     this.log = true;
@@ -102,11 +105,12 @@ export class SeriesPlot {
     if (!(t1 > t0)) t1 = t0 + 1;
     const plotW = W - left - right;
     const X = (t) => left + ((t - t0) / (t1 - t0)) * plotW;
-    const totalWeight = PANELS.reduce((a, p) => a + p.weight, 0);
-    const avail = H - top - bottom - gap * (PANELS.length - 1);
+    const panels = this.panels;
+    const totalWeight = panels.reduce((a, p) => a + p.weight, 0);
+    const avail = H - top - bottom - gap * (panels.length - 1);
     let y = top;
     const boxes = [];
-    for (const panel of PANELS) {
+    for (const panel of panels) {
       const h = (avail * panel.weight) / totalWeight;
       boxes.push([y, h]);
       this.drawPanel(ctx, panel, left, y, plotW, h, X, fs);
