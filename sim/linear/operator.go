@@ -27,7 +27,7 @@ type Operator struct {
 	sch    scheme.Scheme
 	dis    *dissip.Operator // the run's explicit dissipation; nil for none
 	scale  dissip.GridScale // of the dissipation's Laplacian, when dis != nil
-	fv     []float64 // Coriolis parameter at vertices
+	fv     []float64        // Coriolis parameter at vertices
 	depth  float64
 	g      float64
 	nc, ne int
