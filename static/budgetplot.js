@@ -27,7 +27,7 @@ export const BUDGET_PANELS = [
 ];
 
 // BudgetPlot also writes, for tests and for people who read the page's
-// attributes, the series it holds and the latest dissipation rate.
+// attributes, the series it holds and the latest dissipation rates.
 export class BudgetPlot extends SeriesPlot {
   constructor(canvas) { super(canvas, BUDGET_PANELS); }
 
@@ -36,6 +36,8 @@ export class BudgetPlot extends SeriesPlot {
     const last = this.points[this.points.length - 1];
     this.canvas.dataset.series = BUDGET_PANELS.flatMap((p) => p.series.map((s) => s.key)).join(' ');
     this.canvas.dataset.points = String(this.points.length);
-    this.canvas.dataset.energyRateDissipation = last && last.energy_rate_dissipation !== null ? String(last.energy_rate_dissipation) : '';
+    const shown = (v) => (v === null || v === undefined ? '' : String(v));
+    this.canvas.dataset.energyRateDissipation = last ? shown(last.energy_rate_dissipation) : '';
+    this.canvas.dataset.enstrophyRateDissipation = last ? shown(last.enstrophy_rate_dissipation) : '';
   }
 }
