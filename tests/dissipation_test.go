@@ -1,6 +1,8 @@
 package tests
 
 import (
+	"math"
+	"net/url"
 	"strings"
 	"testing"
 	"time"
@@ -8,6 +10,7 @@ import (
 	"github.com/coder/websocket"
 
 	"gyrebench/server"
+	"gyrebench/sim/scenario"
 )
 
 // Bad set-dissipation commands are refused naming the coefficient, the
@@ -53,5 +56,36 @@ func TestDissipationCommand(t *testing.T) {
 	})
 	if mark.Kind != "dissipation" || !strings.Contains(mark.Label, "ν₄ = 1e+14") {
 		t.Errorf("marker %+v, want kind dissipation labelled with ν₄", mark)
+	}
+}
+
+// In a pair, set-dissipation changes the side it names: after it and N
+// lockstep steps, side B is bit for bit a solo run that had the
+// hyperviscosity from the start, and side A the inviscid run.
+func TestPairDissipationSide(t *testing.T) {
+	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
+	id := startPair(t, base, url.Values{"base": {"run:1"}})
+	pc := dialPair(t, base, id)
+	pc.must("b", "set-dissipation", map[string]any{"hyperviscosity": 1e14}, nil)
+	const n = 12
+	for i := 0; i < n; i++ {
+		pc.must("", "step", nil, nil)
+	}
+	sc, err := scenario.Parse([]byte(eddies), "eddies")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, side := range []string{"a", "b"} {
+		cfg := sc.Config
+		if i == 1 {
+			cfg.Scheme.Hyperviscosity = 1e14
+		}
+		want, _ := soloState(t, cfg, n)
+		got := stateOf(t, get(t, base+"/pair/"+id+"/"+side+"/final.nc"))
+		for k := range got {
+			if math.Float64bits(got[k]) != math.Float64bits(want[k]) {
+				t.Fatalf("side %s after %d steps: state[%d] = %.17g, the solo run (ν₄ = %g) has %.17g", side, n, k, got[k], cfg.Scheme.Hyperviscosity, want[k])
+			}
+		}
 	}
 }
