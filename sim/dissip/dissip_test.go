@@ -65,3 +65,42 @@ func TestLedgerTelescopes(t *testing.T) {
 		t.Errorf("enstrophy integrals sum to %g, change %g", got, 2*(e[3]-e[0]))
 	}
 }
+
+// Add allocates nothing, and its result does not depend on how the loops
+// are split (each element is computed in one place).
+func TestAddAllocatesNothingAndIgnoresSplit(t *testing.T) {
+	m, err := mesh.New(mesh.Spec{Kind: mesh.Hex, N: 16, Length: 1e6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := ops.Grid{Topology: &m.Topology, Metric: &m.Metric}
+	c := Coefficients{Viscosity: 1e3, Hyperviscosity: 1e13, DivergenceDamping: 1e4}
+	chunks := func(n int, body func(lo, hi int)) {
+		for lo := 0; lo < n; lo += 7 {
+			body(lo, min(lo+7, n))
+		}
+	}
+	whole, err := New(g, g.DiagonalHodge(), c, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	split, err := New(g, g.DiagonalHodge(), c, chunks)
+	if err != nil {
+		t.Fatal(err)
+	}
+	u := make([]float64, m.NumEdges)
+	for e := range u {
+		u[e] = math.Sin(float64(e) * 0.37)
+	}
+	a, b := make([]float64, len(u)), make([]float64, len(u))
+	whole.Add(a, u)
+	split.Add(b, u)
+	for e := range a {
+		if math.Float64bits(a[e]) != math.Float64bits(b[e]) {
+			t.Fatalf("edge %d: %v in one piece, %v in chunks of 7", e, a[e], b[e])
+		}
+	}
+	if n := testing.AllocsPerRun(10, func() { whole.Add(a, u) }); n != 0 {
+		t.Errorf("Add allocates %v times per call", n)
+	}
+}
