@@ -106,10 +106,9 @@ var pointwiseNone = math.Inf(-1)
 // circulation (or flux) sum over a triangle is only first-order accurate,
 // with opposite signs on up- and down-pointing triangles, and its
 // difference across an edge divided by the edge length leaves an O(1)
-// grid-scale error. That is the behaviour of this form of the C-grid
-// Laplacian on triangle-based duals (the weak-form consistency argument
-// of Ringler et al. 2010 concerns the inner product, not pointwise
-// values: from memory). What does converge, at second order, is the weak
+// grid-scale error. That is a property of this form of the C-grid
+// Laplacian wherever triangles carry δ or ζ, measured here, not a defect
+// of one grid. What does converge, at second order, is the weak
 // form ⟨u, ∇²u⟩ in the energy inner product Σ l_e d_e, which is what
 // the dissipation of energy and enstrophy depends on; the test asserts
 // that on every grid and the pointwise orders on the quad grid.
