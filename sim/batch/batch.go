@@ -118,6 +118,10 @@ type BlowUpInfo struct {
 	Message string  `json:"message"`
 }
 
+// BudgetSamples is the number of times per output interval that a run
+// samples the budget's instantaneous rates (dissip.Ledger.Sample).
+const BudgetSamples = 8
+
 // ErrInterrupted is returned, wrapped, when the context ended the run.
 var ErrInterrupted = errors.New("run interrupted")
 
@@ -192,6 +196,10 @@ func (r *runner) loop(ctx context.Context) error {
 	dt := r.cfg.Time.Dt
 	total := int64(math.Round(r.cfg.Time.Duration / dt))
 	every := max(int64(math.Round(r.cfg.Output.Every/dt)), 1)
+	// The budget's rates are sampled BudgetSamples times per output
+	// interval (one scheme tendency each), so that the trapezoid rule's
+	// error in the interval means stays small beside the time stepper's.
+	sample := max(every/BudgetSamples, 1)
 	r.series.WriteString(strings.Join(SeriesColumns, ",") + "\n")
 	if err := r.record(); err != nil {
 		return err
@@ -227,6 +235,8 @@ func (r *runner) loop(ctx context.Context) error {
 			if err := r.record(); err != nil {
 				return err
 			}
+		} else if m.Steps()%sample == 0 {
+			r.ledger.Sample(m.Time(), m.Rates())
 		}
 		if r.opt.Progress != nil {
 			if now := time.Now(); now.Sub(lastShown) > 200*time.Millisecond || m.Steps() == total {
@@ -326,7 +336,7 @@ func (r *runner) record() error {
 func fmtFloat(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 
 func meta(cfg sim.Config) ncout.Meta {
-	return ncout.Meta{
+	m := ncout.Meta{
 		Title:  cfg.Title,
 		Source: "gyrebench " + cfg.Scheme.Name + " / " + cfg.Time.Integrator,
 		Attrs: []ncout.Attr{
@@ -335,6 +345,20 @@ func meta(cfg sim.Config) ncout.Meta {
 			{Name: "gyrebench_case", Value: cfg.Initial.Case},
 		},
 	}
+	// The dissipation, when on, in m2 s-1 and m4 s-1.
+	for _, a := range []struct {
+		name string
+		v    float64
+	}{
+		{"gyrebench_viscosity", cfg.Scheme.Viscosity},
+		{"gyrebench_hyperviscosity", cfg.Scheme.Hyperviscosity},
+		{"gyrebench_divergence_damping", cfg.Scheme.DivergenceDamping},
+	} {
+		if a.v != 0 {
+			m.Attrs = append(m.Attrs, ncout.Attr{Name: a.name, Value: a.v})
+		}
+	}
+	return m
 }
 
 func (r *runner) openSnapshots() error {

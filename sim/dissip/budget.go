@@ -97,51 +97,72 @@ type Row struct {
 	EnstrophyScheme, EnstrophyDissipation, EnstrophyResidual float64
 }
 
-// Ledger turns the instantaneous rates at successive output times
-// t_{n−1} < t_n into the budget of each output interval:
+// Ledger turns instantaneous rates, sampled along a run, into the budget
+// of each output interval [t₀, t₁]:
 //
-//	scheme_n      = ½ (a(t_{n−1}) + a(t_n))          (trapezoid mean)
-//	dissipation_n = ½ (b(t_{n−1}) + b(t_n))
-//	residual_n    = (E(t_n) − E(t_{n−1}))/(t_n − t_{n−1}) − scheme_n − dissipation_n
+//	scheme      = (1/(t₁ − t₀)) ∫ a dt,   dissipation = (1/(t₁ − t₀)) ∫ b dt,
+//	residual    = (E(t₁) − E(t₀))/(t₁ − t₀) − scheme − dissipation,
 //
-// and likewise for Z. The residual is what the time stepper adds or
-// removes beyond the semi-discrete rates, plus the trapezoid rule's own
-// error O((t_n − t_{n−1})²) in the interval means; coefficient or scheme
-// changes inside an interval are judged at its ends only. The first
-// output time has no interval: its row holds the instantaneous rates and
-// a zero residual. The totals are the time integrals (Σ row × interval),
-// so that E(t_n) − E(t_0) = ∫scheme + ∫dissipation + ∫residual exactly.
+// and likewise for Z, with a and b the scheme's and the dissipation's
+// instantaneous rates (Rates) and the integrals taken by the trapezoid rule
+// over the samples: the two output times and any Sample in between. The
+// residual is what the time stepper adds or removes beyond the
+// semi-discrete rates, plus the trapezoid rule's own error, of order
+// h²·(t₁ − t₀)·max|b''|/12 for samples h apart (sample densely where the
+// rates change fast, as after turning dissipation on); coefficient or
+// scheme changes between samples are judged at the samples only. The
+// first output time has no interval: its row holds the instantaneous
+// rates and a zero residual. The totals are the time integrals, so that
+// E(t_n) − E(t_0) = ∫scheme + ∫dissipation + ∫residual exactly.
 type Ledger struct {
 	have       bool
-	t, e, z    float64
-	last       Rates
-	Integrated Row // time integrals: m⁵ s⁻² for energy, m s⁻² for enstrophy
+	t, e, z    float64 // the interval's start: time, energy, enstrophy
+	ts         float64 // the latest sample's time
+	last       Rates   // and its rates
+	acc        Row     // ∫ a dt and ∫ b dt since t (scheme and dissipation fields only)
+	Integrated Row     // time integrals: m⁵ s⁻² for energy, m s⁻² for enstrophy
 }
 
-// Record adds the output time t with energy e, potential enstrophy z and
-// the instantaneous rates r, and returns its row.
+// Sample adds the rates r at time t inside the current interval. A sample
+// before any Record, or not after the latest one, is ignored.
+func (l *Ledger) Sample(t float64, r Rates) {
+	if !l.have || t <= l.ts {
+		return
+	}
+	h := t - l.ts
+	l.acc.EnergyScheme += 0.5 * h * (l.last.EnergyScheme + r.EnergyScheme)
+	l.acc.EnergyDissipation += 0.5 * h * (l.last.EnergyDissipation + r.EnergyDissipation)
+	l.acc.EnstrophyScheme += 0.5 * h * (l.last.EnstrophyScheme + r.EnstrophyScheme)
+	l.acc.EnstrophyDissipation += 0.5 * h * (l.last.EnstrophyDissipation + r.EnstrophyDissipation)
+	l.ts, l.last = t, r
+}
+
+// Record closes the interval at the output time t with energy e,
+// potential enstrophy z and the instantaneous rates r, returns its row
+// and starts the next interval. A time not after the interval's start
+// (the first output, or a run set back) starts afresh.
 func (l *Ledger) Record(t, e, z float64, r Rates) Row {
 	if !l.have || t <= l.t {
-		l.have, l.t, l.e, l.z, l.last = true, t, e, z, r
+		l.have, l.t, l.e, l.z, l.ts, l.last, l.acc = true, t, e, z, t, r, Row{}
 		return Row{EnergyScheme: r.EnergyScheme, EnergyDissipation: r.EnergyDissipation,
 			EnstrophyScheme: r.EnstrophyScheme, EnstrophyDissipation: r.EnstrophyDissipation}
 	}
+	l.Sample(t, r)
 	dt := t - l.t
+	a := l.acc
 	row := Row{
-		EnergyScheme:         0.5 * (l.last.EnergyScheme + r.EnergyScheme),
-		EnergyDissipation:    0.5 * (l.last.EnergyDissipation + r.EnergyDissipation),
-		EnstrophyScheme:      0.5 * (l.last.EnstrophyScheme + r.EnstrophyScheme),
-		EnstrophyDissipation: 0.5 * (l.last.EnstrophyDissipation + r.EnstrophyDissipation),
+		EnergyScheme: a.EnergyScheme / dt, EnergyDissipation: a.EnergyDissipation / dt,
+		EnstrophyScheme: a.EnstrophyScheme / dt, EnstrophyDissipation: a.EnstrophyDissipation / dt,
 	}
 	row.EnergyResidual = (e-l.e)/dt - row.EnergyScheme - row.EnergyDissipation
 	row.EnstrophyResidual = (z-l.z)/dt - row.EnstrophyScheme - row.EnstrophyDissipation
 	in := &l.Integrated
-	in.EnergyScheme += row.EnergyScheme * dt
-	in.EnergyDissipation += row.EnergyDissipation * dt
+	in.EnergyScheme += a.EnergyScheme
+	in.EnergyDissipation += a.EnergyDissipation
 	in.EnergyResidual += row.EnergyResidual * dt
-	in.EnstrophyScheme += row.EnstrophyScheme * dt
-	in.EnstrophyDissipation += row.EnstrophyDissipation * dt
+	in.EnstrophyScheme += a.EnstrophyScheme
+	in.EnstrophyDissipation += a.EnstrophyDissipation
 	in.EnstrophyResidual += row.EnstrophyResidual * dt
-	l.t, l.e, l.z, l.last = t, e, z, r
+	l.t, l.e, l.z, l.ts, l.last, l.acc = t, e, z, t, r, Row{}
 	return row
 }

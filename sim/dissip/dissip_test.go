@@ -55,7 +55,16 @@ func TestLedgerTelescopes(t *testing.T) {
 	var l Ledger
 	e := []float64{10, 9, 8.5, 7}
 	for k, ek := range e {
+		if k > 0 {
+			l.Sample(float64(k)*60-20, Rates{EnergyScheme: 5, EnergyDissipation: -3})
+		}
 		l.Record(float64(k)*60, ek, 2*ek, Rates{EnergyScheme: 1e-3 * float64(k), EnergyDissipation: -1.0 / 60, EnstrophyDissipation: -2.0 / 60})
+	}
+	// ∫ of the constant −1/60 between samples and −3 at the samples at
+	// t = 40, 100, 160: the trapezoid over [0,40,60] gives 40(−1/60 − 3)/2 +
+	// 20(−3 − 1/60)/2 per interval.
+	if want := 3 * (20*(-1.0/60-3) + 10*(-3-1.0/60)); math.Abs(l.Integrated.EnergyDissipation-want) > 1e-12 {
+		t.Errorf("∫ dissipation = %g, want %g", l.Integrated.EnergyDissipation, want)
 	}
 	in := l.Integrated
 	if got := in.EnergyScheme + in.EnergyDissipation + in.EnergyResidual; math.Abs(got-(e[3]-e[0])) > 1e-12 {
