@@ -108,7 +108,7 @@ type Row struct {
 // over the samples: the two output times and any Sample in between. The
 // residual is what the time stepper adds or removes beyond the
 // semi-discrete rates, plus the trapezoid rule's own error, of order
-// h²·(t₁ − t₀)·max|b”|/12 for samples h apart (sample densely where the
+// h²·(t₁ − t₀)·max|d²b/dt²|/12 for samples h apart (sample densely where the
 // rates change fast, as after turning dissipation on); coefficient or
 // scheme changes between samples are judged at the samples only. The
 // first output time has no interval: its row holds the instantaneous
