@@ -213,6 +213,8 @@ func (r *Run) apply(m clientMsg) error {
 		r.afterInstall()
 	case "set-dt":
 		return r.setDt(m.Value)
+	case "set-dissipation":
+		return r.setDissipation(m.Value)
 	case "set-integrator":
 		name, ce := parseString(m.Value, "time.integrator")
 		if ce != nil {

@@ -36,7 +36,11 @@
 // Client to server: JSON text messages {"id": 7, "cmd": "set-dt", "value": 60}.
 // id is optional and echoed in the reply: {"type":"ack"} on success or
 // {"type":"error", "field", "value", "message"} on refusal; a refused
-// command changes nothing.
+// command changes nothing. set-dissipation takes {"viscosity": ν₂,
+// "hyperviscosity": ν₄, "divergence_damping": ν_δ}, any of them (a
+// coefficient left out keeps its value); config carries them under
+// "dissipation" with the grid-scale e-folding time and the hint package
+// dissip writes, and every point its budget (energy_rate_scheme, ...).
 //
 // Server to client, JSON text: hello (names and labels the UI offers),
 // config (the current choices and limits), status (state, steps, time,

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"gyrebench/sim"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/linear"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/step"
@@ -72,10 +73,11 @@ type linKey struct {
 	hodge   string
 	apvm    float64
 	dt      float64 // apvm only
+	dissip  dissip.Coefficients
 }
 
 func keyOf(cfg sim.Config) linKey {
-	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: hodgeName(cfg.Scheme.Hodge), apvm: cfg.Scheme.APVMFactor}
+	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: hodgeName(cfg.Scheme.Hodge), apvm: cfg.Scheme.APVMFactor, dissip: cfg.Scheme.Dissipation()}
 	if cfg.Scheme.Name == "apvm" {
 		k.dt = cfg.Time.Dt
 	}
@@ -83,7 +85,8 @@ func keyOf(cfg sim.Config) linKey {
 }
 
 type stableResult struct {
-	rho     float64 // max|λ|, s⁻¹
+	rho     float64            // max|λ|, s⁻¹
+	limits  map[string]float64 // linear's largest stable Δt per integrator, real parts included
 	seconds float64
 	err     error
 }
@@ -207,8 +210,14 @@ func (p *linPanel) start(r *Run, key linKey, disp bool, work func(context.Contex
 // linear.StableDt does).
 func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
 	t0 := time.Now()
-	rho, err := linear.MaxFrequency(ctx, cfg)
-	res := &stableResult{rho: rho, seconds: time.Since(t0).Seconds(), err: err}
+	an, err := linear.Analyse(ctx, cfg, linear.Options{ExtremeOnly: true})
+	res := &stableResult{seconds: time.Since(t0).Seconds(), err: err}
+	if err == nil {
+		res.rho, res.limits = an.SpectralRadius, map[string]float64{}
+		for _, l := range an.Limits {
+			res.limits[l.Integrator] = l.MaxDt
+		}
+	}
 	return func(r *Run) {
 		if len(r.lin.stable) >= maxLinCache {
 			clear(r.lin.stable)
@@ -239,6 +248,9 @@ func (r *Run) predict() (pred prediction, res *stableResult, ok bool) {
 	pred.limits = map[string]float64{}
 	for _, name := range step.Names {
 		pred.limits[name] = step.ImaginaryAxisLimit(name, step.Options{Asselin: cfg.Time.Asselin}) / res.rho
+		if l, ok := res.limits[name]; ok {
+			pred.limits[name] = l // the analysis's own, with the dissipation's real parts
+		}
 	}
 	pred.dtStable = pred.limits[cfg.Time.Integrator]
 	inv := r.m.Invariants()

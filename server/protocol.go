@@ -33,7 +33,7 @@ type gridValue struct {
 }
 
 // commands lists the client commands, for messages.
-var commands = []string{"play", "pause", "step", "reset", "set-dt", "set-integrator", "set-scheme", "set-hodge", "set-grid", "set-field", "load", "scrub", "linear", "structure", "mark", "replay", "stop-replay"}
+var commands = []string{"play", "pause", "step", "reset", "set-dt", "set-integrator", "set-scheme", "set-hodge", "set-grid", "set-field", "load", "scrub", "linear", "structure", "mark", "replay", "stop-replay", "set-dissipation"}
 
 // num is a float64 that encodes non-finite values as null, which JSON
 // cannot carry otherwise.
@@ -60,13 +60,22 @@ type point struct {
 	CourantAdv num   `json:"courant_adv"`
 	HMin       num   `json:"h_min"`
 	MaxSpeed   num   `json:"max_speed"`
+
+	// The budget of dE/dt and dZ/dt since the previous point (package
+	// dissip's Ledger): the scheme's term, the dissipation, the residual.
+	EnergyRateScheme         num `json:"energy_rate_scheme"`
+	EnergyRateDissipation    num `json:"energy_rate_dissipation"`
+	EnergyRateResidual       num `json:"energy_rate_residual"`
+	EnstrophyRateScheme      num `json:"enstrophy_rate_scheme"`
+	EnstrophyRateDissipation num `json:"enstrophy_rate_dissipation"`
+	EnstrophyRateResidual    num `json:"enstrophy_rate_residual"`
 }
 
 // marker is a labelled mid-run change.
 type marker struct {
 	T     num    `json:"t"`
 	Steps int64  `json:"steps"`
-	Kind  string `json:"kind"` // scheme, integrator, dt, grid, rewind
+	Kind  string `json:"kind"` // scheme, integrator, dt, grid, rewind, dissipation
 	Label string `json:"label"`
 }
 

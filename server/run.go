@@ -10,6 +10,7 @@ import (
 
 	"gyrebench/sim"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/dissip"
 )
 
 // Run states, shown verbatim in the browser's run-state.
@@ -110,6 +111,7 @@ type Run struct {
 	rewound bool // the state was set from the ring and nothing ran since
 
 	ref     diag.Invariants
+	budget  dissip.Ledger // the budget of the series' points
 	series  []point
 	markers []marker
 	ring    ring
@@ -448,7 +450,7 @@ func (r *Run) broadcast(m outMsg) {
 
 func (r *Run) pointNow() point {
 	inv := r.m.Invariants()
-	return point{
+	p := point{
 		T: num(r.m.Time()), Steps: r.m.Steps(),
 		Mass:      num(diag.RelDrift(inv.Mass, r.ref.Mass)),
 		Energy:    num(diag.RelDrift(inv.Energy, r.ref.Energy)),
@@ -456,6 +458,8 @@ func (r *Run) pointNow() point {
 		MassAbs:   num(inv.Mass), Courant: num(inv.CourantGravity), CourantAdv: num(inv.CourantAdvective),
 		HMin: num(inv.HMin), MaxSpeed: num(inv.MaxSpeed),
 	}
+	r.budgetRates(&p, inv.Energy, inv.PotentialEnstrophy)
+	return p
 }
 
 // addPoint appends to the series, thinning it to every other point when it
@@ -584,11 +588,14 @@ func (r *Run) configMsg() outMsg {
 		Dt         num    `json:"dt"`
 		Field      string `json:"field"`
 		Limits     limits `json:"limits"`
+
+		Dissipation dissipationInfo `json:"dissipation"`
 	}{
 		"config", r.scenario, r.title,
 		grid{cfg.Grid.Kind, cfg.Grid.N, msh.Surface.Lx, msh.Surface.Ly, msh.NumCells, msh.NumEdges, msh.NumVertices, msh.Surface.Sphere, optimizeName(cfg.Grid.Optimize), msh.Orthogonal},
 		cfg.Scheme.Name, hodgeName(cfg.Scheme.Hodge), cfg.Time.Integrator, num(cfg.Time.Dt), r.field.Name,
 		limits{DtMax: r.dtMax(), NMax: nmax, NMin: 4, NMinKind: nMinByKind()},
+		r.dissipationInfo(),
 	})}
 }
 

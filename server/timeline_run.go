@@ -112,6 +112,11 @@ func (r *Run) applyRecorded(m clientMsg) error {
 		if changed {
 			r.record(timeline.Event{Cmd: timeline.SetDt, Dt: cfg.Time.Dt})
 		}
+	case "set-dissipation":
+		changed = cfg.Scheme.Dissipation() != b.cfg.Scheme.Dissipation()
+		if changed {
+			r.record(timeline.Event{Cmd: timeline.SetDissipation, Dissipation: cfg.Scheme.Dissipation()})
+		}
 	case "set-grid":
 		changed = cfg.Grid.Kind != b.cfg.Grid.Kind || cfg.Grid.N != b.cfg.Grid.N ||
 			optimizeName(cfg.Grid.Optimize) != optimizeName(b.cfg.Grid.Optimize)
@@ -315,7 +320,7 @@ func (r *Run) replayBeforeStep() bool {
 	}
 	for e := p.Next(r.m); e != nil; e = p.Next(r.m) {
 		switch e.Cmd {
-		case timeline.SetScheme, timeline.SetHodge, timeline.SetIntegrator, timeline.SetDt, timeline.SetGrid:
+		case timeline.SetScheme, timeline.SetHodge, timeline.SetIntegrator, timeline.SetDt, timeline.SetGrid, timeline.SetDissipation:
 			// Through the user's own command path: the same validation,
 			// the same Model calls, the same markers and messages.
 			msg := clientMsg{Cmd: string(e.Cmd), Value: eventValue(*e)}
@@ -384,6 +389,8 @@ func eventValue(e timeline.Event) json.RawMessage {
 		return mustJSON(e.Integrator)
 	case timeline.SetDt:
 		return mustJSON(e.Dt)
+	case timeline.SetDissipation:
+		return eventDissipation(e.Dissipation)
 	}
 	return mustJSON(gridJSON{Kind: e.Kind, N: e.N, Optimize: e.Optimize})
 }

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"gyrebench/sim/cases"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/scheme"
 	"gyrebench/sim/step"
@@ -76,6 +77,16 @@ type SchemeConfig struct {
 	// "" means it too) or scheme.HodgeDiagonal. Both are diag(l/d) on
 	// grids whose dual is orthogonal.
 	Hodge string
+	// Explicit dissipation added to ∂u/∂t after the scheme (package
+	// dissip); all zero by default, which changes nothing.
+	Viscosity         float64 // ν₂, m² s⁻¹
+	Hyperviscosity    float64 // ν₄, m⁴ s⁻¹
+	DivergenceDamping float64 // ν_δ, m² s⁻¹
+}
+
+// Dissipation returns the dissipation coefficients of the scheme section.
+func (s SchemeConfig) Dissipation() dissip.Coefficients {
+	return dissip.Coefficients{Viscosity: s.Viscosity, Hyperviscosity: s.Hyperviscosity, DivergenceDamping: s.DivergenceDamping}
 }
 
 // TimeConfig chooses the integrator and the time span.
@@ -170,6 +181,9 @@ func (c *Config) Validate() error {
 	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind != string(mesh.Quad) {
 		return fmt.Errorf("scheme.name = %q is available on grid.kind = \"quad\" only; on %q use one of: %s",
 			c.Scheme.Name, c.Grid.Kind, strings.Join(scheme.Anywhere(), ", "))
+	}
+	if err := c.Scheme.Dissipation().Validate(); err != nil {
+		return err
 	}
 	if c.Scheme.APVMFactor < 0 {
 		return fmt.Errorf("scheme.apvm_factor = %g: must be ≥ 0", c.Scheme.APVMFactor)

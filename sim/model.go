@@ -8,6 +8,7 @@ import (
 
 	"gyrebench/sim/cases"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/ops"
 	"gyrebench/sim/par"
@@ -34,6 +35,14 @@ type Model struct {
 	// a stage into the tendency's last pass (step.StagedStepper); else nil.
 	staged step.StagedStepper
 	stager step.Stager
+	// dis is the explicit dissipation, nil when every coefficient is zero;
+	// it is added to the scheme's ∂u/∂t and turns the fused stage path
+	// off (stager is nil then).
+	dis *dissip.Operator
+
+	budget       *dissip.Budget // built on first use
+	tendS, tendD []float64      // scratch of Rates
+	scale        *dissip.GridScale
 
 	x     []float64 // state [h | u]
 	good  []float64 // the state before the step in progress, when rewind is nil
@@ -124,6 +133,10 @@ func newModelOn(cfg Config, msh *mesh.Mesh, workers int, state, bottomIn []float
 		workers = AutoWorkers(msh.NumCells)
 	}
 	m.pool = par.New(workers)
+	if err := m.SetDissipation(cfg.Scheme.Dissipation()); err != nil {
+		m.pool.Close()
+		return nil, err
+	}
 	if err := m.setScheme(cfg.Scheme.Name); err != nil {
 		m.pool.Close()
 		return nil, err
@@ -217,10 +230,93 @@ func (m *Model) setScheme(name string) error {
 	}
 	s.SetDt(m.cfg.Time.Dt)
 	m.sch = s
-	m.tend = s.Tendency
-	m.stager, _ = s.(step.Stager)
 	m.cfg.Scheme.Name = name
+	m.wire()
 	return nil
+}
+
+// wire sets the tendency the integrator uses: the scheme's alone when
+// there is no dissipation (so that nothing changes, bit for bit), else the
+// scheme's followed by adding D(u) to ∂u/∂t; the fused stage path has no
+// place for the extra term, so it is used only without dissipation.
+func (m *Model) wire() {
+	s, d, nc := m.sch, m.dis, m.mesh.NumCells
+	if d == nil {
+		m.tend = s.Tendency
+		m.stager, _ = s.(step.Stager)
+		return
+	}
+	m.tend = func(dst, x []float64) {
+		s.Tendency(dst, x)
+		d.Add(dst[nc:], x[nc:])
+	}
+	m.stager = nil
+}
+
+// star is the edge Hodge star the dissipation and its grid scale use: the
+// diagonal one of the orthogonal grids. A general edge Hodge star belongs
+// here once the mesh carries one.
+func (m *Model) star() ops.EdgeHodge { return m.grid.DiagonalHodge() }
+
+// SetDissipation changes the explicit dissipation coefficients; the next
+// step uses them. All zero removes the term.
+func (m *Model) SetDissipation(c dissip.Coefficients) error {
+	if err := c.Validate(); err != nil {
+		return err
+	}
+	if c.Zero() {
+		m.dis = nil
+	} else {
+		d, err := dissip.New(m.grid, m.star(), c, m.pool.For)
+		if err != nil {
+			return err
+		}
+		m.dis = d
+	}
+	m.cfg.Scheme.Viscosity, m.cfg.Scheme.Hyperviscosity, m.cfg.Scheme.DivergenceDamping = c.Viscosity, c.Hyperviscosity, c.DivergenceDamping
+	if m.sch != nil {
+		m.wire()
+	}
+	if m.integ != nil {
+		m.integ.Restart()
+	}
+	return nil
+}
+
+// Dissipation returns the dissipation coefficients in effect.
+func (m *Model) Dissipation() dissip.Coefficients { return m.cfg.Scheme.Dissipation() }
+
+// Tendency sets dst = dx/dt of the current state as the integrator sees
+// it: the scheme's tendency plus the dissipation.
+func (m *Model) Tendency(dst []float64) { m.tend(dst, m.x) }
+
+// Rates returns the instantaneous energy and potential-enstrophy rates of
+// the current state, split into the scheme's term and the dissipation's.
+// It evaluates one scheme tendency.
+func (m *Model) Rates() dissip.Rates {
+	if m.budget == nil {
+		m.budget = dissip.NewBudget(m.grid, m.cfg.Physics.G, m.phys.FVertex, m.phys.Bottom)
+		m.tendS = make([]float64, len(m.x))
+		m.tendD = make([]float64, m.mesh.NumEdges)
+	}
+	m.sch.Tendency(m.tendS, m.x)
+	var d []float64
+	if m.dis != nil {
+		m.dis.Tendency(m.tendD, m.x[m.mesh.NumCells:])
+		d = m.tendD
+	}
+	return m.budget.Rates(m.x, m.tendS, d)
+}
+
+// GridScale returns the grid's spacing and largest discrete wavenumber,
+// for choosing a dissipation coefficient by its grid-scale e-folding time
+// (measured once per model).
+func (m *Model) GridScale() dissip.GridScale {
+	if m.scale == nil {
+		s := dissip.MeasureGridScale(m.grid, m.star(), m.pool.For)
+		m.scale = &s
+	}
+	return *m.scale
 }
 
 // SetScheme switches the scheme; the next step uses it on the same state.

@@ -9,6 +9,7 @@ import { SphereView, PROJECTIONS } from './globe.js';
 import { LinearPanel } from './linearpanel.js';
 import { SeriesPlot } from './seriesplot.js';
 import { StructurePanel } from './structurepanel.js';
+import { BudgetPlot } from './budgetplot.js';
 import { TimelinePanel } from './timeline.js';
 import { drawColourBar, mapFor } from './colour.js';
 import { fmtClock, fmtNum } from './format.js';
@@ -28,6 +29,8 @@ const el = {
   log: $('log-drift'), large: $('large-type'), help: $('help'), overlay: $('help-overlay'), title: $('title'),
   optimize: $('optimize-select'), optimizeBox: $('optimize'),
   nLabel: $('resolution-label'), projection: $('projection-select'), projectionBox: $('projection'),
+  viscosity: $('viscosity-input'), hyperviscosity: $('hyperviscosity-input'), divDamping: $('divergence-damping-input'),
+  dissipationHint: $('dissipation-hint'), budget: $('budget-plot'),
 };
 
 // For tests and measurements: the latest status (with the server's own
@@ -45,6 +48,7 @@ const linear = new LinearPanel({
   caption: $('dispersion-caption'), legend: $('dispersion-legend'),
 });
 const plot = new SeriesPlot(el.plot);
+const budget = new BudgetPlot(el.budget);
 const timeline = new TimelinePanel(send, showMessage); // record, mark, replay (timeline.js)
 const structure = new StructurePanel({
   panel: $('structure-panel'), caption: $('structure-caption'), verdicts: $('structure-verdicts'),
@@ -114,6 +118,7 @@ function onJSON(m) {
       break;
     case 'point':
       plot.addPoint(m);
+      budget.addPoint(m);
       linear.onPoint(m);
       schedule('plot');
       break;
@@ -131,10 +136,12 @@ function onJSON(m) {
       break;
     case 'history':
       plot.setHistory(m.points, m.markers);
+      budget.setHistory(m.points, m.markers);
       schedule('plot');
       break;
     case 'marker':
       plot.addMarker(m);
+      budget.addMarker(m);
       schedule('plot');
       break;
     case 'timeline':
@@ -210,6 +217,7 @@ function draw(now) {
   if (st.dirtyPlot) {
     st.dirtyPlot = false;
     plot.render();
+    budget.render();
   }
 }
 
@@ -309,6 +317,12 @@ function showConfig() {
   showScenario(c.scenario);
   if (document.activeElement !== el.dt) el.dt.value = String(c.dt);
   if (document.activeElement !== el.n) el.n.value = String(c.grid.n);
+  const d = c.dissipation;
+  for (const [input, v] of [[el.viscosity, d.viscosity], [el.hyperviscosity, d.hyperviscosity], [el.divDamping, d.divergence_damping]]) {
+    if (document.activeElement !== input) input.value = String(v);
+  }
+  el.dissipationHint.textContent = d.hint;
+  el.dissipationHint.dataset.eFoldingS = d.e_folding_s === null ? '' : String(d.e_folding_s);
   el.dtHint.textContent = `allowed 0 < Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s here`;
   const nmax = c.limits.n_max[c.grid.kind];
   const nmin = (c.limits.n_min_kind && c.limits.n_min_kind[c.grid.kind]) || c.limits.n_min;
@@ -496,9 +510,12 @@ el.n.addEventListener('change', setGrid);
 el.optimize.addEventListener('change', setGrid);
 el.dt.addEventListener('change', () => send('set-dt', numberOrText(el.dt.value)));
 el.dt.addEventListener('input', () => linear.onTyped(el.dt.value));
+el.viscosity.addEventListener('change', () => send('set-dissipation', { viscosity: numberOrText(el.viscosity.value) }));
+el.hyperviscosity.addEventListener('change', () => send('set-dissipation', { hyperviscosity: numberOrText(el.hyperviscosity.value) }));
+el.divDamping.addEventListener('change', () => send('set-dissipation', { divergence_damping: numberOrText(el.divDamping.value) }));
 el.dt.addEventListener('blur', () => linear.onTyped(''));
 el.projection.addEventListener('change', () => setProjection(el.projection.value));
-for (const input of [el.dt, el.n]) {
+for (const input of [el.dt, el.n, el.viscosity, el.hyperviscosity, el.divDamping]) {
   input.addEventListener('keydown', (e) => { if (e.key === 'Enter') input.blur(); });
 }
 el.scrub.addEventListener('input', scrubLabel);
@@ -535,6 +552,7 @@ document.addEventListener('keydown', (e) => {
 
 new ResizeObserver(() => { schedule('field'); schedule('plot'); }).observe(el.canvas.parentElement);
 new ResizeObserver(() => schedule('plot')).observe(el.plot);
+new ResizeObserver(() => schedule('plot')).observe(el.budget);
 
 try { if (localStorage.getItem('gyrebench.large') === '1') setLarge(true); } catch { /* private mode */ }
 try { const p = localStorage.getItem('gyrebench.projection'); if (p) setProjection(p); } catch { /* private mode */ }

@@ -38,8 +38,10 @@ const PANELS = [
 const MARKER_COLOURS = MARKERS;
 
 export class SeriesPlot {
-  constructor(canvas) {
+  // panels replaces the invariant panels (the budget plot has its own).
+  constructor(canvas, panels = PANELS) {
     this.canvas = canvas;
+    this.panels = panels;
     this.points = [];
     this.markers = [];
     this.log = true;
@@ -101,11 +103,12 @@ export class SeriesPlot {
     if (!(t1 > t0)) t1 = t0 + 1;
     const plotW = W - left - right;
     const X = (t) => left + ((t - t0) / (t1 - t0)) * plotW;
-    const totalWeight = PANELS.reduce((a, p) => a + p.weight, 0);
-    const avail = H - top - bottom - gap * (PANELS.length - 1);
+    const panels = this.panels;
+    const totalWeight = panels.reduce((a, p) => a + p.weight, 0);
+    const avail = H - top - bottom - gap * (panels.length - 1);
     let y = top;
     const boxes = [];
-    for (const panel of PANELS) {
+    for (const panel of panels) {
       const h = (avail * panel.weight) / totalWeight;
       boxes.push([y, h]);
       this.drawPanel(ctx, panel, left, y, plotW, h, X, fs);

@@ -43,6 +43,7 @@ export const SERIES = {
 // Δt or grid, and of a rewind.
 export const MARKERS = {
   scheme: '#c4b1ff', integrator: '#f6d36b', dt: '#7fd6ee', grid: '#ff9f80', rewind: '#a9b8bd',
+  hodge: '#9be3c4', dissipation: '#ff9ecf',
 };
 
 // SIDES colour run A and run B of a lockstep pair.

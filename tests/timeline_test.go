@@ -53,7 +53,7 @@ func stepsNow(cl *client, srv *server.Server, id string) int64 {
 }
 
 // TestTimelineReplaysLiveRun drives a live run through a real websocket
-// (play, a scheme switch and a grid switch while running, a pause, a scrub
+// (play, a scheme switch, a dissipation change and a grid switch while running, a pause, a scrub
 // back, a Δt change, single steps, a mark), saves its timeline over HTTP
 // and replays it headless with 'gyrebench run': the replay's final.nc is
 // the live run's final.nc at the same step, byte for byte. Then the same
@@ -67,7 +67,9 @@ func TestTimelineReplaysLiveRun(t *testing.T) {
 	cl.mustAck("play", nil, nil)
 	at := advance(cl, 40)
 	cl.mustAck("set-scheme", "apvm", nil)
-	advance(cl, at+40)
+	at = advance(cl, at+40)
+	cl.mustAck("set-dissipation", map[string]any{"hyperviscosity": 1e14, "divergence_damping": "2e4"}, nil)
+	advance(cl, at+20)
 	cl.mustAck("set-grid", map[string]any{"kind": "quad", "n": 24}, nil)
 	at = advance(cl, at+100)
 	paused := stepsNow(cl, srv, "1")
@@ -91,14 +93,17 @@ func TestTimelineReplaysLiveRun(t *testing.T) {
 	for _, e := range tl.Events {
 		cmds = append(cmds, string(e.Cmd))
 	}
-	want := "play set-scheme set-grid pause rewind set-dt mark"
+	want := "play set-scheme set-dissipation set-grid pause rewind set-dt mark"
 	if got := strings.Join(cmds, " "); got != want {
 		t.Errorf("recorded events %q, want %q", got, want)
 	}
 	if tl.EndStep != end {
 		t.Errorf("timeline end_step = %d, the run is at step %d", tl.EndStep, end)
 	}
-	if rw := tl.Events[4]; rw.Step != paused || rw.ToStep >= paused || rw.ToStep+7 != end {
+	if d := tl.Events[2].Dissipation; d.Hyperviscosity != 1e14 || d.DivergenceDamping != 2e4 || d.Viscosity != 0 {
+		t.Errorf("set-dissipation event recorded %+v, want ν₄ = 1e14, ν_δ = 2e4", d)
+	}
+	if rw := tl.Events[5]; rw.Step != paused || rw.ToStep >= paused || rw.ToStep+7 != end {
 		t.Errorf("rewind event %+v: want from step %d back to step %d", rw, paused, end-7)
 	}
 

@@ -22,6 +22,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/atomicfile"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/ncout"
 	"gyrebench/sim/scenario"
 )
@@ -88,6 +89,26 @@ type Summary struct {
 	L1H              *float64 `json:"l1_h,omitempty"`
 	L2H              *float64 `json:"l2_h,omitempty"`
 	LInfH            *float64 `json:"linf_h,omitempty"`
+
+	// The explicit dissipation at the end of the run (scenario keys
+	// scheme.viscosity, scheme.hyperviscosity, scheme.divergence_damping).
+	Viscosity         float64 `json:"viscosity_m2_s"`
+	Hyperviscosity    float64 `json:"hyperviscosity_m4_s"`
+	DivergenceDamping float64 `json:"divergence_damping_m2_s"`
+	// Budget holds the time integrals of the budget columns of series.csv
+	// (package dissip's Ledger): the change of energy (m⁵ s⁻²) and
+	// potential enstrophy (m s⁻²) from the start, split by cause.
+	Budget BudgetIntegrals `json:"budget_integrals"`
+}
+
+// BudgetIntegrals are the time integrals of the budget rates.
+type BudgetIntegrals struct {
+	EnergyScheme         float64 `json:"energy_scheme"`
+	EnergyDissipation    float64 `json:"energy_dissipation"`
+	EnergyResidual       float64 `json:"energy_residual"`
+	EnstrophyScheme      float64 `json:"enstrophy_scheme"`
+	EnstrophyDissipation float64 `json:"enstrophy_dissipation"`
+	EnstrophyResidual    float64 `json:"enstrophy_residual"`
 }
 
 // BlowUpInfo says where and when a run blew up.
@@ -100,6 +121,10 @@ type BlowUpInfo struct {
 	Message string  `json:"message"`
 }
 
+// BudgetSamples is the number of times per output interval that a run
+// samples the budget's instantaneous rates (dissip.Ledger.Sample).
+const BudgetSamples = 8
+
 // ErrInterrupted is returned, wrapped, when the context ended the run.
 var ErrInterrupted = errors.New("run interrupted")
 
@@ -110,6 +135,11 @@ var SeriesColumns = []string{
 	"h_min", "h_max", "courant_max",
 	"circulation", "circulation_drift", "circulation_rel_drift", "courant_advective", "max_speed",
 	"l1_h", "l2_h", "linf_h",
+	// The budget of each output interval (package dissip's Ledger): the
+	// scheme's own term, the explicit dissipation and the time-stepping
+	// residual of dE/dt and dZ/dt.
+	"energy_rate_scheme", "energy_rate_dissipation", "energy_rate_residual",
+	"enstrophy_rate_scheme", "enstrophy_rate_dissipation", "enstrophy_rate_residual",
 }
 
 // circulationDrift returns the change of the total circulation
@@ -167,6 +197,8 @@ type runner struct {
 	series   bytes.Buffer
 	rowSteps []int64 // the step of each series row
 	rowEnds  []int   // the end of each row in series
+	ledger   dissip.Ledger
+	ledgers  []dissip.Ledger // the ledger after each row, for rewinds
 	snapFile *atomicfile.File
 	snaps    *ncout.Snapshots
 	snapZeta []float64
@@ -179,6 +211,10 @@ func (r *runner) loop(ctx context.Context) error {
 	dt := r.cfg.Time.Dt
 	total := int64(math.Round(r.cfg.Time.Duration / dt))
 	every := max(int64(math.Round(r.cfg.Output.Every/dt)), 1)
+	// The budget's rates are sampled BudgetSamples times per output
+	// interval (one scheme tendency each), so that the trapezoid rule's
+	// error in the interval means stays small beside the time stepper's.
+	sample := max(every/BudgetSamples, 1)
 	r.series.WriteString(strings.Join(SeriesColumns, ",") + "\n")
 	if err := r.record(); err != nil {
 		return err
@@ -214,6 +250,8 @@ func (r *runner) loop(ctx context.Context) error {
 			if err := r.record(); err != nil {
 				return err
 			}
+		} else if m.Steps()%sample == 0 {
+			r.ledger.Sample(m.Time(), m.Rates())
 		}
 		if r.opt.Progress != nil {
 			if now := time.Now(); now.Sub(lastShown) > 200*time.Millisecond || m.Steps() == total {
@@ -251,6 +289,7 @@ func (r *runner) schedule(s Schedule) (bool, error) {
 	if k < len(r.rowSteps) { // k ≥ 1: the row of step 0 always stays
 		r.series.Truncate(r.rowEnds[k-1])
 		r.rowSteps, r.rowEnds = r.rowSteps[:k], r.rowEnds[:k]
+		r.ledger, r.ledgers = r.ledgers[k-1], r.ledgers[:k]
 	}
 	return end, err
 }
@@ -298,8 +337,13 @@ func (r *runner) record() error {
 	} else {
 		row = append(row, "", "", "")
 	}
+	b := r.ledger.Record(m.Time(), inv.Energy, inv.PotentialEnstrophy, m.Rates())
+	for _, v := range []float64{b.EnergyScheme, b.EnergyDissipation, b.EnergyResidual, b.EnstrophyScheme, b.EnstrophyDissipation, b.EnstrophyResidual} {
+		row = append(row, fmtFloat(v))
+	}
 	r.series.WriteString(strings.Join(row, ",") + "\n")
 	r.rowSteps, r.rowEnds = append(r.rowSteps, m.Steps()), append(r.rowEnds, r.series.Len())
+	r.ledgers = append(r.ledgers, r.ledger)
 	if r.snaps != nil {
 		m.Diagnostics().Vorticity(r.snapZeta, nil, m.State())
 		if err := r.snaps.Write(m.Time(), m.Depth(), m.Velocity(), r.snapZeta); err != nil {
@@ -312,7 +356,7 @@ func (r *runner) record() error {
 func fmtFloat(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 
 func meta(cfg sim.Config) ncout.Meta {
-	return ncout.Meta{
+	m := ncout.Meta{
 		Title:  cfg.Title,
 		Source: "gyrebench " + cfg.Scheme.Name + " / " + cfg.Time.Integrator,
 		Attrs: []ncout.Attr{
@@ -321,6 +365,20 @@ func meta(cfg sim.Config) ncout.Meta {
 			{Name: "gyrebench_case", Value: cfg.Initial.Case},
 		},
 	}
+	// The dissipation, when on, in m2 s-1 and m4 s-1.
+	for _, a := range []struct {
+		name string
+		v    float64
+	}{
+		{"gyrebench_viscosity", cfg.Scheme.Viscosity},
+		{"gyrebench_hyperviscosity", cfg.Scheme.Hyperviscosity},
+		{"gyrebench_divergence_damping", cfg.Scheme.DivergenceDamping},
+	} {
+		if a.v != 0 {
+			m.Attrs = append(m.Attrs, ncout.Attr{Name: a.name, Value: a.v})
+		}
+	}
+	return m
 }
 
 func (r *runner) openSnapshots() error {
@@ -444,6 +502,9 @@ func (r *runner) makeSummary(runErr error) *Summary {
 		CirculationDrift:  inv.Circulation - ini.Circulation,
 		HMin:              inv.HMin, HMax: inv.HMax, CourantMax: inv.CourantGravity,
 		Interrupted: errors.Is(runErr, ErrInterrupted),
+
+		Viscosity: c.Scheme.Viscosity, Hyperviscosity: c.Scheme.Hyperviscosity, DivergenceDamping: c.Scheme.DivergenceDamping,
+		Budget: BudgetIntegrals(r.ledger.Integrated),
 	}
 	var bu *sim.BlowUpError
 	if errors.As(runErr, &bu) {

@@ -134,7 +134,7 @@ func reportModes(w io.Writer, s linear.Summary, dir string) {
 			fmt.Fprintf(w, "  %-9s no stable Δt (%s)\n", l.Integrator, l.Note)
 			continue
 		}
-		fmt.Fprintf(w, "  %-9s Δt ≤ %.6g s (|ωΔt| ≤ %.6g)\n", l.Integrator, l.MaxDt, l.AxisBound)
+		fmt.Fprintf(w, "  %-9s Δt ≤ %.6g s (|ωΔt| ≤ %.6g; bound by the %s)\n", l.Integrator, l.MaxDt, l.AxisBound, l.Binding)
 	}
 	for _, t := range s.Verify {
 		state := "survived"

@@ -17,7 +17,11 @@ func Title(c sim.Config, timeS float64) string {
 	if c.Grid.Kind == string(mesh.Icosahedral) {
 		grid = fmt.Sprintf("icosahedral level %d", c.Grid.N)
 	}
-	parts := []string{grid, c.Scheme.Name, fmt.Sprintf("%s Δt=%g s", c.Time.Integrator, c.Time.Dt), "t = " + SimTime(timeS)}
+	scheme := c.Scheme.Name
+	if d := c.Scheme.Dissipation().String(); d != "" {
+		scheme += " + " + d
+	}
+	parts := []string{grid, scheme, fmt.Sprintf("%s Δt=%g s", c.Time.Integrator, c.Time.Dt), "t = " + SimTime(timeS)}
 	if c.Title != "" {
 		parts = append([]string{c.Title}, parts...)
 	}

@@ -90,7 +90,17 @@ type Limit struct {
 	Integrator string  `json:"integrator"`
 	AxisBound  float64 `json:"imaginary_axis_bound"` // max |ωΔt| (step.ImaginaryAxisLimit)
 	MaxDt      float64 `json:"max_stable_dt_s"`      // 0: no Δt is stable
-	Note       string  `json:"note,omitempty"`
+	// AxisDt is the limit of the imaginary axis alone, AxisBound/max|ω|;
+	// it equals MaxDt when the spectrum has no material real part.
+	AxisDt float64 `json:"imaginary_axis_dt_s"`
+	// Binding says which part of the spectrum sets MaxDt: "imaginary axis"
+	// (undamped waves), "negative real axis" (pure damping, the
+	// dissipation of balanced modes) or "damped waves" (complex
+	// eigenvalues with a material real part); "" when none is stable.
+	Binding string `json:"binding,omitempty"`
+	// Eigenvalue is the binding eigenvalue λ (s⁻¹) as [Re, Im].
+	Eigenvalue [2]float64 `json:"binding_eigenvalue_per_s"`
+	Note       string     `json:"note,omitempty"`
 }
 
 // Counts are the numbers of modes (eigenvalues) per class.
@@ -182,26 +192,101 @@ func Analyse(ctx context.Context, cfg sim.Config, opt Options) (*Result, error) 
 			return nil, err
 		}
 	}
-	res.Limits = limits(res.SpectralRadius, res.Growing, cfg.Time.Asselin)
+	cands := res.candidates(op)
+	res.Limits = limits(cands, res.MaxFrequency, res.SpectralRadius, res.Growing, cfg.Time.Asselin)
 	res.WallSeconds = time.Since(t0).Seconds()
 	return res, nil
 }
 
-// limits turns the spectral radius into the largest stable Δt of each
-// integrator: Δt ≤ bound / max|λ|, with the imaginary-axis bounds of
-// step.ImaginaryAxisLimit (rk3 √3, rk4 2√2, filtered leapfrog just below 1,
-// euler none; derived from the RK stability polynomials, e.g. Durran 2010,
-// Numerical Methods for Fluid Dynamics, 2nd ed., ch. 2, from memory).
-func limits(radius float64, growing int, asselin float64) []Limit {
+// candidates returns the eigenvalues that can bind the Δt limits, one of
+// each conjugate pair: every computed one that is not growing (dense), or
+// for the extreme analysis the corners of the box that holds the
+// spectrum, iω_max, −r and −r + iω_max, with r the dissipation's largest
+// grid-scale damping rate (Operator.DampingBound). nil when the spectrum
+// has no material real part, so that the limits are those of the
+// imaginary axis exactly.
+func (res *Result) candidates(op *Operator) []complex128 {
+	tol := GrowthTol * max(res.MaxFrequency, res.SpectralRadius)
+	if res.Method == "dense-skew" || res.Method == "dense-general" {
+		damped := false
+		var out []complex128
+		for _, m := range res.Modes {
+			if m.Frequency < 0 || m.GrowthRate > res.GrowthTolerance {
+				continue
+			}
+			// Round-off real or imaginary parts (a steady mode's 1e-18) are
+			// snapped to zero: a positive one would otherwise leave the
+			// stability region of rk3 at once.
+			re, im := m.GrowthRate, m.Frequency
+			if math.Abs(re) <= tol {
+				re = 0
+			}
+			if math.Abs(im) <= tol {
+				im = 0
+			}
+			if re == 0 && im == 0 {
+				continue
+			}
+			damped = damped || re < 0
+			out = append(out, complex(re, im))
+		}
+		if !damped {
+			return nil
+		}
+		return out
+	}
+	r := op.DampingBound()
+	if r == 0 {
+		return nil
+	}
+	w := res.MaxFrequency
+	res.SpectralRadius = math.Hypot(r, w)
+	return []complex128{complex(0, w), complex(-r, 0), complex(-r, w)}
+}
+
+// limits returns the largest stable Δt of each integrator. Without a
+// material real part in the spectrum (cands nil) it is bound / max|λ|,
+// with the imaginary-axis bounds of step.ImaginaryAxisLimit (rk3 √3, rk4
+// 2√2, filtered leapfrog just below 1, euler none; Durran 2010, Numerical Methods for Fluid Dynamics, 2nd ed., ch. 2, from memory).
+// Otherwise each candidate eigenvalue λ bounds Δt where its ray λΔt leaves
+// the integrator's stability region in the complex plane
+// (step.RayLimit), and the smallest bound holds: with explicit
+// dissipation a damping rate r alone limits rk3 to Δt ≤ 2.51/r, rk4 to
+// 2.79/r and filtered leapfrog to 2ν/((1 + ν) r), whatever the waves.
+func limits(cands []complex128, omegaMax, radius float64, growing int, asselin float64) []Limit {
 	var out []Limit
+	opt := step.Options{Asselin: asselin}
 	for _, name := range step.Names {
-		b := step.ImaginaryAxisLimit(name, step.Options{Asselin: asselin})
+		b := step.ImaginaryAxisLimit(name, opt)
 		l := Limit{Integrator: name, AxisBound: b}
+		if b > 0 && omegaMax > 0 {
+			l.AxisDt = b / omegaMax
+		}
 		switch {
 		case b == 0:
 			l.Note = "unstable for any Δt: forward Euler amplifies every oscillation by √(1 + ω²Δt²) per step"
+		case cands != nil:
+			l.MaxDt = math.Inf(1)
+			for _, lam := range cands {
+				if dt := step.RayLimit(name, opt, lam); dt < l.MaxDt {
+					l.MaxDt, l.Eigenvalue = dt, [2]float64{real(lam), imag(lam)}
+				}
+			}
+			if math.IsInf(l.MaxDt, 1) {
+				l.MaxDt = 0
+			}
+			re, im := l.Eigenvalue[0], l.Eigenvalue[1]
+			switch a := math.Hypot(re, im); {
+			case math.Abs(re) <= 1e-9*a:
+				l.Binding = "imaginary axis"
+			case math.Abs(im) <= 1e-9*a:
+				l.Binding = "negative real axis"
+			default:
+				l.Binding = "damped waves"
+			}
 		case radius > 0:
 			l.MaxDt = b / radius
+			l.Binding, l.Eigenvalue = "imaginary axis", [2]float64{0, radius}
 		}
 		if growing > 0 && b > 0 {
 			l.Note = "the operator has growing modes: they grow for any Δt; the limit bounds the rest"
@@ -316,7 +401,14 @@ func (res *Result) full(ctx context.Context, op *Operator, cfg sim.Config) error
 		tol := ZeroTol * omegaMax
 		keep := other[:0]
 		for _, md := range other {
-			if cmplxAbs(md.lam) <= tol {
+			// Explicit dissipation damps the steady modes without giving
+			// them a frequency: zero frequency, not zero λ, makes them
+			// geostrophic then.
+			steady := cmplxAbs(md.lam) <= tol
+			if op.dis != nil {
+				steady = math.Abs(imag(md.lam)) <= tol && real(md.lam) <= tol
+			}
+			if steady {
 				if md.b != nil {
 					zero = append(zero, &mode{lam: complex(real(md.lam), 0), a: md.a}, &mode{lam: complex(real(md.lam), 0), a: md.b})
 				} else {

@@ -120,9 +120,20 @@
 //
 // An integrator with stability interval |ωΔt| ≤ b on the imaginary axis
 // (step.ImaginaryAxisLimit: rk3 √3, rk4 2√2, leapfrog just below 1 with
-// the Robert–Asselin filter, euler none; Durran 2010, Numerical Methods
-// for Fluid Dynamics, 2nd ed., ch. 2, from memory) is stable for
-// Δt ≤ b / max|λ|. VerifyDt checks a prediction with the nonlinear scheme:
+// the Robert–Asselin filter, euler none; Durran 2010, Numerical Methods for Fluid Dynamics, 2nd ed., ch. 2, from memory) is stable for
+// Δt ≤ b / max|λ|. With explicit dissipation (scheme.viscosity,
+// hyperviscosity, divergence_damping: package dissip) the operator
+// includes D(u), the spectrum moves into the left half-plane and its
+// real part can bind on its own: each eigenvalue λ bounds Δt where its
+// ray λΔt leaves the integrator's stability region (step.RayLimit,
+// |R(z)| ≤ 1 on the complex plane), the smallest bound holds, and
+// Limit.Binding names the part of the spectrum that sets it (imaginary
+// axis, negative real axis, damped waves). The damping rates are the
+// growth_rate column of modes.csv; modes damped without a frequency
+// (balanced modes, and gravity waves when overdamped) count as
+// geostrophic. The extreme analysis bounds the spectrum by the box of
+// iω_max and the grid-scale damping rate (Operator.DampingBound) and
+// checks its corners. VerifyDt checks a prediction with the nonlinear scheme:
 // VerifySteps steps from rest plus a random perturbation of relative size
 // VerifyAmplitude; it "blew up" when the perturbation's energy norm grows
 // by more than BlowUpFactor, a value becomes non-finite or a depth

@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"gyrebench/sim"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/ops"
 	"gyrebench/sim/par"
@@ -24,7 +25,9 @@ type Operator struct {
 	grid   ops.Grid
 	pool   *par.Pool
 	sch    scheme.Scheme
-	fv     []float64 // Coriolis parameter at vertices
+	dis    *dissip.Operator // the run's explicit dissipation; nil for none
+	scale  dissip.GridScale // of the dissipation's Laplacian, when dis != nil
+	fv     []float64        // Coriolis parameter at vertices
 	depth  float64
 	g      float64
 	nc, ne int
@@ -95,6 +98,17 @@ func newOperatorOn(cfg sim.Config, msh *mesh.Mesh) (*Operator, error) {
 	}
 	sch.SetDt(cfg.Time.Dt)
 	op.sch = sch
+	// The explicit dissipation is linear in u and zero at rest, so it
+	// enters J exactly through the same differences.
+	if c := cfg.Scheme.Dissipation(); !c.Zero() {
+		d, err := dissip.New(op.grid, op.grid.DiagonalHodge(), c, nil)
+		if err != nil {
+			op.pool.Close()
+			return nil, err
+		}
+		op.dis = d
+		op.scale = dissip.MeasureGridScale(op.grid, op.grid.DiagonalHodge(), nil)
+	}
 	n := op.nc + op.ne
 	op.rest = make([]float64, n)
 	for i := 0; i < op.nc; i++ {
@@ -122,7 +136,7 @@ func newOperatorOn(cfg sim.Config, msh *mesh.Mesh) (*Operator, error) {
 	op.xp, op.fp = make([]float64, n), make([]float64, n)
 	op.fm, op.d1 = make([]float64, n), make([]float64, n)
 	op.part, op.tmp = make([]float64, n), make([]float64, n)
-	op.sch.Tendency(op.fp, op.rest)
+	op.Tendency(op.fp, op.rest)
 	res := 0.0
 	for _, v := range op.fp {
 		res = max(res, math.Abs(v))
@@ -158,19 +172,37 @@ func (op *Operator) EnergyWeights() []float64 {
 	return w
 }
 
-// Tendency sets dst to the scheme's (nonlinear) tendency at x.
-func (op *Operator) Tendency(dst, x []float64) { op.sch.Tendency(dst, x) }
+// Tendency sets dst to the run's (nonlinear) tendency at x: the scheme's,
+// plus the explicit dissipation on ∂u/∂t when the run has one.
+func (op *Operator) Tendency(dst, x []float64) {
+	op.sch.Tendency(dst, x)
+	if op.dis != nil {
+		op.dis.Add(dst[op.nc:], x[op.nc:])
+	}
+}
+
+// DampingBound returns the largest damping rate of the explicit
+// dissipation at the grid scale, (ν₂ + ν_δ)κ²_max + ν₄κ⁴_max (package
+// dissip's GridScale), s⁻¹; 0 without dissipation.
+func (op *Operator) DampingBound() float64 {
+	if op.dis == nil {
+		return 0
+	}
+	c := op.dis.Coefficients()
+	k2 := op.scale.Kappa2Max
+	return (c.Viscosity+c.DivergenceDamping)*k2 + c.Hyperviscosity*k2*k2
+}
 
 // central sets dst = [F(x₀+s v) − F(x₀−s v)]/(2s) for the direction v.
 func (op *Operator) central(dst, v []float64, s float64) {
 	for k := range op.xp {
 		op.xp[k] = op.rest[k] + s*v[k]
 	}
-	op.sch.Tendency(op.fp, op.xp)
+	op.Tendency(op.fp, op.xp)
 	for k := range op.xp {
 		op.xp[k] = op.rest[k] - s*v[k]
 	}
-	op.sch.Tendency(op.fm, op.xp)
+	op.Tendency(op.fm, op.xp)
 	inv := 0.5 / s
 	for k := range dst {
 		dst[k] = (op.fp[k] - op.fm[k]) * inv

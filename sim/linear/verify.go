@@ -125,11 +125,13 @@ func MaxFrequency(ctx context.Context, cfg sim.Config) (float64, error) {
 	return res.SpectralRadius, nil
 }
 
-// StableDt returns the largest stable Δt of the named integrator for cfg,
+// StableDt returns the largest stable Δt of the named integrator for cfg:
+// the extreme analysis's limit (Analyse with ExtremeOnly), which is
 // bound / max|λ| with the imaginary-axis bound of step.ImaginaryAxisLimit
 // (for leapfrog the Robert–Asselin filter of cfg.Time.Asselin is taken
-// into account). It returns 0 for euler, which is unstable for every Δt.
-// Nothing is cached.
+// into account) and, with explicit dissipation, also the damping rate's
+// own bound on the negative real axis (limits). It returns 0 for euler,
+// which is unstable for every Δt. Nothing is cached.
 func StableDt(ctx context.Context, cfg sim.Config, integrator string) (float64, error) {
 	if _, err := validated(cfg); err != nil {
 		return 0, err
@@ -137,13 +139,14 @@ func StableDt(ctx context.Context, cfg sim.Config, integrator string) (float64, 
 	if _, err := step.New(integrator, 0, step.Options{Asselin: cfg.Time.Asselin}); err != nil {
 		return 0, err
 	}
-	b := step.ImaginaryAxisLimit(integrator, step.Options{Asselin: cfg.Time.Asselin})
-	if b == 0 {
-		return 0, nil
-	}
-	w, err := MaxFrequency(ctx, cfg)
+	res, err := Analyse(ctx, cfg, Options{ExtremeOnly: true})
 	if err != nil {
 		return 0, err
 	}
-	return b / w, nil
+	for _, l := range res.Limits {
+		if l.Integrator == integrator {
+			return l.MaxDt, nil
+		}
+	}
+	return 0, nil
 }

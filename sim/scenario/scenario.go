@@ -56,6 +56,10 @@ type fileScheme struct {
 	Name       *string  `toml:"name"`
 	APVMFactor *float64 `toml:"apvm_factor"`
 	Hodge      *string  `toml:"hodge"`
+
+	Viscosity         *float64 `toml:"viscosity"`
+	Hyperviscosity    *float64 `toml:"hyperviscosity"`
+	DivergenceDamping *float64 `toml:"divergence_damping"`
 }
 
 type fileTime struct {
@@ -120,6 +124,9 @@ func Parse(data []byte, name string) (*Scenario, error) {
 	str(&c.Scheme.Name, f.Scheme.Name)
 	num(&c.Scheme.APVMFactor, f.Scheme.APVMFactor)
 	str(&c.Scheme.Hodge, f.Scheme.Hodge)
+	num(&c.Scheme.Viscosity, f.Scheme.Viscosity)
+	num(&c.Scheme.Hyperviscosity, f.Scheme.Hyperviscosity)
+	num(&c.Scheme.DivergenceDamping, f.Scheme.DivergenceDamping)
 	str(&c.Time.Integrator, f.Time.Integrator)
 	num(&c.Time.Dt, f.Time.Dt)
 	num(&c.Time.Duration, f.Time.Duration)
@@ -254,6 +261,9 @@ func keys() []key {
 		{"scheme.name", "string", s(func(c *sim.Config) *string { return &c.Scheme.Name })},
 		{"scheme.apvm_factor", "number", f(func(c *sim.Config) *float64 { return &c.Scheme.APVMFactor })},
 		{"scheme.hodge", "string", s(func(c *sim.Config) *string { return &c.Scheme.Hodge })},
+		{"scheme.viscosity", "number", f(func(c *sim.Config) *float64 { return &c.Scheme.Viscosity })},
+		{"scheme.hyperviscosity", "number", f(func(c *sim.Config) *float64 { return &c.Scheme.Hyperviscosity })},
+		{"scheme.divergence_damping", "number", f(func(c *sim.Config) *float64 { return &c.Scheme.DivergenceDamping })},
 		{"time.integrator", "string", s(func(c *sim.Config) *string { return &c.Time.Integrator })},
 		{"time.dt", "number", f(func(c *sim.Config) *float64 { return &c.Time.Dt })},
 		{"time.duration", "number", f(func(c *sim.Config) *float64 { return &c.Time.Duration })},
@@ -380,6 +390,15 @@ func Format(c sim.Config, description string) []byte {
 	}
 	if c.Scheme.Hodge != "" && c.Scheme.Hodge != scheme.HodgeConsistent {
 		fmt.Fprintf(&b, "hodge = %s\n", q(c.Scheme.Hodge))
+	}
+	if c.Scheme.Viscosity != 0 {
+		fmt.Fprintf(&b, "viscosity = %s\n", g(c.Scheme.Viscosity))
+	}
+	if c.Scheme.Hyperviscosity != 0 {
+		fmt.Fprintf(&b, "hyperviscosity = %s\n", g(c.Scheme.Hyperviscosity))
+	}
+	if c.Scheme.DivergenceDamping != 0 {
+		fmt.Fprintf(&b, "divergence_damping = %s\n", g(c.Scheme.DivergenceDamping))
 	}
 	fmt.Fprintf(&b, "\n[time]\nintegrator = %s\ndt = %s\nduration = %s\n", q(c.Time.Integrator), g(c.Time.Dt), g(c.Time.Duration))
 	if c.Time.Asselin != 0 {

@@ -12,6 +12,7 @@ import (
 
 	"github.com/pelletier/go-toml/v2"
 
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/scenario"
 )
 
@@ -81,10 +82,13 @@ var keysOf = map[Cmd][]string{
 	SetGrid:       {"kind", "n", "optimize"},
 	Mark:          {"label"},
 	Rewind:        {"to_step", "to_time"},
+	// Each coefficient left out is 0.
+	SetDissipation: {"viscosity", "hyperviscosity", "divergence_damping"},
 }
 
 // optional keys may be left out.
-var optional = map[string]bool{"time": true, "to_time": true, "optimize": true}
+var optional = map[string]bool{"time": true, "to_time": true, "optimize": true,
+	"viscosity": true, "hyperviscosity": true, "divergence_damping": true}
 
 // Parse reads a timeline file and validates it (Validate). name is used
 // in messages (a file name).
@@ -258,6 +262,8 @@ func event(raw map[string]any, index, total, line int) (Event, error) {
 	case Rewind:
 		e.ToStep = integer("to_step")
 		e.ToTime = float("to_time")
+	case SetDissipation:
+		e.Dissipation = dissip.Coefficients{Viscosity: float("viscosity"), Hyperviscosity: float("hyperviscosity"), DivergenceDamping: float("divergence_damping")}
 	}
 	return e, err
 }

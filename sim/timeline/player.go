@@ -87,6 +87,8 @@ func (p *Player) Apply(m *sim.Model) (Applied, error) {
 			err = m.SetIntegrator(e.Integrator)
 		case SetDt:
 			err = m.SetDt(e.Dt)
+		case SetDissipation:
+			err = m.SetDissipation(e.Dissipation)
 		case SetGrid:
 			g := m.Config().Grid
 			g.SetKind(e.Kind) // the relaxation is the icosahedral grid's; it does not carry over

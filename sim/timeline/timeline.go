@@ -9,6 +9,7 @@ import (
 	"unicode"
 
 	"gyrebench/sim"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/scenario"
 	"gyrebench/sim/scheme"
@@ -32,10 +33,12 @@ const (
 	BlowUp        Cmd = "blow-up"
 	Play          Cmd = "play"
 	Pause         Cmd = "pause"
+	// SetDissipation sets the three dissipation coefficients at once.
+	SetDissipation Cmd = "set-dissipation"
 )
 
 // Cmds lists the commands, in the order messages name them.
-var Cmds = []Cmd{SetScheme, SetHodge, SetIntegrator, SetDt, SetGrid, Mark, Rewind, BlowUp, Play, Pause}
+var Cmds = []Cmd{SetScheme, SetHodge, SetIntegrator, SetDt, SetGrid, Mark, Rewind, BlowUp, Play, Pause, SetDissipation}
 
 // MaxLabel bounds a mark's label, in characters.
 const MaxLabel = 200
@@ -56,6 +59,10 @@ type Event struct {
 	Label      string  // mark
 	ToStep     int64   // rewind: the step whose state it goes back to
 	ToTime     float64 // rewind: the simulated time then, s; for people
+
+	// set-dissipation: the coefficients in effect from this step on
+	// (scheme.viscosity, scheme.hyperviscosity, scheme.divergence_damping).
+	Dissipation dissip.Coefficients
 }
 
 // Timeline is a run's starting scenario and what was done to it.
@@ -87,6 +94,11 @@ func (e Event) String() string {
 		return "mark: " + e.Label
 	case Rewind:
 		return fmt.Sprintf("rewind to step %d", e.ToStep)
+	case SetDissipation:
+		if d := e.Dissipation.String(); d != "" {
+			return "dissipation: " + d
+		}
+		return "dissipation: off"
 	}
 	return string(e.Cmd)
 }
@@ -106,6 +118,8 @@ func (e Event) Noop(cfg sim.Config) bool {
 		return e.Dt == cfg.Time.Dt
 	case SetGrid:
 		return e.Kind == cfg.Grid.Kind && e.N == cfg.Grid.N && (e.Optimize == "" || e.Optimize == optimizeName(cfg.Grid.Optimize))
+	case SetDissipation:
+		return e.Dissipation == cfg.Scheme.Dissipation()
 	case Play, Pause:
 		return true
 	}
@@ -155,6 +169,9 @@ func (tl *Timeline) Format() []byte {
 			fmt.Fprintf(&b, "label = %s\n", quote(e.Label))
 		case Rewind:
 			fmt.Fprintf(&b, "to_step = %d\nto_time = %s\n", e.ToStep, num(e.ToTime))
+		case SetDissipation:
+			d := e.Dissipation
+			fmt.Fprintf(&b, "viscosity = %s\nhyperviscosity = %s\ndivergence_damping = %s\n", num(d.Viscosity), num(d.Hyperviscosity), num(d.DivergenceDamping))
 		}
 	}
 	return b.Bytes()
@@ -293,6 +310,12 @@ func (tl *Timeline) validate(lines []int) error {
 			if cfg.Output.Snapshots {
 				return fail("kind", "output.snapshots = true: snapshots.nc holds one grid, and this event changes it; set output.snapshots = false")
 			}
+		case SetDissipation:
+			if err := e.Dissipation.Validate(); err != nil {
+				return fail(fieldOf(e.Cmd, err), "%v", err)
+			}
+			d := e.Dissipation
+			try.Scheme.Viscosity, try.Scheme.Hyperviscosity, try.Scheme.DivergenceDamping = d.Viscosity, d.Hyperviscosity, d.DivergenceDamping
 		case Mark:
 			if err := CheckLabel(e.Label); err != nil {
 				return fail("label", "%v", err)
@@ -346,6 +369,12 @@ func fieldOf(c Cmd, err error) string {
 			return "kind"
 		}
 		return "n"
+	case SetDissipation:
+		for _, k := range []string{"viscosity", "hyperviscosity", "divergence_damping"} {
+			if strings.HasPrefix(err.Error(), "scheme."+k+" ") {
+				return k
+			}
+		}
 	}
 	return "cmd"
 }

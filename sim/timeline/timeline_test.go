@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"gyrebench/sim"
+	"gyrebench/sim/dissip"
 )
 
 // small is a quick planar run: a Gaussian bump on a 16 × 16 hexagonal
@@ -86,6 +87,8 @@ func (l *live) event(e Event) {
 		err = l.m.SetIntegrator(e.Integrator)
 	case SetDt:
 		err = l.m.SetDt(e.Dt)
+	case SetDissipation:
+		err = l.m.SetDissipation(e.Dissipation)
 	case SetGrid:
 		var nm *sim.Model
 		nm, err = l.m.Regrid(e.Kind, e.N)
@@ -169,7 +172,8 @@ func replay(t *testing.T, tl *Timeline, workers int, want [][]float64) *sim.Mode
 
 // TestReplayIsBitIdentical records a live sequence with a scheme switch,
 // a Hodge-star switch (a no-op in numbers on this orthogonal grid, but an
-// event to write, read and replay), a Δt change, a grid switch, a rewind and an integrator switch, writes it
+// event to write, read and replay), a Δt change, dissipation changes (kept
+// across the grid switch), a grid switch, a rewind and an integrator switch, writes it
 // as a file, reads it back and replays it: the state before every event
 // and at the end is the live one bit for bit, with one worker or three.
 func TestReplayIsBitIdentical(t *testing.T) {
@@ -182,8 +186,12 @@ func TestReplayIsBitIdentical(t *testing.T) {
 	l.event(Event{Cmd: Mark, Label: `half-way "look" — here`})
 	l.event(Event{Cmd: SetDt, Dt: 30})
 	l.steps(10)
+	l.event(Event{Cmd: SetDissipation, Dissipation: dissip.Coefficients{Hyperviscosity: 1e13, DivergenceDamping: 0.1 + 0.2}})
+	l.steps(5)
 	l.event(Event{Cmd: SetGrid, Kind: "quad", N: 16})
 	l.steps(12)
+	l.event(Event{Cmd: SetDissipation, Dissipation: dissip.Coefficients{Viscosity: 1e3}})
+	l.steps(3)
 	l.event(Event{Cmd: Pause})
 	l.event(Event{Cmd: Rewind, ToStep: 40})
 	l.event(Event{Cmd: SetIntegrator, Integrator: "rk4"})
@@ -206,6 +214,9 @@ func TestReplayIsBitIdentical(t *testing.T) {
 		m := replay(t, back, workers, l.states)
 		if i, ok := sameBits(m.State(), final); !ok {
 			t.Errorf("workers = %d: final replayed state differs from the live one at index %d", workers, i)
+		}
+		if d := m.Dissipation(); d != (dissip.Coefficients{Viscosity: 1e3}) {
+			t.Errorf("workers = %d: replay ended with dissipation %+v, want ν₂ = 1e3 alone", workers, d)
 		}
 		if m.Time() != finalT || m.Steps() != tl.EndStep || m.Config().Grid.Kind != "quad" || m.Config().Time.Integrator != "rk4" {
 			t.Errorf("workers = %d: replay ended at step %d, t = %g on %s with %s; want step %d, t = %g on quad with rk4",
@@ -354,6 +365,8 @@ func TestParseBad(t *testing.T) {
 		{"not TOML", "[[event]]\nstep = 10", "[[event]]\nstep = = 10", []string{"bad.toml:"}},
 		{"snapshots and a grid change", "[initial]", "[output]\nsnapshots = true\n[initial]", []string{"event 2 of 3", "snapshots"}},
 		{"optimize on a planar grid", "kind = \"quad\"\nn = 16", "kind = \"quad\"\nn = 16\noptimize = \"lloyd\"", []string{"event 2 of 3", "optimize", "lloyd"}},
+		{"negative hyperviscosity", `cmd = "set-scheme"` + "\nscheme = \"apvm\"", `cmd = "set-dissipation"` + "\nhyperviscosity = -1.0", []string{"event 1 of 3", "hyperviscosity", "-1", "≥ 0"}},
+		{"viscosity as text", `cmd = "set-scheme"` + "\nscheme = \"apvm\"", `cmd = "set-dissipation"` + "\nviscosity = \"lots\"", []string{"event 1 of 3", "viscosity", "must be a number"}},
 		{"optimize as a number", "kind = \"quad\"\nn = 16", "kind = \"quad\"\nn = 16\noptimize = 1", []string{"event 2 of 3", "optimize", "must be a string"}},
 	}
 	for _, tc := range cases {
