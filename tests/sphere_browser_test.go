@@ -3,7 +3,6 @@ package tests
 import (
 	"strconv"
 	"testing"
-	"time"
 
 	"github.com/chromedp/chromedp"
 
@@ -17,7 +16,7 @@ import (
 func TestSphereBrowser(t *testing.T) {
 	ctx := browser(t)
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "small-hex", smallHex)})
-	const wait = 30 * time.Second
+	const wait = hang
 	canvas := role("field-canvas")
 
 	do(t, ctx, chromedp.Navigate(base+"/"))
