@@ -68,17 +68,17 @@ func (ps *pairs) list() []*Pair {
 // connections, so that Close waits for it.
 func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 	s := ps.s
-	ps.mu.Lock()
-	if len(ps.byID) >= MaxPairs {
-		ps.mu.Unlock()
-		return nil, fmt.Errorf("pairs: %d pairs are open, the most the workbench holds", len(ps.byID))
+	if err := s.reserve("pairs"); err != nil {
+		return nil, err
 	}
+	ps.mu.Lock()
 	ps.next++
 	id := strconv.Itoa(ps.next)
 	ps.mu.Unlock()
 	s.mu.Lock()
 	if s.closed {
 		s.mu.Unlock()
+		s.unreserve()
 		return nil, fmt.Errorf("the workbench is shutting down")
 	}
 	s.conns.Add(1)
@@ -86,6 +86,7 @@ func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 	p, err := newPair(s.ctx, id, label, cfg, s.runLimits())
 	if err != nil {
 		s.conns.Done()
+		s.unreserve()
 		return nil, err
 	}
 	go func() {
@@ -170,9 +171,8 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "cross-site request refused: pairs are started from the workbench's own pages", http.StatusForbidden)
 		return
 	}
-	req.Body = http.MaxBytesReader(w, req.Body, 8192)
-	if err := req.ParseForm(); err != nil {
-		ps.renderNew(w, req, "", "form: "+err.Error(), http.StatusBadRequest)
+	if code, err := parseForm(w, req, pairFormBytes); err != nil {
+		ps.renderNew(w, req, "", err.Error(), code)
 		return
 	}
 	f := req.PostForm
@@ -194,7 +194,7 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 	}
 	p, err := ps.start(label, cfgs)
 	if err != nil {
-		ps.renderNew(w, req, base, err.Error(), http.StatusBadRequest)
+		ps.renderNew(w, req, base, err.Error(), startStatus(err))
 		return
 	}
 	http.Redirect(w, req, "/pair/"+p.ID(), http.StatusSeeOther)
