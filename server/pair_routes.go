@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/coder/websocket"
 	"github.com/go-chi/chi/v5"
@@ -331,7 +332,7 @@ func (ps *pairs) serveWS(w http.ResponseWriter, req *http.Request) {
 	go func() {
 		defer close(wrote)
 		defer cancel()
-		pairWriteLoop(ctx, c, cl)
+		pairWriteLoop(ctx, c, cl, s.opt.WriteTimeout)
 	}()
 	pairReadLoop(ctx, c, p, cl)
 	cancel()
@@ -384,7 +385,7 @@ func parsePairMsg(data []byte) (pairMsg, *cmdError) {
 
 // pairWriteLoop drains a pair client's three subscribers, tagging each
 // message with its side (pair.go).
-func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
+func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient, timeout time.Duration) {
 	subs := [3]*subscriber{cl.side[0], cl.side[1], cl.own}
 	tags := [3]string{"a", "b", ""}
 	bins := [3]byte{tagA, tagB, tagDiff}
@@ -439,7 +440,7 @@ func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
 					data[3] = bins[i]
 				}
 				buf = data
-				if err := write(ctx, c, m.typ, data); err != nil {
+				if err := write(ctx, c, m.typ, data, timeout); err != nil {
 					release()
 					return
 				}
@@ -450,7 +451,7 @@ func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
 				buf[3] = bins[i]
 				g.f.release()
 				g.f = nil
-				if err := write(ctx, c, binMsg, buf); err != nil {
+				if err := write(ctx, c, binMsg, buf, timeout); err != nil {
 					release()
 					return
 				}

@@ -45,6 +45,10 @@ type Options struct {
 	// address it is bound to, such as the machine's LAN name (serve
 	// --host); a request naming any other host is refused (hosts.go).
 	Hosts []string
+	// WriteTimeout bounds one websocket write: a client that has not
+	// accepted a message within it is disconnected; 0 =
+	// DefaultWriteTimeout.
+	WriteTimeout time.Duration
 	// MaxRuns bounds the live runs and pairs together (a pair counts
 	// once); 0 = DefaultMaxRuns.
 	MaxRuns int
@@ -62,7 +66,7 @@ const (
 
 // HTTP timeouts. Websocket connections are hijacked, which clears the
 // connection deadlines these set, so they apply to pages and files only;
-// a websocket write has its own timeout (writeTimeout).
+// a websocket write has its own timeout (Options.WriteTimeout).
 const (
 	readHeaderTimeout = 5 * time.Second
 	readTimeout       = 30 * time.Second
@@ -122,6 +126,12 @@ func New(opt Options) (*Server, error) {
 	}
 	if opt.MaxRuns == 0 {
 		opt.MaxRuns = DefaultMaxRuns
+	}
+	if opt.WriteTimeout < 0 {
+		return nil, fmt.Errorf("write timeout = %v: must be positive (0: the default, %v)", opt.WriteTimeout, DefaultWriteTimeout)
+	}
+	if opt.WriteTimeout == 0 {
+		opt.WriteTimeout = DefaultWriteTimeout
 	}
 	hosts, err := allowedHosts(opt.Addr, opt.Hosts)
 	if err != nil {

@@ -192,6 +192,7 @@ func TestRingMemoryBound(t *testing.T) {
 	// changes nothing.
 	srv, base := startServer(t, server.Options{Workers: 1, RingSize: 1024, Scenario: writeScenario(t, "small-hex", smallHex)})
 	cl := dial(t, base, "1")
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" }) // joined
 	before := srv.Run("1").Info()
 	r := cl.reply(cl.send("set-grid", map[string]any{"kind": "hex", "n": 128}), nil)
 	if r.Type != "error" || r.fieldName() != "grid.n" || !strings.Contains(r.Message, "ring") || !strings.Contains(r.Message, "at most 512") {

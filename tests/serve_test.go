@@ -98,8 +98,8 @@ func TestServe(t *testing.T) {
 	}
 }
 
-// TestServeBadOptions: a bad address, scenario, frame rate or ring size is
-// an error naming it.
+// TestServeBadOptions: a bad address, scenario, frame rate, ring size,
+// bound on runs, write timeout or host name is an error naming it.
 func TestServeBadOptions(t *testing.T) {
 	cases := []struct {
 		opt  server.Options
@@ -110,6 +110,9 @@ func TestServeBadOptions(t *testing.T) {
 		{server.Options{Addr: "127.0.0.1:0", MaxFPS: -1}, "fps = -1: allowed 1 to 120"},
 		{server.Options{Addr: "127.0.0.1:0", MaxFPS: 500}, "fps = 500: allowed 1 to 120"},
 		{server.Options{Addr: "127.0.0.1:0", RingSize: 5000}, "ring = 5000: allowed 1 to 1024"},
+		{server.Options{Addr: "127.0.0.1:0", MaxRuns: 1000}, "max-runs = 1000: allowed 1 to 256"},
+		{server.Options{Addr: "127.0.0.1:0", WriteTimeout: -time.Second}, "write timeout = -1s: must be positive"},
+		{server.Options{Addr: "127.0.0.1:0", Hosts: []string{"lab-pc:8080"}}, `host = "lab-pc:8080"`},
 	}
 	for _, tc := range cases {
 		ctx, cancel := context.WithTimeout(context.Background(), hang)
