@@ -30,6 +30,13 @@ import (
 // fails because something took long but less than this.
 const hang = 2 * time.Minute
 
+// analysisHang bounds a wait for the linear analysis. The server runs it
+// at the lowest CPU priority (nice 19), so it gets only the time other
+// work leaves idle: under the race detector, beside the other packages'
+// tests on a busy machine, that can be minutes. Still a guard against a
+// hang, not a judgement of speed.
+const analysisHang = 10 * time.Minute
+
 // startServer runs the workbench on 127.0.0.1 with a random port.
 func startServer(t testing.TB, opt server.Options) (*server.Server, string) {
 	t.Helper()

@@ -253,7 +253,7 @@ func (rc *rawClient) waitStability(t *testing.T, ok func(stability) bool) stabil
 	t.Helper()
 	for {
 		var s stability
-		if err := json.Unmarshal(rc.next(t, "stability", hang), &s); err != nil {
+		if err := json.Unmarshal(rc.next(t, "stability", analysisHang), &s); err != nil {
 			t.Fatal(err)
 		}
 		if s.State == "failed" {
@@ -269,7 +269,7 @@ func (rc *rawClient) waitDispersion(t *testing.T) dispersion {
 	t.Helper()
 	for {
 		var d dispersion
-		if err := json.Unmarshal(rc.next(t, "dispersion", hang), &d); err != nil {
+		if err := json.Unmarshal(rc.next(t, "dispersion", analysisHang), &d); err != nil {
 			t.Fatal(err)
 		}
 		switch d.State {
