@@ -6,7 +6,9 @@
 # Inside the container the workbench listens on 0.0.0.0:8080, the only way
 # a published port can reach it; publish it on the host's loopback as above
 # unless you mean to share it with the network (anyone who can reach it can
-# control the runs).
+# control the runs). A browser on the host sends Host: localhost:PORT,
+# which the workbench accepts; to reach it from other machines by a name,
+# add that name: docker run ... gyrebench serve --addr 0.0.0.0:8080 --host NAME
 
 FROM golang:1.26-bookworm AS build
 WORKDIR /src

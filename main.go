@@ -35,6 +35,12 @@ func serve(ctx context.Context, args []string) int {
 	workers := fs.Int("workers", 0, "goroutines per run for the tendency loops (0: by mesh size)")
 	ring := fs.Int("ring", 64, "recent states kept per run for scrubbing back after a blow-up")
 	fps := fs.Int("fps", server.DefaultMaxFPS, fmt.Sprintf("most field frames per second sent to each watcher (1 to %d)", server.MaxFPSLimit))
+	var hosts []string
+	fs.Func("host", "a name the workbench also answers to, such as the machine's LAN name (repeatable); requests naming any other host are refused", func(v string) error {
+		hosts = append(hosts, v)
+		return nil
+	})
+	maxRuns := fs.Int("max-runs", server.DefaultMaxRuns, fmt.Sprintf("most live runs and pairs held at once (1 to %d)", server.MaxRunsLimit))
 	sweeps := fs.String("sweeps", "", "folder for the sweeps started from the workbench, one new folder each (default: gyrebench/sweeps in the user cache folder)")
 	if err := fs.Parse(args); err != nil {
 		return cli.ExitBadInput
@@ -51,7 +57,11 @@ func serve(ctx context.Context, args []string) int {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: --fps %d: allowed 1 to %d field frames per second\n", *fps, server.MaxFPSLimit)
 		return cli.ExitBadInput
 	}
-	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr, SweepDir: *sweeps, MaxFPS: *fps})
+	if *maxRuns < 1 || *maxRuns > server.MaxRunsLimit {
+		fmt.Fprintf(os.Stderr, "gyrebench serve: --max-runs %d: allowed 1 to %d live runs and pairs\n", *maxRuns, server.MaxRunsLimit)
+		return cli.ExitBadInput
+	}
+	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr, SweepDir: *sweeps, MaxFPS: *fps, Hosts: hosts, MaxRuns: *maxRuns})
 	if err != nil {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: %v\n", err)
 		return cli.ExitBadInput

@@ -190,6 +190,10 @@ func (r *Run) apply(m clientMsg) error {
 		if err != nil {
 			return refuseErr("reset", "", err)
 		}
+		if err := ringFits(r.ringSize, nm.Mesh().NumCells); err != nil {
+			nm.Close()
+			return refuseErr("ring", strconv.Itoa(r.ringSize), err)
+		}
 		r.install(nm, r.scenario, r.title)
 		r.afterInstall()
 	case "load":
@@ -207,6 +211,10 @@ func (r *Run) apply(m clientMsg) error {
 		}
 		nm, err := sim.NewModel(sc.Config, r.workers)
 		if err != nil {
+			return refuseErr("scenario", name, err)
+		}
+		if err := ringFits(r.ringSize, nm.Mesh().NumCells); err != nil {
+			nm.Close()
 			return refuseErr("scenario", name, err)
 		}
 		r.install(nm, name, sc.Config.Title)
@@ -369,7 +377,11 @@ func (r *Run) setGrid(raw json.RawMessage) error {
 	if ce := resolutionRange(g.Kind, n, maxLiveN(g.Kind, cfg, msh)); ce != nil {
 		return ce
 	}
-	if _, err := liveSpec(g.Kind, n, cfg, msh).Cells(); err != nil {
+	cells, err := liveSpec(g.Kind, n, cfg, msh).Cells()
+	if err != nil {
+		return refuseErr("grid.n", strconv.Itoa(n), err)
+	}
+	if err := ringFits(r.ringSize, cells); err != nil {
 		return refuseErr("grid.n", strconv.Itoa(n), err)
 	}
 	label := "grid: " + gridName(g.Kind, n)

@@ -22,6 +22,15 @@
 // the first step or change after that forgets the entries, points and
 // markers that came later.
 //
+// # Limits
+//
+// Every request must name the workbench by a host it answers to (hosts.go):
+// loopback, the bound address and Options.Hosts; anything else gets 421,
+// the defence against DNS rebinding. Live runs and pairs together are
+// bounded by Options.MaxRuns, one run's ring by MaxRingCells (ring entries
+// × cells), every form body by its own byte bound, and a websocket write
+// by Options.WriteTimeout.
+//
 // # Latest wins
 //
 // The run never waits for a client. Each subscriber has an ordered queue of

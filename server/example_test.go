@@ -9,7 +9,8 @@ import (
 )
 
 // A Server is an http.Handler; its first run opens the default scenario,
-// paused, and /api/runs lists the runs.
+// paused, and /api/runs lists the runs. It answers only to the host
+// names it was told of (Options.Hosts) besides loopback.
 func ExampleNew() {
 	srv, err := server.New(server.Options{Workers: 1})
 	if err != nil {
@@ -18,7 +19,7 @@ func ExampleNew() {
 	}
 	defer srv.Close()
 	rec := httptest.NewRecorder()
-	srv.ServeHTTP(rec, httptest.NewRequest("GET", "/api/runs", nil))
+	srv.ServeHTTP(rec, httptest.NewRequest("GET", "http://localhost/api/runs", nil))
 	var runs []server.RunInfo
 	if err := json.Unmarshal(rec.Body.Bytes(), &runs); err != nil {
 		fmt.Println(err)

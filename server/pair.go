@@ -56,9 +56,6 @@ import (
 // and field frames with byte 3 (zero in the run protocol) set to the
 // side: 1 A, 2 B, 3 A − B.
 
-// MaxPairs bounds the pairs one server holds.
-const MaxPairs = 4
-
 // Side tags of binary messages (byte 3).
 const (
 	tagA    = 1

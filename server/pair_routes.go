@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/coder/websocket"
 	"github.com/go-chi/chi/v5"
@@ -68,17 +69,17 @@ func (ps *pairs) list() []*Pair {
 // connections, so that Close waits for it.
 func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 	s := ps.s
-	ps.mu.Lock()
-	if len(ps.byID) >= MaxPairs {
-		ps.mu.Unlock()
-		return nil, fmt.Errorf("pairs: %d pairs are open, the most the workbench holds", len(ps.byID))
+	if err := s.reserve("pairs"); err != nil {
+		return nil, err
 	}
+	ps.mu.Lock()
 	ps.next++
 	id := strconv.Itoa(ps.next)
 	ps.mu.Unlock()
 	s.mu.Lock()
 	if s.closed {
 		s.mu.Unlock()
+		s.unreserve()
 		return nil, fmt.Errorf("the workbench is shutting down")
 	}
 	s.conns.Add(1)
@@ -86,6 +87,7 @@ func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 	p, err := newPair(s.ctx, id, label, cfg, s.runLimits())
 	if err != nil {
 		s.conns.Done()
+		s.unreserve()
 		return nil, err
 	}
 	go func() {
@@ -171,9 +173,8 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "cross-site request refused: pairs are started from the workbench's own pages", http.StatusForbidden)
 		return
 	}
-	req.Body = http.MaxBytesReader(w, req.Body, 8192)
-	if err := req.ParseForm(); err != nil {
-		ps.renderNew(w, req, "", "form: "+err.Error(), http.StatusBadRequest)
+	if code, err := parseForm(w, req, pairFormBytes); err != nil {
+		ps.renderNew(w, req, "", err.Error(), code)
 		return
 	}
 	f := req.PostForm
@@ -195,7 +196,7 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 	}
 	p, err := ps.start(label, cfgs)
 	if err != nil {
-		ps.renderNew(w, req, base, err.Error(), http.StatusBadRequest)
+		ps.renderNew(w, req, base, err.Error(), startStatus(err))
 		return
 	}
 	http.Redirect(w, req, "/pair/"+p.ID(), http.StatusSeeOther)
@@ -332,7 +333,7 @@ func (ps *pairs) serveWS(w http.ResponseWriter, req *http.Request) {
 	go func() {
 		defer close(wrote)
 		defer cancel()
-		pairWriteLoop(ctx, c, cl)
+		pairWriteLoop(ctx, c, cl, s.opt.WriteTimeout)
 	}()
 	pairReadLoop(ctx, c, p, cl)
 	cancel()
@@ -385,7 +386,7 @@ func parsePairMsg(data []byte) (pairMsg, *cmdError) {
 
 // pairWriteLoop drains a pair client's three subscribers, tagging each
 // message with its side (pair.go).
-func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
+func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient, timeout time.Duration) {
 	subs := [3]*subscriber{cl.side[0], cl.side[1], cl.own}
 	tags := [3]string{"a", "b", ""}
 	bins := [3]byte{tagA, tagB, tagDiff}
@@ -440,7 +441,7 @@ func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
 					data[3] = bins[i]
 				}
 				buf = data
-				if err := write(ctx, c, m.typ, data); err != nil {
+				if err := write(ctx, c, m.typ, data, timeout); err != nil {
 					release()
 					return
 				}
@@ -451,7 +452,7 @@ func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient) {
 				buf[3] = bins[i]
 				g.f.release()
 				g.f = nil
-				if err := write(ctx, c, binMsg, buf); err != nil {
+				if err := write(ctx, c, binMsg, buf, timeout); err != nil {
 					release()
 					return
 				}

@@ -1,6 +1,10 @@
 package server
 
-import "gyrebench/sim"
+import (
+	"fmt"
+
+	"gyrebench/sim"
+)
 
 // snapshot is one saved state of a run.
 type snapshot struct {
@@ -76,4 +80,20 @@ func (g *ring) entries() []ringEntry {
 		e[i] = ringEntry{T: num(s.t), Steps: s.steps}
 	}
 	return e
+}
+
+// MaxRingCells bounds one run's ring: recent states kept × cells of the
+// grid. A state holds a depth per cell and a velocity per edge (at most
+// three edges per cell), 8 bytes each, so the bound is about 256 MiB of
+// saved states per run. The default ring on the largest live grid fits.
+const MaxRingCells = DefaultRingSize * MaxLiveCells
+
+// ringFits refuses a grid whose states the ring of ringSize entries
+// could not keep within MaxRingCells.
+func ringFits(ringSize, cells int) error {
+	if cells <= 0 || ringSize <= MaxRingCells/cells {
+		return nil
+	}
+	return fmt.Errorf("ring: %d recent states of a %d-cell grid are %d cell-states, more than a run may keep (%d, about %d MiB); allowed on this grid: a ring of at most %d (serve --ring), or a grid of at most %d cells with this ring",
+		ringSize, cells, ringSize*cells, MaxRingCells, MaxRingCells*32>>20, MaxRingCells/cells, MaxRingCells/ringSize)
 }

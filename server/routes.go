@@ -3,6 +3,8 @@ package server
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
+	"fmt"
 	"net/http"
 	"net/url"
 	"slices"
@@ -55,6 +57,7 @@ func label(m map[string]string, name string) string {
 
 func (s *Server) routes() chi.Router {
 	r := chi.NewRouter()
+	r.Use(s.checkHost) // every route, websockets included (hosts.go)
 	r.Use(middleware.GetHead)
 	r.Get("/", s.serveIndex)
 	r.Get("/runs", s.serveRuns)
@@ -179,9 +182,8 @@ func (s *Server) createRun(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "cross-site request refused: runs are created from the workbench's own pages", http.StatusForbidden)
 		return
 	}
-	req.Body = http.MaxBytesReader(w, req.Body, 4096)
-	if err := req.ParseForm(); err != nil {
-		s.renderRuns(w, req, "form: "+err.Error(), http.StatusBadRequest)
+	if code, err := parseForm(w, req, runFormBytes); err != nil {
+		s.renderRuns(w, req, err.Error(), code)
 		return
 	}
 	name := req.PostForm.Get("scenario")
@@ -196,7 +198,7 @@ func (s *Server) createRun(w http.ResponseWriter, req *http.Request) {
 	}
 	r, err := s.startRun(label, cfg)
 	if err != nil {
-		s.renderRuns(w, req, err.Error(), http.StatusTooManyRequests)
+		s.renderRuns(w, req, err.Error(), startStatus(err))
 		return
 	}
 	http.Redirect(w, req, "/run/"+r.ID(), http.StatusSeeOther)
@@ -204,6 +206,29 @@ func (s *Server) createRun(w http.ResponseWriter, req *http.Request) {
 
 // sameOrigin refuses form posts from other sites: the browser's
 // Sec-Fetch-Site, or else the Origin header, must say this site.
+// Bounds on the bodies of the workbench's forms.
+const (
+	runFormBytes  = 4 << 10
+	pairFormBytes = 8 << 10
+	stopFormBytes = 1 << 10
+	// sweepFormBytes is in sweep_routes.go.
+)
+
+// parseForm reads a POST form of at most limit bytes. A larger body is
+// refused (413) with a message naming the limit; the status and the
+// message are for the caller's page.
+func parseForm(w http.ResponseWriter, req *http.Request, limit int64) (int, error) {
+	req.Body = http.MaxBytesReader(w, req.Body, limit)
+	if err := req.ParseForm(); err != nil {
+		var tooBig *http.MaxBytesError
+		if errors.As(err, &tooBig) {
+			return http.StatusRequestEntityTooLarge, fmt.Errorf("form: the request body is larger than %d bytes, the most this form takes", limit)
+		}
+		return http.StatusBadRequest, fmt.Errorf("form: %v", err)
+	}
+	return 0, nil
+}
+
 func sameOrigin(req *http.Request) bool {
 	switch req.Header.Get("Sec-Fetch-Site") {
 	case "same-origin":

@@ -160,6 +160,10 @@ func buildRun(ctx context.Context, id, scenario string, cfg sim.Config, lim runL
 	if ringSize <= 0 {
 		ringSize = DefaultRingSize
 	}
+	if err := ringFits(ringSize, m.Mesh().NumCells); err != nil {
+		m.Close()
+		return nil, err
+	}
 	if lim.frameEvery <= 0 {
 		lim.frameEvery = time.Second / DefaultMaxFPS
 	}

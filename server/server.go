@@ -42,17 +42,32 @@ type Options struct {
 	// folder each; "" = gyrebench/sweeps under os.UserCacheDir(). It is
 	// created when the first sweep starts.
 	SweepDir string
+	// Hosts are names the workbench answers to besides loopback and the
+	// address it is bound to, such as the machine's LAN name (serve
+	// --host); a request naming any other host is refused (hosts.go).
+	Hosts []string
+	// WriteTimeout bounds one websocket write: a client that has not
+	// accepted a message within it is disconnected; 0 =
+	// DefaultWriteTimeout.
+	WriteTimeout time.Duration
+	// MaxRuns bounds the live runs and pairs together (a pair counts
+	// once); 0 = DefaultMaxRuns.
+	MaxRuns int
 }
 
 // DefaultAddr is where Serve listens when Options.Addr is empty.
 const DefaultAddr = "127.0.0.1:8080"
 
-// MaxRuns bounds the runs one server holds.
-const MaxRuns = 16
+// DefaultMaxRuns is the most live runs and pairs a server holds when
+// Options.MaxRuns is 0; MaxRunsLimit bounds Options.MaxRuns.
+const (
+	DefaultMaxRuns = 16
+	MaxRunsLimit   = 256
+)
 
 // HTTP timeouts. Websocket connections are hijacked, which clears the
 // connection deadlines these set, so they apply to pages and files only;
-// a websocket write has its own timeout (writeTimeout).
+// a websocket write has its own timeout (Options.WriteTimeout).
 const (
 	readHeaderTimeout = 5 * time.Second
 	readTimeout       = 30 * time.Second
@@ -70,10 +85,12 @@ type Server struct {
 	cancel context.CancelFunc
 	mux    chi.Router
 	files  map[string]staticFile
+	hosts  []string // the Host names it answers to (hosts.go)
 
 	mu     sync.Mutex
 	closed bool
 	runs   map[string]*Run
+	live   int      // runs and pairs held, against Options.MaxRuns
 	order  []string // run ids, oldest first
 	next   int
 	conns  sync.WaitGroup
@@ -105,6 +122,22 @@ func New(opt Options) (*Server, error) {
 	if opt.MaxFPS == 0 {
 		opt.MaxFPS = DefaultMaxFPS
 	}
+	if opt.MaxRuns < 0 || opt.MaxRuns > MaxRunsLimit {
+		return nil, fmt.Errorf("max-runs = %d: allowed 1 to %d live runs and pairs (0: the default, %d)", opt.MaxRuns, MaxRunsLimit, DefaultMaxRuns)
+	}
+	if opt.MaxRuns == 0 {
+		opt.MaxRuns = DefaultMaxRuns
+	}
+	if opt.WriteTimeout < 0 {
+		return nil, fmt.Errorf("write timeout = %v: must be positive (0: the default, %v)", opt.WriteTimeout, DefaultWriteTimeout)
+	}
+	if opt.WriteTimeout == 0 {
+		opt.WriteTimeout = DefaultWriteTimeout
+	}
+	hosts, err := allowedHosts(opt.Addr, opt.Hosts)
+	if err != nil {
+		return nil, err
+	}
 	if opt.Stderr == nil {
 		opt.Stderr = io.Discard
 	}
@@ -121,7 +154,7 @@ func New(opt Options) (*Server, error) {
 		return nil, err
 	}
 	ctx, cancel := context.WithCancel(context.Background())
-	s := &Server{opt: opt, ctx: ctx, cancel: cancel, files: files, runs: map[string]*Run{}}
+	s := &Server{opt: opt, ctx: ctx, cancel: cancel, files: files, hosts: hosts, runs: map[string]*Run{}}
 	if _, err := s.startRun(label, cfg); err != nil {
 		cancel()
 		return nil, err
@@ -188,20 +221,16 @@ func loadStatic() (map[string]staticFile, error) {
 
 // startRun registers a new run of the given scenario.
 func (s *Server) startRun(label string, cfg sim.Config) (*Run, error) {
+	if err := s.reserve("runs"); err != nil {
+		return nil, err
+	}
 	s.mu.Lock()
-	if s.closed {
-		s.mu.Unlock()
-		return nil, errors.New("the workbench is shutting down")
-	}
-	if len(s.runs) >= MaxRuns {
-		s.mu.Unlock()
-		return nil, fmt.Errorf("runs: %d runs are open, the most the workbench holds; reuse one of them", len(s.runs))
-	}
 	s.next++
 	id := strconv.Itoa(s.next)
 	s.mu.Unlock()
 	r, err := newRun(s.ctx, id, label, cfg, s.runLimits(), helloMsg)
 	if err != nil {
+		s.unreserve()
 		return nil, err
 	}
 	s.mu.Lock()
@@ -209,6 +238,43 @@ func (s *Server) startRun(label string, cfg sim.Config) (*Run, error) {
 	s.runs[id] = r
 	s.order = append(s.order, id)
 	return r, nil
+}
+
+// reserve counts one more live run or pair against Options.MaxRuns, or
+// refuses; what names the kind for the message.
+func (s *Server) reserve(what string) error {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.closed {
+		return errors.New("the workbench is shutting down")
+	}
+	if s.live >= s.opt.MaxRuns {
+		return fullError{fmt.Sprintf("%s: %d runs and pairs are open, the most this workbench holds (serve --max-runs %d); reuse one of them, or start the workbench with a larger --max-runs", what, s.live, s.opt.MaxRuns)}
+	}
+	s.live++
+	return nil
+}
+
+// fullError is the refusal of a run or pair beyond Options.MaxRuns.
+type fullError struct{ msg string }
+
+func (e fullError) Error() string { return e.msg }
+
+// startStatus is the HTTP status for an error starting a run or pair:
+// 429 when the workbench is full, 400 for anything else.
+func startStatus(err error) int {
+	var full fullError
+	if errors.As(err, &full) {
+		return http.StatusTooManyRequests
+	}
+	return http.StatusBadRequest
+}
+
+// unreserve gives back a reservation whose run or pair failed to start.
+func (s *Server) unreserve() {
+	s.mu.Lock()
+	s.live--
+	s.mu.Unlock()
 }
 
 // Run returns the run with the given id, or nil.

@@ -592,9 +592,8 @@ func (sw *sweeps) create(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "cross-site request refused: sweeps are started from the workbench's own pages", http.StatusForbidden)
 		return
 	}
-	req.Body = http.MaxBytesReader(w, req.Body, sweepFormBytes)
-	if err := req.ParseForm(); err != nil {
-		sw.renderNew(w, req, sweepForm{Base: scenarios.Default}, &formError{"form", fmt.Sprintf("form: %v (at most %d bytes)", err, sweepFormBytes)}, http.StatusBadRequest)
+	if code, err := parseForm(w, req, sweepFormBytes); err != nil {
+		sw.renderNew(w, req, sweepForm{Base: scenarios.Default}, &formError{"form", err.Error()}, code)
 		return
 	}
 	pf := req.PostForm
@@ -814,6 +813,10 @@ func (sw *sweeps) serveResults(w http.ResponseWriter, req *http.Request) {
 func (sw *sweeps) serveStop(w http.ResponseWriter, req *http.Request) {
 	if !sameOrigin(req) {
 		http.Error(w, "cross-site request refused: sweeps are stopped from the workbench's own pages", http.StatusForbidden)
+		return
+	}
+	if code, err := parseForm(w, req, stopFormBytes); err != nil {
+		http.Error(w, err.Error(), code)
 		return
 	}
 	j := sw.job(w, req)

@@ -260,6 +260,10 @@ func (r *Run) startReplay(raw json.RawMessage) error {
 	if err != nil {
 		return refuseErr("timeline", name, err)
 	}
+	if err := ringFits(r.ringSize, nm.Mesh().NumCells); err != nil {
+		nm.Close()
+		return refuseErr("timeline", name, err)
+	}
 	r.install(nm, "timeline "+strings.TrimSuffix(name, ".toml"), tl.Config.Title)
 	r.tl.player, r.tl.name, r.tl.note = timeline.NewPlayer(tl), name, ""
 	r.afterInstall()

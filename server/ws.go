@@ -16,9 +16,10 @@ const (
 	// maxClientMsg bounds a command message; a bigger one closes the
 	// connection (websocket status 1009).
 	maxClientMsg = 1 << 16
-	// wsWriteTimeout bounds one websocket write; a client that takes longer
-	// to accept a message is disconnected.
-	wsWriteTimeout = 20 * time.Second
+	// DefaultWriteTimeout bounds one websocket write when
+	// Options.WriteTimeout is 0; a client that takes longer to accept a
+	// message is disconnected.
+	DefaultWriteTimeout = 20 * time.Second
 )
 
 // serveWS connects a websocket client to a run: a reader goroutine (this
@@ -59,7 +60,7 @@ func (s *Server) serveWS(w http.ResponseWriter, req *http.Request) {
 	go func() {
 		defer close(wrote)
 		defer cancel()
-		writeLoop(ctx, c, sub)
+		writeLoop(ctx, c, sub, s.opt.WriteTimeout)
 	}()
 	readLoop(ctx, c, run, sub)
 	cancel()
@@ -96,7 +97,7 @@ func readLoop(ctx context.Context, c *websocket.Conn, run *Run, sub *subscriber)
 	}
 }
 
-func writeLoop(ctx context.Context, c *websocket.Conn, sub *subscriber) {
+func writeLoop(ctx context.Context, c *websocket.Conn, sub *subscriber, timeout time.Duration) {
 	var msgs []outMsg
 	var buf []byte
 	for {
@@ -117,7 +118,7 @@ func writeLoop(ctx context.Context, c *websocket.Conn, sub *subscriber) {
 			return
 		}
 		for i, m := range msgs {
-			if err := write(ctx, c, m.typ, m.data); err != nil {
+			if err := write(ctx, c, m.typ, m.data, timeout); err != nil {
 				if f != nil {
 					f.release()
 				}
@@ -128,15 +129,15 @@ func writeLoop(ctx context.Context, c *websocket.Conn, sub *subscriber) {
 		if f != nil {
 			buf = patchSkipped(buf, f.buf, skipped)
 			f.release()
-			if err := write(ctx, c, binMsg, buf); err != nil {
+			if err := write(ctx, c, binMsg, buf, timeout); err != nil {
 				return
 			}
 		}
 	}
 }
 
-func write(ctx context.Context, c *websocket.Conn, typ websocket.MessageType, data []byte) error {
-	ctx, cancel := context.WithTimeout(ctx, wsWriteTimeout)
+func write(ctx context.Context, c *websocket.Conn, typ websocket.MessageType, data []byte, timeout time.Duration) error {
+	ctx, cancel := context.WithTimeout(ctx, timeout)
 	defer cancel()
 	return c.Write(ctx, typ, data)
 }

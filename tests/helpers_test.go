@@ -24,6 +24,19 @@ import (
 	"gyrebench/sim/cli"
 )
 
+// hang bounds every wait in these tests. It is a guard against a hang,
+// not a judgement of speed: a correct program meets it by orders of
+// magnitude even under the race detector on a busy machine, and no test
+// fails because something took long but less than this.
+const hang = 2 * time.Minute
+
+// analysisHang bounds a wait for the linear analysis. The server runs it
+// at the lowest CPU priority (nice 19), so it gets only the time other
+// work leaves idle: under the race detector, beside the other packages'
+// tests on a busy machine, that can be minutes. Still a guard against a
+// hang, not a judgement of speed.
+const analysisHang = 10 * time.Minute
+
 // startServer runs the workbench on 127.0.0.1 with a random port.
 func startServer(t testing.TB, opt server.Options) (*server.Server, string) {
 	t.Helper()
@@ -76,6 +89,7 @@ type msg struct {
 	StepsPerSec float64  `json:"steps_per_s"`
 	WallS       float64  `json:"wall_s"`
 	Skipped     int64    `json:"frames_skipped"`
+	Watchers    int      `json:"watchers"`
 	BlowUp      *blowUp  `json:"blowup"`
 	Scheme      string   `json:"scheme"`
 	Integrator  string   `json:"integrator"`
@@ -134,7 +148,7 @@ type client struct {
 // dial connects to run id; the client reads until the test ends.
 func dial(t testing.TB, base, id string) *client {
 	t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	u := "ws" + strings.TrimPrefix(base, "http") + "/run/" + id + "/ws"
 	c, _, err := websocket.Dial(ctx, u, nil)
@@ -204,7 +218,7 @@ func (cl *client) send(cmd string, value any) int64 {
 
 func (cl *client) sendRaw(typ websocket.MessageType, b []byte) {
 	cl.t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	if err := cl.c.Write(ctx, typ, b); err != nil {
 		cl.t.Fatalf("write %s: %v", b, err)
@@ -254,7 +268,7 @@ func (cl *client) until(timeout time.Duration, what string, f func(msg) bool) {
 func (cl *client) reply(id int64, seen func(msg)) msg {
 	cl.t.Helper()
 	var r msg
-	cl.until(30*time.Second, "the reply to a command", func(m msg) bool {
+	cl.until(hang, "the reply to a command", func(m msg) bool {
 		if (m.Type == "ack" || m.Type == "error") && m.ID == id {
 			r = m
 			return true
@@ -281,7 +295,7 @@ func (cl *client) mustAck(cmd string, value any, seen func(msg)) {
 // after a few frames rather than after megabytes.
 func dialRaw(t testing.TB, base, id string) *websocket.Conn {
 	t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	u := "ws" + strings.TrimPrefix(base, "http") + "/run/" + id + "/ws"
 	var d net.Dialer

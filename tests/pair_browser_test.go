@@ -8,7 +8,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-	"time"
 
 	"github.com/chromedp/chromedp"
 
@@ -50,7 +49,7 @@ func navigate(t testing.TB, ctx context.Context, prefix string, actions ...chrom
 func TestPairBrowser(t *testing.T) {
 	ctx := browser(t)
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
-	const wait = 30 * time.Second
+	const wait = hang
 
 	do(t, ctx, chromedp.Navigate(base+"/run/1"))
 	poll(t, ctx, "the run page", role("field-canvas")+`.dataset.frames > 0`, wait)
@@ -77,7 +76,7 @@ func TestPairBrowser(t *testing.T) {
 	screenshot(t, ctx, "", "pair-01-start.png")
 
 	do(t, ctx, chromedp.Click(sel("play-pause")))
-	poll(t, ctx, "both sides past 6 h", sideRole("sim-time", "a")+`.dataset.seconds > 21600 && `+sideRole("sim-time", "b")+`.dataset.seconds > 21600`, 60*time.Second)
+	poll(t, ctx, "both sides past 6 h", sideRole("sim-time", "a")+`.dataset.seconds > 21600 && `+sideRole("sim-time", "b")+`.dataset.seconds > 21600`, hang)
 	do(t, ctx, chromedp.Click(sel("play-pause")))
 	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, wait)
 	poll(t, ctx, "a non-zero A − B", role("diff-canvas")+`.dataset.maxAbs > 0 && `+role("diff-canvas")+`.dataset.steps === `+sideRole("field-canvas", "a")+`.dataset.steps`, wait)
@@ -106,7 +105,7 @@ func TestPairBrowser(t *testing.T) {
 func TestTimelineBrowser(t *testing.T) {
 	ctx := browser(t)
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
-	const wait = 30 * time.Second
+	const wait = hang
 
 	do(t, ctx, chromedp.Navigate(base+"/run/1"))
 	poll(t, ctx, "the first frame", role("field-canvas")+`.dataset.frames > 0 && `+role("run-state")+`.textContent === 'paused'`, wait)

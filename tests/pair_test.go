@@ -53,7 +53,7 @@ type pairConn struct {
 
 func dialPair(t testing.TB, base, id string) *pairConn {
 	t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	u := "ws" + strings.TrimPrefix(base, "http") + "/pair/" + id + "/ws"
 	c, _, err := websocket.Dial(ctx, u, nil)
@@ -123,7 +123,7 @@ func (pc *pairConn) read(ctx context.Context) {
 
 func (pc *pairConn) until(what string, f func(pmsg) bool) {
 	pc.t.Helper()
-	deadline := time.After(60 * time.Second)
+	deadline := time.After(hang)
 	for {
 		select {
 		case p, ok := <-pc.in:
@@ -153,7 +153,7 @@ func (pc *pairConn) do(side, cmd string, value any, seen func(pmsg)) msg {
 		m["value"] = value
 	}
 	b, _ := json.Marshal(m)
-	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	if err := pc.c.Write(ctx, websocket.MessageText, b); err != nil {
 		pc.t.Fatal(err)

@@ -198,7 +198,7 @@ type rawClient struct {
 // the linear panel's messages).
 func dialRawJSON(t *testing.T, base, id string) *rawClient {
 	t.Helper()
-	dctx, dcancel := context.WithTimeout(context.Background(), 10*time.Second)
+	dctx, dcancel := context.WithTimeout(context.Background(), hang)
 	defer dcancel()
 	c, _, err := websocket.Dial(dctx, "ws"+strings.TrimPrefix(base, "http")+"/run/"+id+"/ws", nil)
 	if err != nil {
@@ -253,7 +253,7 @@ func (rc *rawClient) waitStability(t *testing.T, ok func(stability) bool) stabil
 	t.Helper()
 	for {
 		var s stability
-		if err := json.Unmarshal(rc.next(t, "stability", 60*time.Second), &s); err != nil {
+		if err := json.Unmarshal(rc.next(t, "stability", analysisHang), &s); err != nil {
 			t.Fatal(err)
 		}
 		if s.State == "failed" {
@@ -269,7 +269,7 @@ func (rc *rawClient) waitDispersion(t *testing.T) dispersion {
 	t.Helper()
 	for {
 		var d dispersion
-		if err := json.Unmarshal(rc.next(t, "dispersion", 60*time.Second), &d); err != nil {
+		if err := json.Unmarshal(rc.next(t, "dispersion", analysisHang), &d); err != nil {
 			t.Fatal(err)
 		}
 		switch d.State {

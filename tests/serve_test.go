@@ -78,7 +78,7 @@ func TestServe(t *testing.T) {
 			}
 			// A websocket client is connected when the context ends: Serve
 			// must close it and return.
-			wctx, wcancel := context.WithTimeout(context.Background(), 5*time.Second)
+			wctx, wcancel := context.WithTimeout(context.Background(), hang)
 			defer wcancel()
 			c, _, err := websocket.Dial(wctx, "ws"+strings.TrimPrefix(link, "http")+"run/1/ws", nil)
 			if err != nil {
@@ -91,15 +91,15 @@ func TestServe(t *testing.T) {
 				if err != nil {
 					t.Errorf("Serve returned %v after its context ended, want nil", err)
 				}
-			case <-time.After(15 * time.Second):
-				t.Fatal("Serve did not return within 15 s of its context ending")
+			case <-time.After(hang):
+				t.Fatalf("Serve did not return within %v of its context ending (a guard against a hang)", hang)
 			}
 		})
 	}
 }
 
-// TestServeBadOptions: a bad address, scenario, frame rate or ring size is
-// an error naming it.
+// TestServeBadOptions: a bad address, scenario, frame rate, ring size,
+// bound on runs, write timeout or host name is an error naming it.
 func TestServeBadOptions(t *testing.T) {
 	cases := []struct {
 		opt  server.Options
@@ -110,9 +110,12 @@ func TestServeBadOptions(t *testing.T) {
 		{server.Options{Addr: "127.0.0.1:0", MaxFPS: -1}, "fps = -1: allowed 1 to 120"},
 		{server.Options{Addr: "127.0.0.1:0", MaxFPS: 500}, "fps = 500: allowed 1 to 120"},
 		{server.Options{Addr: "127.0.0.1:0", RingSize: 5000}, "ring = 5000: allowed 1 to 1024"},
+		{server.Options{Addr: "127.0.0.1:0", MaxRuns: 1000}, "max-runs = 1000: allowed 1 to 256"},
+		{server.Options{Addr: "127.0.0.1:0", WriteTimeout: -time.Second}, "write timeout = -1s: must be positive"},
+		{server.Options{Addr: "127.0.0.1:0", Hosts: []string{"lab-pc:8080"}}, `host = "lab-pc:8080"`},
 	}
 	for _, tc := range cases {
-		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+		ctx, cancel := context.WithTimeout(context.Background(), hang)
 		err := server.Serve(ctx, tc.opt)
 		cancel()
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
@@ -127,12 +130,12 @@ func TestRunsAndWatchers(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
 	a, b := dial(t, base, "1"), dial(t, base, "1")
 	for _, cl := range []*client{a, b} {
-		cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+		cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	}
 	// One watcher changes Δt; the other sees the new config and the marker.
 	a.mustAck("set-dt", 90, nil)
 	var conf, mark msg
-	b.until(10*time.Second, "the change, seen by the other watcher", func(m msg) bool {
+	b.until(hang, "the change, seen by the other watcher", func(m msg) bool {
 		switch m.Type {
 		case "config":
 			conf = m
@@ -156,7 +159,7 @@ func TestRunsAndWatchers(t *testing.T) {
 		t.Fatalf("POST /runs: %s to %q, want 303 to /run/2", resp.Status, resp.Header.Get("Location"))
 	}
 	c := dial(t, base, "2")
-	c.until(10*time.Second, "the new run's config", func(m msg) bool {
+	c.until(hang, "the new run's config", func(m msg) bool {
 		if m.Type == "config" {
 			if m.Scheme != "al81" || m.Grid.Kind != "quad" {
 				t.Errorf("run 2 config = %+v, want the dipole scenario (al81 on quad)", m)
@@ -193,7 +196,7 @@ func TestRunsAndWatchers(t *testing.T) {
 	if resp.StatusCode != http.StatusForbidden {
 		t.Errorf("cross-site POST /runs: %s, want 403", resp.Status)
 	}
-	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	ws, _, err := websocket.Dial(ctx, "ws"+strings.TrimPrefix(base, "http")+"/run/1/ws",
 		&websocket.DialOptions{HTTPHeader: http.Header{"Origin": {"http://elsewhere.example"}}})
@@ -205,7 +208,10 @@ func TestRunsAndWatchers(t *testing.T) {
 
 // TestFrameRateCap: a run sends at most Options.MaxFPS field frames per
 // second by the server's clock, however fast it steps (a small grid steps
-// thousands of times a second here).
+// thousands of times a second here). The judgement is the upper bound
+// that follows from the cap, measured on the server's own clock, so a
+// slow or busy machine can only make it easier to meet; the frames it
+// waits for only show that the stream is alive.
 func TestFrameRateCap(t *testing.T) {
 	const fps = 10
 	_, base := startServer(t, server.Options{Workers: 1, MaxFPS: fps, Scenario: writeScenario(t, "small-hex", smallHex)})
@@ -213,13 +219,13 @@ func TestFrameRateCap(t *testing.T) {
 	cl.mustAck("play", nil, nil)
 	var s0, s1 msg
 	frames := 0
-	cl.until(30*time.Second, "two seconds of running", func(m msg) bool {
+	cl.until(hang, "two seconds of running and two frames", func(m msg) bool {
 		switch {
 		case m.Type == "status" && m.State == server.StateRunning && s0.Type == "":
 			s0, frames = m, 0
 		case m.Type == "frame" && s0.Type != "":
 			frames++
-		case m.Type == "status" && s0.Type != "" && m.WallS-s0.WallS >= 2:
+		case m.Type == "status" && s0.Type != "" && m.WallS-s0.WallS >= 2 && frames >= 2:
 			s1 = m
 			return true
 		}
@@ -227,8 +233,10 @@ func TestFrameRateCap(t *testing.T) {
 	})
 	cl.mustAck("pause", nil, nil)
 	span := s1.WallS - s0.WallS
-	// One frame either side may belong to the neighbouring interval.
-	if limit := fps*span + 2; float64(frames) > limit || frames < 2 {
-		t.Errorf("%d frames in %.2f s (%d steps) with MaxFPS %d; want at least 2 and at most %.0f", frames, span, s1.Steps-s0.Steps, fps, limit)
+	// Frames sent between the two status messages are at least 1/fps
+	// apart, so there are at most fps·span + 1; one more may be a frame
+	// sent just before s0 that the writer delivered after it.
+	if limit := fps*span + 2; float64(frames) > limit {
+		t.Errorf("%d frames in %.2f s (%d steps) with MaxFPS %d; want at most %.0f", frames, span, s1.Steps-s0.Steps, fps, limit)
 	}
 }

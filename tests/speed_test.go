@@ -151,6 +151,60 @@ func BenchmarkStreamSphereToBrowser(b *testing.B) {
 	}
 }
 
+// BenchmarkSlowReader: what a client that never reads costs the run, in
+// steps per second. Speed on a shared machine drifts, so the comparison is
+// paired: each window with the slow client connected is set against the
+// mean of the windows without it just before and just after, and the
+// median of those ratios is reported (1 = no cost). TestSlowReader checks
+// the properties that do not depend on the machine's speed.
+func BenchmarkSlowReader(b *testing.B) {
+	for i := 0; i < b.N; i++ {
+		_, base := startServer(b, server.Options{Workers: 1, Scenario: writeScenario(b, "eddies", eddies)})
+		cl := dial(b, base, "1")
+		cl.mustAck("play", nil, nil)
+		const window, rounds = 1500 * time.Millisecond, 7
+		stepsPerSecond(cl, window/2) // settle
+		without := []float64{stepsPerSecond(cl, window)}
+		var with, ratios []float64
+		for range rounds {
+			slow := dialRaw(b, base, "1")
+			with = append(with, stepsPerSecond(cl, window))
+			slow.CloseNow()
+			without = append(without, stepsPerSecond(cl, window))
+			k := len(with) - 1
+			ratios = append(ratios, with[k]/((without[k]+without[k+1])/2))
+		}
+		cl.mustAck("pause", nil, nil)
+		b.ReportMetric(median(without), "steps/s-alone")
+		b.ReportMetric(median(with), "steps/s-with-slow")
+		b.ReportMetric(median(ratios), "with/without")
+	}
+}
+
+// stepsPerSecond measures the run's rate over a window of at least d of
+// the server's own clock, from its status messages: the simulation's
+// speed, not the benchmark's.
+func stepsPerSecond(cl *client, d time.Duration) float64 {
+	cl.t.Helper()
+	var s0 msg
+	var rate float64
+	cl.until(d+hang, "status messages", func(m msg) bool {
+		if m.Type != "status" || m.State != server.StateRunning {
+			return false
+		}
+		if s0.Type == "" {
+			s0 = m
+			return false
+		}
+		if m.WallS-s0.WallS >= d.Seconds() && m.Steps > s0.Steps {
+			rate = float64(m.Steps-s0.Steps) / (m.WallS - s0.WallS)
+			return true
+		}
+		return false
+	})
+	return rate
+}
+
 func median(v []float64) float64 {
 	w := slices.Clone(v)
 	slices.Sort(w)
@@ -180,7 +234,7 @@ func openStream(b *testing.B, scenario string) *stream {
 	if _, err := chromedp.Call(ctx, network.Disable, cdp.Empty{}); err != nil {
 		b.Fatal(err)
 	}
-	poll(b, ctx, "the first frame", `window.gyrebench && window.gyrebench.firstFrameMs !== null && window.gyrebench.status !== null`, 30*time.Second)
+	poll(b, ctx, "the first frame", `window.gyrebench && window.gyrebench.firstFrameMs !== null && window.gyrebench.status !== null`, hang)
 	s := &stream{b: b, ctx: ctx, firstMs: eval[float64](b, ctx, `window.gyrebench.firstFrameMs`)}
 	poll(b, ctx, "the linear analysis", role("dt-stable")+`.dataset.state === 'ready'`, 120*time.Second)
 	return s
@@ -198,7 +252,7 @@ func (s *stream) window(steps int) streamed {
 		do(b, ctx, chromedp.Click(sel("play-pause")))
 	}
 	start := eval[float64](b, ctx, `window.gyrebench.status.steps`)
-	poll(b, ctx, "running", fmt.Sprintf(`window.gyrebench.status.state === 'running' && window.gyrebench.status.steps > %g`, start+20), 30*time.Second)
+	poll(b, ctx, "running", fmt.Sprintf(`window.gyrebench.status.state === 'running' && window.gyrebench.status.steps > %g`, start+20), hang)
 	type mark struct {
 		Steps  float64 `json:"steps"`
 		Wall   float64 `json:"wall"`
@@ -219,5 +273,5 @@ func (s *stream) window(steps int) streamed {
 func (s *stream) pause() {
 	s.b.Helper()
 	do(s.b, s.ctx, chromedp.Click(sel("play-pause")))
-	poll(s.b, s.ctx, "paused", `window.gyrebench.status.state === 'paused'`, 30*time.Second)
+	poll(s.b, s.ctx, "paused", `window.gyrebench.status.state === 'paused'`, hang)
 }

@@ -3,7 +3,6 @@ package tests
 import (
 	"strconv"
 	"testing"
-	"time"
 
 	"github.com/chromedp/chromedp"
 
@@ -17,7 +16,7 @@ import (
 func TestSphereBrowser(t *testing.T) {
 	ctx := browser(t)
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "small-hex", smallHex)})
-	const wait = 30 * time.Second
+	const wait = hang
 	canvas := role("field-canvas")
 
 	do(t, ctx, chromedp.Navigate(base+"/"))
@@ -27,7 +26,7 @@ func TestSphereBrowser(t *testing.T) {
 	// The planar run's linear panel: the prediction beside Δt and the
 	// dispersion diagram of the hex grid, with its spurious branch.
 	poll(t, ctx, "the stable-Δt prediction", role("dt-stable")+`.dataset.state === 'ready' && `+role("dt-stable")+`.dataset.seconds > 0`, wait)
-	poll(t, ctx, "the dispersion diagram", role("dispersion-plot")+`.dataset.points > 100 && document.querySelector('[data-role="dispersion-legend"] [data-class="spurious"]') !== null`, wait)
+	poll(t, ctx, "the dispersion diagram", role("dispersion-plot")+`.dataset.points > 100 && document.querySelector('[data-role="dispersion-legend"] [data-class="spurious"]') !== null`, analysisHang)
 	screenshot(t, ctx, "", "sphere-01-plane-panel.png")
 
 	// A run opened from a file shows the file's scenario in the menu, as
@@ -101,7 +100,7 @@ func TestSphereBrowser(t *testing.T) {
 	choose(t, ctx, "projection-select", "globe")
 	poll(t, ctx, "the globe again", canvas+`.dataset.drawn === 'globe'`, wait)
 	screenshot(t, ctx, sel("field-canvas"), "sphere-07-globe-level3-vorticity.png")
-	poll(t, ctx, "the sphere's dispersion diagram", role("dispersion-caption")+`.dataset.state === 'ready' && `+role("dispersion-plot")+`.dataset.points > 100`, wait)
+	poll(t, ctx, "the sphere's dispersion diagram", role("dispersion-caption")+`.dataset.state === 'ready' && `+role("dispersion-plot")+`.dataset.points > 100`, analysisHang)
 	eval[chromedp.Void](t, ctx, `document.querySelector('fieldset.linear').scrollIntoView()`)
 	screenshot(t, ctx, "", "sphere-08-linear-panel.png")
 	eval[chromedp.Void](t, ctx, role("play-pause")+`.scrollIntoView()`)

@@ -8,7 +8,6 @@ import (
 	"math"
 	"strings"
 	"testing"
-	"time"
 
 	"github.com/coder/websocket"
 
@@ -49,7 +48,7 @@ type geometry struct {
 // geometry it is sent on joining.
 func currentGeometry(t *testing.T, base, id string) geometry {
 	t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), 20*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	c, _, err := websocket.Dial(ctx, "ws"+strings.TrimPrefix(base, "http")+"/run/"+id+"/ws", nil)
 	if err != nil {

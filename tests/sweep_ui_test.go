@@ -165,7 +165,7 @@ func (p *progress) follow() []server.SweepInfo {
 func TestSweepUIRunsAndServesFiles(t *testing.T) {
 	base, root := sweepServer(t)
 	id := startSweep(t, base, smallSweep)
-	events := openProgress(t, base, id, 60*time.Second).follow()
+	events := openProgress(t, base, id, hang).follow()
 
 	// The progress: three runs, counted up, each counted run ended.
 	prev := -1
@@ -469,7 +469,7 @@ func TestSweepUIStop(t *testing.T) {
 		"set":      {"grid.n=16"},
 		"jobs":     {"1"},
 	})
-	p := openProgress(t, base, id, 60*time.Second)
+	p := openProgress(t, base, id, hang)
 	for {
 		in, ok := p.next()
 		if !ok || in.State != "running" {
@@ -524,7 +524,7 @@ func TestSweepUIStop(t *testing.T) {
 		t.Errorf("second Stop: HTTP %d", code)
 	}
 	next := startSweep(t, base, url.Values{"scenario": {"steady-geostrophic"}, "vary": {"grid.n=8"}, "set": {"time.duration=600"}})
-	if in := openProgress(t, base, next, 30*time.Second).follow(); in[len(in)-1].State != "finished" {
+	if in := openProgress(t, base, next, hang).follow(); in[len(in)-1].State != "finished" {
 		t.Errorf("the sweep after the stopped one: %+v", in[len(in)-1])
 	}
 }
@@ -538,7 +538,7 @@ func TestSweepUIFromRun(t *testing.T) {
 		t.Errorf("/sweeps/new?run=1 does not preselect run 1")
 	}
 	id := startSweep(t, base, url.Values{"scenario": {"run:1"}, "vary": {"time.dt=60,120"}, "set": {"time.duration=600\ninitial.u_rms=4"}})
-	events := openProgress(t, base, id, 30*time.Second).follow()
+	events := openProgress(t, base, id, hang).follow()
 	last := events[len(events)-1]
 	if last.State != "finished" || last.Done != 2 {
 		t.Fatalf("sweep of run 1: %+v", last)
@@ -564,7 +564,7 @@ func TestSweepUIFromRun(t *testing.T) {
 func TestSweepBrowser(t *testing.T) {
 	ctx := browser(t)
 	base, _ := sweepServer(t)
-	const wait = 30 * time.Second
+	const wait = hang
 
 	// From a run's page, its sweep link opens the form on its choices.
 	do(t, ctx, chromedp.Navigate(base+"/run/1"))

@@ -7,7 +7,6 @@ import (
 	"net/http"
 	"strings"
 	"testing"
-	"time"
 
 	"gyrebench/server"
 	"gyrebench/sim/timeline"
@@ -35,7 +34,7 @@ func get(t testing.TB, url string) []byte {
 func advance(cl *client, n int64) int64 {
 	cl.t.Helper()
 	var at int64
-	cl.until(60*time.Second, "the run to advance", func(m msg) bool {
+	cl.until(hang, "the run to advance", func(m msg) bool {
 		if (m.Type == "status" || m.Type == "point") && m.Steps >= n {
 			at = m.Steps
 			return true
@@ -62,7 +61,7 @@ func stepsNow(cl *client, srv *server.Server, id string) int64 {
 func TestTimelineReplaysLiveRun(t *testing.T) {
 	srv, base := startServer(t, server.Options{Workers: 1, RingSize: 16, Scenario: writeScenario(t, "eddies", eddies)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 
 	cl.mustAck("play", nil, nil)
 	at := advance(cl, 40)
@@ -117,7 +116,7 @@ func TestTimelineReplaysLiveRun(t *testing.T) {
 	cl.mustAck("replay", map[string]string{"name": "saved.toml", "toml": string(data)}, nil)
 	cl.mustAck("play", nil, nil)
 	var mark msg
-	cl.until(60*time.Second, "the replay to pause at the mark", func(m msg) bool {
+	cl.until(hang, "the replay to pause at the mark", func(m msg) bool {
 		if m.Type == "marker" && m.Kind == "mark" {
 			mark = m
 		}
@@ -127,7 +126,7 @@ func TestTimelineReplaysLiveRun(t *testing.T) {
 		t.Errorf("replay paused at mark %q at step %d; want the recorded mark at step %d", mark.Label, mark.Steps, end)
 	}
 	cl.mustAck("play", nil, nil) // on from the mark: the replay ends at once
-	cl.until(60*time.Second, "the replay to finish", func(m msg) bool {
+	cl.until(hang, "the replay to finish", func(m msg) bool {
 		return m.Type == "status" && m.State == server.StatePaused && m.Steps == end
 	})
 	if again := get(t, base+"/run/1/final.nc"); !bytes.Equal(again, live) {
@@ -160,7 +159,7 @@ func stateEvents(tl *timeline.Timeline) string {
 func TestTimelineRefusals(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	cl.mustAck("step", nil, nil)
 	good := string(get(t, base+"/run/1/timeline.toml"))
 	cases := []struct {

@@ -67,7 +67,8 @@ func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 func usage(w io.Writer) {
 	fmt.Fprint(w, `gyrebench: a workbench for shallow-water discretisations
 
-  gyrebench serve [--addr 127.0.0.1:8080]     the live workbench in the browser
+  gyrebench serve [--addr 127.0.0.1:8080] [--host NAME]... [--max-runs 16]
+                                              the live workbench in the browser
   gyrebench run FILE_OR_NAME [--set key=value]... [--out DIR] [--workers W]
                                               FILE may be a recorded timeline (saved in the workbench)
   gyrebench scenarios                         list the built-in scenarios

@@ -353,10 +353,18 @@ func parseValue(kind, s string) (any, error) {
 // with the shortest representation that parses back to the same bits.
 func Format(c sim.Config, description string) []byte {
 	var b bytes.Buffer
-	q := strconv.Quote
+	q := tomlQuote
 	g := func(v float64) string {
+		switch {
+		case math.IsNaN(v):
+			return "nan" // TOML's spelling; Validate refuses it
+		case math.IsInf(v, 1):
+			return "inf"
+		case math.IsInf(v, -1):
+			return "-inf"
+		}
 		s := strconv.FormatFloat(v, 'g', -1, 64)
-		if !strings.ContainsAny(s, ".eEn") {
+		if !strings.ContainsAny(s, ".eE") {
 			s += ".0"
 		}
 		return s
@@ -414,4 +422,38 @@ func Format(c sim.Config, description string) []byte {
 	}
 	fmt.Fprintf(&b, "\n[output]\nevery = %s\nsnapshots = %t\n", g(c.Output.Every), c.Output.Snapshots)
 	return b.Bytes()
+}
+
+// tomlQuote writes s as a TOML basic string. Go's strconv.Quote is close
+// but not the same: TOML has no \x or \a escapes, so every other control
+// character is written as \uXXXX (TOML 1.0, "String").
+func tomlQuote(s string) string {
+	var b strings.Builder
+	b.WriteByte('"')
+	for _, r := range s {
+		switch r {
+		case '"':
+			b.WriteString(`\"`)
+		case '\\':
+			b.WriteString(`\\`)
+		case '\b':
+			b.WriteString(`\b`)
+		case '\t':
+			b.WriteString(`\t`)
+		case '\n':
+			b.WriteString(`\n`)
+		case '\f':
+			b.WriteString(`\f`)
+		case '\r':
+			b.WriteString(`\r`)
+		default:
+			if r < 0x20 || r == 0x7f {
+				fmt.Fprintf(&b, `\u%04X`, r)
+			} else {
+				b.WriteRune(r)
+			}
+		}
+	}
+	b.WriteByte('"')
+	return b.String()
 }
