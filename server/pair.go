@@ -80,7 +80,7 @@ type pairMsg struct {
 // apply to the side named.
 var (
 	pairCommands = []string{"play", "pause", "step", "reset", "set-field", "mark"}
-	sideCommands = []string{"set-scheme", "set-integrator", "set-dt", "set-grid"}
+	sideCommands = []string{"set-scheme", "set-hodge", "set-integrator", "set-dt", "set-grid"}
 )
 
 // pairClient is one websocket client of a pair: a subscriber on each side
