@@ -32,6 +32,8 @@ func TestOrthogonalGridsUnchanged(t *testing.T) {
 		want   uint64
 	}{
 		{"hex", 16, scheme.TRiSKEnergy, 0xe4442c908fabc624},
+		{"quad", 16, scheme.TRiSKEnergy, 0xad84a9463cb783d1},
+		{"quad", 16, scheme.TRiSKEnstrophy, 0xd8688a73dd736719},
 		{"quad", 16, scheme.AL81, 0x31c7bffc3d12e71d},
 		{"icosahedral", 3, scheme.APVM, 0x7b5725331b93646f},
 	} {

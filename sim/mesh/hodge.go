@@ -45,7 +45,9 @@ func (h *Hodge) At(e, f int) float64 {
 // EnsureHodge computes and stores Metric.Hodge (ConsistentHodge) when the
 // dual of m is not orthogonal (Mesh.Orthogonal false), and leaves it nil
 // when it is, where H is the diagonal l_e/d_e that the schemes apply
-// without a matrix. It is idempotent.
+// without a matrix. It is idempotent; it writes to m, so call it before
+// the mesh is shared between goroutines (sim.HodgeGrid does, as a model
+// is built).
 func EnsureHodge(m *Mesh) error {
 	if m.Metric.Hodge != nil || m.Orthogonal {
 		return nil

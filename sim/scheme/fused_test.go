@@ -135,11 +135,18 @@ func TestStageMatchesTendency(t *testing.T) {
 	}
 }
 
-// The hexagon kernel is the general cell kernel written out: on hexagons
-// both must give the same bits.
+// The hexagon and quadrilateral kernels are the general cell kernel
+// written out: on their cells all must give the same bits.
 func TestHexagonKernelMatchesGeneral(t *testing.T) {
-	for _, spec := range []mesh.Spec{{Kind: mesh.Hex, N: 16, Length: 2e6}, {Kind: mesh.Icosahedral, N: 2, Radius: 6.37122e6}} {
+	for _, spec := range []mesh.Spec{
+		{Kind: mesh.Hex, N: 16, Length: 2e6}, {Kind: mesh.Icosahedral, N: 2, Radius: 6.37122e6},
+		{Kind: mesh.Quad, N: 16, Length: 2e6}, {Kind: mesh.Cubed, N: 6, Radius: 6.37122e6},
+		{Kind: mesh.Quad, N: 16, Length: 2e6, Jitter: 0.2, Seed: 3},
+	} {
 		f := randomFixtureOn(t, spec, 7)
+		if err := mesh.EnsureHodge(f.m); err != nil {
+			t.Fatal(err)
+		}
 		for _, enst := range []bool{false, true} {
 			name := TRiSKEnergy
 			if enst {
@@ -149,30 +156,31 @@ func TestHexagonKernelMatchesGeneral(t *testing.T) {
 			dx := make([]float64, len(f.x))
 			s.x, s.dst, s.dh = f.x, dx, dx[:s.nc]
 			s.pool.For(s.nv, s.phaseVertices)
-			s.pool.For(s.ne, s.phaseEdges)
-			hexagons := 0
+			s.edgePasses()
+			special := 0
 			for _, r := range s.runs {
-				if r.n != 6 {
+				kernel := map[int32]func(lo, hi int){6: s.cells6, 4: s.cells4}[r.n]
+				if kernel == nil {
 					continue
 				}
-				hexagons += int(r.hi - r.lo)
-				s.cells6(int(r.lo), int(r.hi))
-				dh6 := append([]float64(nil), dx[r.lo:r.hi]...)
-				tt6 := append([]pair(nil), s.tt...)
+				special += int(r.hi - r.lo)
+				kernel(int(r.lo), int(r.hi))
+				dhK := append([]float64(nil), dx[r.lo:r.hi]...)
+				ttK := append([]pair(nil), s.tt...)
 				s.cellsAny(int(r.lo), int(r.hi))
-				for i, v := range dh6 {
+				for i, v := range dhK {
 					if math.Float64bits(v) != math.Float64bits(dx[int(r.lo)+i]) {
-						t.Fatalf("%s %s: cell %d: ∂h/∂t %g by the hexagon kernel, %g by the general one", spec.Kind, name, int(r.lo)+i, v, dx[int(r.lo)+i])
+						t.Fatalf("%s %s: cell %d: ∂h/∂t %g by the %d-edge kernel, %g by the general one", spec.Kind, name, int(r.lo)+i, v, r.n, dx[int(r.lo)+i])
 					}
 				}
-				for e := range tt6 {
-					if tt6[e] != s.tt[e] {
-						t.Fatalf("%s %s: edge %d: shares %v by the hexagon kernel, %v by the general one", spec.Kind, name, e, tt6[e], s.tt[e])
+				for e := range ttK {
+					if ttK[e] != s.tt[e] {
+						t.Fatalf("%s %s: edge %d: shares %v by the %d-edge kernel, %v by the general one", spec.Kind, name, e, ttK[e], r.n, s.tt[e])
 					}
 				}
 			}
-			if hexagons == 0 {
-				t.Fatalf("%s: no hexagon runs", fmt.Sprint(spec.Kind))
+			if special == 0 {
+				t.Fatalf("%s: no hexagon or quadrilateral runs", fmt.Sprint(spec.Kind))
 			}
 		}
 	}

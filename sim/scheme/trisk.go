@@ -286,9 +286,12 @@ func (s *trisk) doCells(lo, hi int) {
 		if a >= b {
 			continue
 		}
-		if r.n == 6 && s.corr == nil {
+		switch {
+		case r.n == 6 && s.corr == nil:
 			s.cells6(a, b)
-		} else {
+		case r.n == 4 && s.corr == nil:
+			s.cells4(a, b)
+		default:
 			s.cellsAny(a, b)
 		}
 	}
@@ -430,6 +433,103 @@ func (s *trisk) cells6(lo, hi int) {
 			tt[es[3]][o3] = 0.5*(qe3*ga3+gb3) + phi
 			tt[es[4]][o4] = 0.5*(qe4*ga4+gb4) + phi
 			tt[es[5]][o5] = 0.5*(qe5*ga5+gb5) + phi
+		}
+	}
+}
+
+// cells4 is cellsAny for quadrilaterals (the quad grids and the cubed
+// sphere), written out like cells6 with the same arithmetic in the same
+// order.
+func (s *trisk) cells4(lo, hi int) {
+	h, invA := s.x[lo:hi], s.invArea[lo:hi]
+	invA = invA[:len(h)]
+	dh, x0 := s.dh, s.x0
+	if dh != nil {
+		dh = dh[lo:hi]
+		dh = dh[:len(h)]
+	} else {
+		x0 = x0[lo:hi]
+		x0 = x0[:len(h)]
+	}
+	stA, stB, stDt := s.stageA, s.stageB, s.stageDt
+	k0 := int(s.g.CellEdgeStart[lo])
+	n4 := k0 + 4*len(h)
+	edges, signs, verts, kite := s.g.CellEdges[k0:n4], s.g.CellEdgeSign[k0:n4], s.g.CellVertices[k0:n4], s.g.CellKiteArea[k0:n4]
+	q, fk, tt := s.q, s.fk, s.tt
+	b, grav, enst := s.phys.Bottom, s.phys.G, s.enstrophy
+	if b != nil {
+		b = b[lo:hi]
+		b = b[:len(h)]
+	}
+	sgn := [2]float64{1, -1}
+	for i := range h {
+		es := (*[4]int32)(edges[4*i : 4*i+4])
+		ss := (*[4]int8)(signs[4*i : 4*i+4])
+		vs := (*[4]int32)(verts[4*i : 4*i+4])
+		ks := (*[4]float64)(kite[4*i : 4*i+4])
+		inv := invA[i]
+		q3 := q[vs[3]]
+		p0 := &fk[es[0]]
+		o0 := int(ss[0]>>1) & 1
+		q0 := q[vs[0]]
+		p1 := &fk[es[1]]
+		o1 := int(ss[1]>>1) & 1
+		q1 := q[vs[1]]
+		p2 := &fk[es[2]]
+		o2 := int(ss[2]>>1) & 1
+		q2 := q[vs[2]]
+		p3 := &fk[es[3]]
+		o3 := int(ss[3]>>1) & 1
+		qe0 := 0.5 * (q3 + q0)
+		qe1 := 0.5 * (q0 + q1)
+		qe2 := 0.5 * (q1 + q2)
+		qe3 := 0.5 * (q2 + q3)
+		a0 := sgn[o0] * p0[0]
+		b0 := qe0 * a0
+		a1 := sgn[o1] * p1[0]
+		b1 := qe1 * a1
+		a2 := sgn[o2] * p2[0]
+		b2 := qe2 * a2
+		a3 := sgn[o3] * p3[0]
+		b3 := qe3 * a3
+		r0, r1, r2 := ks[0]*inv, ks[1]*inv, ks[2]*inv
+		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
+		c2 := c1 + r1
+		c3 := c2 + r2
+		sa := 0.0 + a0 + a1 + a2 + a3
+		sb := 0.0 + b0 + b1 + b2 + b3
+		ta := c1*a1 + c2*a2 + c3*a3
+		tb := c1*b1 + c2*b2 + c3*b3
+		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1]
+		h0 := h[i]
+		hb := h0
+		if b != nil {
+			hb += b[i]
+		}
+		phi := 0.25*ke*inv + grav*hb
+		if dh != nil {
+			dh[i] = -(sa * inv)
+		} else {
+			h[i] = stageValue(h0, x0[i], -(sa * inv), stA, stB, stDt)
+		}
+		ga0 := 0.5*(sa-a0) - ta
+		gb0 := 0.5*(sb-b0) - tb
+		ga1 := ga0 + (r0*sa - 0.5*(a0+a1))
+		gb1 := gb0 + (r0*sb - 0.5*(b0+b1))
+		ga2 := ga1 + (r1*sa - 0.5*(a1+a2))
+		gb2 := gb1 + (r1*sb - 0.5*(b1+b2))
+		ga3 := ga2 + (r2*sa - 0.5*(a2+a3))
+		gb3 := gb2 + (r2*sb - 0.5*(b2+b3))
+		if enst {
+			tt[es[0]][o0] = qe0*ga0 + phi
+			tt[es[1]][o1] = qe1*ga1 + phi
+			tt[es[2]][o2] = qe2*ga2 + phi
+			tt[es[3]][o3] = qe3*ga3 + phi
+		} else {
+			tt[es[0]][o0] = 0.5*(qe0*ga0+gb0) + phi
+			tt[es[1]][o1] = 0.5*(qe1*ga1+gb1) + phi
+			tt[es[2]][o2] = 0.5*(qe2*ga2+gb2) + phi
+			tt[es[3]][o3] = 0.5*(qe3*ga3+gb3) + phi
 		}
 	}
 }

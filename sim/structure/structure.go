@@ -317,10 +317,18 @@ func (r *Report) eigenvalues(g ops.Grid) error {
 		r.HodgeMinEigenvalue, r.HodgeMaxEigenvalue = ev[0], ev[len(ev)-1]
 		return nil
 	}
-	lo, hi, steps, change := lanczosExtremes(g, 300)
+	lo, hi, steps, change := lanczosExtremes(g, lanczosSteps(ne))
 	r.HodgeEigenMethod, r.HodgeEigenSteps, r.HodgeEigenTolerance = "lanczos", steps, change
 	r.HodgeMinEigenvalue, r.HodgeMaxEigenvalue = lo, hi
 	return nil
+}
+
+// lanczosSteps bounds the Lanczos steps so that the stored basis stays
+// within 32 M values (256 MB): 300 steps up to about 100 000 edges, fewer
+// (at least 20) beyond, where the reported change tells how far the
+// extremes had settled.
+func lanczosSteps(ne int) int {
+	return max(20, min(300, 32<<20/max(ne, 1)))
 }
 
 // lanczosExtremes returns the extreme Ritz values of H after at most
