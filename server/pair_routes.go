@@ -15,7 +15,6 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
-	"gyrebench/sim/mesh"
 	"gyrebench/sim/scheme"
 	"gyrebench/sim/step"
 	"gyrebench/web"
@@ -145,10 +144,8 @@ func applyChoice(cfg *sim.Config, side string, c pairChoice) error {
 		if !contains(gridKinds, c.Grid) {
 			return fmt.Errorf("%s: grid.kind = %q: not a grid the workbench offers; allowed: %s", side, c.Grid, strings.Join(gridKinds, ", "))
 		}
-		cfg.Grid.Kind, cfg.Grid.Height = c.Grid, 0
-		if c.Grid != string(mesh.Icosahedral) {
-			cfg.Grid.Optimize = "" // the icosahedral grid's alone
-		}
+		cfg.Grid.SetKind(c.Grid)
+		cfg.Grid.Height = 0
 	}
 	if c.Hodge != "" {
 		if !contains(scheme.HodgeNames, c.Hodge) {

@@ -9,6 +9,7 @@ import (
 
 	"gyrebench/scenarios/timelines"
 	"gyrebench/sim"
+	"gyrebench/sim/mesh"
 	"gyrebench/sim/timeline"
 )
 
@@ -117,7 +118,7 @@ func (r *Run) applyRecorded(m clientMsg) error {
 			optimizeName(cfg.Grid.Optimize) != optimizeName(b.cfg.Grid.Optimize)
 		if changed {
 			e := timeline.Event{Cmd: timeline.SetGrid, Kind: cfg.Grid.Kind, N: cfg.Grid.N}
-			if cfg.Grid.Kind == "icosahedral" { // the only family with grid.optimize
+			if mesh.Kind(cfg.Grid.Kind) == mesh.Icosahedral {
 				e.Optimize = optimizeName(cfg.Grid.Optimize)
 			}
 			r.record(e)
@@ -280,7 +281,8 @@ func liveLimits(tl *timeline.Timeline) error {
 			return fmt.Errorf("event %d of %d: kind = %q: not a grid the workbench can switch to; allowed: %s", i+1, len(tl.Events), e.Kind, strings.Join(gridKinds, ", "))
 		}
 		cfg := tl.Config
-		cfg.Grid.Kind, cfg.Grid.N = e.Kind, e.N
+		cfg.Grid.SetKind(e.Kind)
+		cfg.Grid.N = e.N
 		if c, err := cfg.MeshSpec().Cells(); err == nil && c > MaxLiveCells {
 			return fmt.Errorf("event %d of %d: grid %s n = %d has %d cells, more than a live run allows (%d)", i+1, len(tl.Events), e.Kind, e.N, c, MaxLiveCells)
 		}

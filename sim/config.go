@@ -36,13 +36,26 @@ type GridConfig struct {
 	// Optimize is "none" or "lloyd" (centroidal relaxation), icosahedral
 	// only; "" means none.
 	Optimize string
-	// Distort is the amplitude of the smooth vertex displacement of the
-	// planar grids (0 ≤ distort < 0.3, see mesh.Spec.Distort); Jitter the
+	// Distort sets the smooth vertex displacement of the planar grids
+	// (0 ≤ distort < 0.3, see mesh.Spec.Distort); Jitter the
 	// radius of a random one as a fraction of the edge length, drawn with
 	// Seed (≥ 0, default 1). Distort and Jitter are 0 on the sphere.
 	Distort float64
 	Jitter  float64
 	Seed    int
+}
+
+// SetKind changes the grid family. The Lloyd relaxation belongs to the
+// icosahedral grid: a change to another family drops it (as a mid-run
+// switch does), so that a scenario written for the icosahedral grid runs
+// on the cubed sphere with --set grid.kind=cubed or in a sweep over
+// grid.kind. A relaxation asked for explicitly on another family is still
+// refused by Validate.
+func (g *GridConfig) SetKind(kind string) {
+	g.Kind = kind
+	if mesh.Kind(kind) != mesh.Icosahedral && g.Optimize == mesh.OptimizeLloyd {
+		g.Optimize = ""
+	}
 }
 
 // PhysicsConfig holds the physical constants.

@@ -349,11 +349,9 @@ func (m *Model) SetState(x []float64, time float64, steps int64) error {
 // run's start. The receiver is left unchanged and usable; the caller closes
 // whichever model it drops.
 func (m *Model) Regrid(kind string, n int) (*Model, error) {
-	opt := m.cfg.Grid.Optimize
-	if mesh.Kind(kind) != mesh.Icosahedral && opt == mesh.OptimizeLloyd {
-		opt = "" // the relaxation is the icosahedral grid's; it does not carry to another family
-	}
-	return m.RegridOptimize(kind, n, opt)
+	g := m.cfg.Grid
+	g.SetKind(kind) // the relaxation is the icosahedral grid's; it does not carry to another family
+	return m.RegridOptimize(kind, n, g.Optimize)
 }
 
 // RegridOptimize is Regrid that also sets grid.optimize ("none" or

@@ -116,3 +116,39 @@ func TestRegridOptimizeKeepsMass(t *testing.T) {
 		t.Errorf("lloyd on the plane: %v, want an error naming grid.optimize", err)
 	}
 }
+
+// A mid-run switch from the icosahedral grid to the cubed sphere and back
+// (icosahedral level 3 → cubed n = 12 → level 3, similar cell counts) keeps
+// the total mass to round-off: the conservative remap needs convex cells
+// with exact areas, not Voronoi cells. The Lloyd relaxation of the
+// icosahedral run does not carry over to the cubed sphere.
+func TestRegridIcosahedralCubedKeepsMass(t *testing.T) {
+	cfg := sphereConfig("williamson-5", 3, 900)
+	cfg.Grid.Optimize = mesh.OptimizeLloyd
+	m := mustModel(t, cfg, 1)
+	runFor(t, m, 6*3600)
+	mass := m.Invariants().Mass
+	for _, to := range []struct {
+		kind     mesh.Kind
+		n, nc    int
+		optimize string
+	}{{mesh.Cubed, 12, 864, ""}, {mesh.Icosahedral, 3, 642, ""}} {
+		nm, err := m.Regrid(string(to.kind), to.n)
+		if err != nil {
+			t.Fatalf("regrid to %s n = %d: %v", to.kind, to.n, err)
+		}
+		t.Cleanup(nm.Close)
+		if got := nm.Invariants().Mass; math.Abs(got-mass) > 1e-13*mass {
+			t.Errorf("regrid to %s n = %d: mass %.17g → %.17g, relative %.2e", to.kind, to.n, mass, got, (got-mass)/mass)
+		}
+		if s := nm.Mesh(); s.Kind != to.kind || s.NumCells != to.nc || nm.Config().Grid.Optimize != to.optimize {
+			t.Errorf("regrid to %s n = %d gives %s with %d cells, optimize %q", to.kind, to.n, s.Kind, s.NumCells, nm.Config().Grid.Optimize)
+		}
+		m = nm
+		runFor(t, m, 6*3600)
+		if got := m.Invariants().Mass; math.Abs(got-mass) > 1e-13*mass {
+			t.Errorf("6 h after the regrid to %s: mass %.17g → %.17g", to.kind, mass, got)
+		}
+		mass = m.Invariants().Mass
+	}
+}

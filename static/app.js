@@ -311,14 +311,15 @@ function showConfig() {
   el.dtHint.textContent = `allowed 0 < Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s here`;
   const nmax = c.limits.n_max[c.grid.kind];
   const nmin = (c.limits.n_min_kind && c.limits.n_min_kind[c.grid.kind]) || c.limits.n_min;
-  el.optimizeBox.hidden = c.grid.kind !== 'icosahedral';
-  if (c.grid.kind === 'cubed') {
-    el.nLabel.textContent = 'Cells along a cube edge n';
-    el.gridHint.textContent = `${c.grid.cells} cells (6n²) · n from ${nmin} to ${nmax}`;
-  } else if (c.grid.sphere) {
+  const icosahedral = c.grid.kind === 'icosahedral';
+  el.optimizeBox.hidden = !icosahedral;
+  if (icosahedral) {
     el.optimize.value = c.grid.optimize;
     el.nLabel.textContent = 'Refinement level n';
     el.gridHint.textContent = `${c.grid.cells} cells (10·4ⁿ+2) · levels ${nmin} to ${nmax}`;
+  } else if (c.grid.kind === 'cubed') {
+    el.nLabel.textContent = 'Cells per cube edge n';
+    el.gridHint.textContent = `${c.grid.cells} cells (6n²) · n from ${nmin} to ${nmax}`;
   } else {
     el.nLabel.textContent = 'Cells per side n';
     el.gridHint.textContent = `${c.grid.cells} cells · n from ${nmin} to ${nmax}${c.grid.kind === 'quad' ? '' : ', even'}`;
@@ -326,7 +327,7 @@ function showConfig() {
   linear.onConfig(c);
   structure.onConfig(c);
   el.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
-  el.canvas.dataset.optimize = c.grid.sphere ? c.grid.optimize : '';
+  el.canvas.dataset.optimize = icosahedral ? c.grid.optimize : '';
   schedule('field');
 }
 

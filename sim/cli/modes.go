@@ -67,7 +67,7 @@ func cmdModes(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		if !ok {
 			return fail("--grid %q: unknown grid; allowed: %s", *grid, strings.Join(names, ", "))
 		}
-		cfg.Grid.Kind = *grid
+		cfg.Grid.SetKind(*grid)
 	}
 	if *n != "" {
 		v, err := strconv.Atoi(*n)

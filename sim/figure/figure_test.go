@@ -93,6 +93,8 @@ func TestRenderPNG(t *testing.T) {
 		{mesh.Hex, 8, Node, true},
 		{mesh.Icosahedral, 2, Face, false},
 		{mesh.Icosahedral, 2, Node, true},
+		{mesh.Cubed, 4, Face, false}, // a vertex at each pole
+		{mesh.Cubed, 5, Node, true},  // a cell centre at each pole
 	} {
 		name := fmt.Sprintf("%s-%d-%s-signed=%v", tc.kind, tc.n, tc.loc, tc.signed)
 		m := mustMesh(t, tc.kind, tc.n)
@@ -277,7 +279,7 @@ func TestRenderSVG(t *testing.T) {
 		n    int
 		loc  Location
 	}{
-		{mesh.Hex, 8, Face}, {mesh.Quad, 6, Node}, {mesh.Icosahedral, 1, Face},
+		{mesh.Hex, 8, Face}, {mesh.Quad, 6, Node}, {mesh.Icosahedral, 1, Face}, {mesh.Cubed, 3, Face},
 	} {
 		m := mustMesh(t, tc.kind, tc.n)
 		xs, _ := centres(m, tc.loc)
@@ -432,11 +434,15 @@ func ExampleRender() {
 // map keeps the white background, whatever the scale and however the
 // polygons were unwrapped across the periodic edges or the date line.
 func TestNoSeams(t *testing.T) {
-	for _, kind := range []mesh.Kind{mesh.Quad, mesh.Hex, mesh.Tri, mesh.Icosahedral} {
-		n := 12
-		if kind == mesh.Icosahedral {
-			n = 3
-		}
+	for _, g := range []struct {
+		kind mesh.Kind
+		n    int
+	}{
+		{mesh.Quad, 12}, {mesh.Hex, 12}, {mesh.Tri, 12}, {mesh.Icosahedral, 3},
+		{mesh.Cubed, 7}, // odd n: a cell centre at each pole
+		{mesh.Cubed, 8}, // even n: a vertex at each pole
+	} {
+		kind, n := g.kind, g.n
 		m := mustMesh(t, kind, n)
 		for _, loc := range []Location{Face, Node} {
 			count := m.NumCells

@@ -50,7 +50,7 @@ type Operator struct {
 func validated(cfg sim.Config) (sim.Config, error) {
 	c := cfg
 	c.Initial.Case, c.Initial.Params = "gaussian-bump", nil
-	if c.Grid.Kind == string(mesh.Icosahedral) {
+	if mesh.Kind(c.Grid.Kind).OnSphere() {
 		c.Initial.Case = "williamson-2"
 	}
 	if err := c.Validate(); err != nil {

@@ -318,7 +318,8 @@ func (m *Mesh) TRiSKPairs() Pairs {
 
 // Dual returns the dual mesh: cells and vertices swap, edges keep their
 // index, the new normal is the old tangent. The dual of the hexagonal mesh
-// is the triangular mesh.
+// is the triangular mesh. The new normal lies along the new dual edge only
+// on an orthogonal mesh, which is what Dual is for.
 func (m *Mesh) Dual(kind Kind) *Mesh {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	d := &Mesh{Kind: kind, N: m.N, Surface: m.Surface, Orthogonal: m.Orthogonal}

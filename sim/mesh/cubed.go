@@ -59,8 +59,7 @@ func newCubed(n int, radius float64) (*Mesh, error) {
 	nv := 6*n*n + 2
 	pts := make([]vec3, 0, nv)
 	cellVerts := make([]int32, 0, 4*6*n*n)
-	// corner (p, j, k) → vertex index; one row of panel corners at a time.
-	row := make([]int32, 2*(n+1))
+	corner := make([]int32, (n+1)*(n+1)) // vertex of corner (j, k) of the current panel
 	vertex := func(fr *[3][3]int, j, k int) int32 {
 		var q [3]int
 		for d := 0; d < 3; d++ {
@@ -77,19 +76,15 @@ func newCubed(n int, radius float64) (*Mesh, error) {
 	}
 	for p := range cubePanels {
 		fr := &cubePanels[p]
-		for j := 0; j <= n; j++ {
-			row[j] = vertex(fr, j, 0)
+		for k := 0; k <= n; k++ {
+			for j := 0; j <= n; j++ {
+				corner[k*(n+1)+j] = vertex(fr, j, k)
+			}
 		}
 		for k := 0; k < n; k++ {
-			below, above := row[:n+1], row[n+1:]
-			if k%2 == 1 {
-				below, above = above, below
-			}
-			for j := 0; j <= n; j++ {
-				above[j] = vertex(fr, j, k+1)
-			}
 			for j := 0; j < n; j++ {
-				cellVerts = append(cellVerts, below[j], below[j+1], above[j+1], above[j])
+				c := k*(n+1) + j
+				cellVerts = append(cellVerts, corner[c], corner[c+1], corner[c+n+2], corner[c+n+1])
 			}
 		}
 	}

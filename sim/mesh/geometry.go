@@ -60,11 +60,10 @@ func (m *Mesh) planeGeometry() error {
 		d := math.Hypot(dx, dy)
 		g.DualLength[e] = d
 		c.NormalX[e], c.NormalY[e] = dx/d, dy/d
-		switch {
-		case sigma == 0:
+		if sigma == 0 {
 			c.EdgeX[e] = math.Mod(c.CellX[c0]+hx+lx, lx)
 			c.EdgeY[e] = math.Mod(c.CellY[c0]+hy+ly, ly)
-		default:
+		} else {
 			c.EdgeX[e] = math.Mod(c.CellX[c0]+(0.5+sigma)*dx+lx, lx)
 			c.EdgeY[e] = math.Mod(c.CellY[c0]+(0.5+sigma)*dy+ly, ly)
 		}
@@ -101,7 +100,7 @@ func (m *Mesh) planeGeometry() error {
 	return nil
 }
 
-// sphereGeometry fills the metric and the coordinates of a spherical mesh
+// sphereGeometryFrom fills the metric and the coordinates of a spherical mesh
 // from its topology (complete, vertex arrays included) and the unit
 // vectors of its cell centres x and vertices p. X_e is the crossing of the
 // great-circle arcs c0–c1 and v0–v1; n_e is the tangent of the first at

@@ -139,7 +139,9 @@ func TestOrthogonalFlag(t *testing.T) {
 // positions stay in the periodic domain, X_e lies on both the dual and the
 // primal segment, the centres are the area centroids of the cells
 // (checked by a triangle fan about the vertex mean, another
-// decomposition), and the build is reproducible from the seed.
+// decomposition), the kites add up to the cell polygons and to the
+// polygons of centres round the vertices, and the build is reproducible
+// from the seed.
 func TestDistortedPlanes(t *testing.T) {
 	for _, m := range distortedMeshes(t) {
 		reg, err := New(Spec{Kind: m.Kind, N: m.N, Length: m.Surface.Lx, Height: m.Surface.Ly})
@@ -214,6 +216,21 @@ func TestDistortedPlanes(t *testing.T) {
 			}
 			if math.Abs(a-m.CellArea[i]) > 1e-12*m.CellArea[i] {
 				t.Fatalf("%s n=%d cell %d: area %g, polygon %g", m.Kind, m.N, i, m.CellArea[i], a)
+			}
+		}
+		// The kites tile the dual cells too: the polygon of the centres
+		// around each vertex, fanned from the vertex.
+		for v := 0; v < m.NumVertices; v++ {
+			lo, hi := m.EdgesOfVertex(v)
+			a := 0.0
+			for k := lo; k < hi; k++ {
+				c, d := m.VertexCells[k], m.VertexCells[lo+(k+1-lo)%(hi-lo)]
+				ax, ay := wrap(m.CellX[c]-m.VertexX[v], lx), wrap(m.CellY[c]-m.VertexY[v], ly)
+				bx, by := wrap(m.CellX[d]-m.VertexX[v], lx), wrap(m.CellY[d]-m.VertexY[v], ly)
+				a += (ax*by - ay*bx) / 2
+			}
+			if math.Abs(a-m.VertexArea[v]) > 1e-12*a {
+				t.Fatalf("%s n=%d vertex %d: Σ kites %g, polygon of centres %g", m.Kind, m.N, v, m.VertexArea[v], a)
 			}
 		}
 	}

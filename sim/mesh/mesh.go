@@ -50,6 +50,16 @@
 //     the dual cells alike: Σ kites of a cell = CellArea, Σ kites of a
 //     vertex = VertexArea.
 //
+// The generators: quad, hex and tri planes (New), optionally distorted
+// smoothly (Spec.Distort) or at random (Spec.Jitter, Spec.Seed), with the
+// cell centres at the centroids of the moved cells (distort.go); the
+// icosahedral Voronoi sphere (icosa.go); and the equiangular gnomonic cubed
+// sphere (cubed.go), with its centres at the normalised means of the cell
+// corners. The regular planes and the Voronoi spheres compute their metric
+// in their own generators; the distorted planes and the cubed sphere take
+// it from the topology and the positions alone (geometry.go), a path that
+// reproduces the former on the regular grids (a test checks it).
+//
 // Everything a Hodge-star construction needs around a vertex v is in
 // Coords: the vertex (VertexX/Y/Z), the centres of the cells around it
 // (CellX/Y/Z of VertexCells) and the crossing points of its edges
@@ -199,12 +209,14 @@ type Spec struct {
 	Radius float64 // sphere radius (m)
 	// Optimize: icosahedral only; "" or OptimizeNone, or OptimizeLloyd.
 	Optimize string
-	// Distort, planes only: the amplitude of a smooth doubly periodic
-	// vertex displacement, 0 ≤ Distort < MaxDistort (see distort.go).
+	// Distort, planes only: a smooth doubly periodic vertex displacement
+	// under which neighbouring vertices move relative to each other by up
+	// to about Distort × spacing, at every resolution; 0 ≤ Distort <
+	// MaxDistort (see distort.go).
 	Distort float64
 	// Jitter, planes only: the radius of a random vertex displacement as a
-	// fraction of the edge length, 0 ≤ Jitter < MaxJitter, drawn from a PCG
-	// generator seeded by Seed.
+	// fraction of the edge length, 0 ≤ Jitter < JitterLimit(Distort),
+	// drawn from a PCG generator seeded by Seed.
 	Jitter float64
 	Seed   uint64
 }

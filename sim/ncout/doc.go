@@ -77,7 +77,11 @@
 //     they are Cartesian): n_e points from edge_face_connectivity[e,0] to
 //     [e,1], and t_e = k × n_e runs from edge_node_connectivity[e,0] to
 //     [e,1]. These are mesh.EdgeCells and mesh.EdgeVertices, so the
-//     normal velocity u_e of gyrebench is written unchanged;
+//     normal velocity u_e of gyrebench is written unchanged. On a grid
+//     whose dual is not orthogonal (mesh.Mesh.Orthogonal false: distorted
+//     planes, the cubed sphere) n_e is the direction of the dual edge, not
+//     the edge's normal, and the mesh variable says so in dual_edges
+//     (DualEdgesNonOrthogonal);
 //   - fields are NC_DOUBLE with mesh, location, units, standard_name and/or
 //     long_name, coordinates and an optional cell_measures;
 //   - snapshot time is the coordinate variable "time", NC_DOUBLE, with

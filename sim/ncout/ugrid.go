@@ -85,6 +85,11 @@ type Meta struct {
 	Attrs   []Attr
 }
 
+// DualEdgesNonOrthogonal is the mesh variable's dual_edges attribute on a
+// grid whose dual edges do not cross the edges at right angles (the
+// attribute is absent on the others).
+const DualEdgesNonOrthogonal = "not orthogonal to the edges: the edge normal is the unit direction of the dual edge (edge face 0 to edge face 1) at the edge point, not the normal of the edge, and edge velocities are components along it"
+
 // MeshFile builds the UGRID 1.0 / CF 1.8 file of mesh m with fields, one
 // value per face, edge or node each. The file holds references to m's
 // arrays and to the field data until it is written.
@@ -282,6 +287,9 @@ func newMeshBuilder(m *mesh.Mesh, meta Meta, fields []Field, time bool) (*meshBu
 		SetAttr("edge_tangent_convention", EdgeTangentConvention).
 		SetAttr("grid_kind", string(m.Kind)).
 		SetAttr("grid_n", int32(m.N))
+	if !m.Orthogonal {
+		mv.SetAttr("dual_edges", DualEdgesNonOrthogonal)
+	}
 	if b.sphere {
 		mv.SetAttr("surface", "sphere").
 			SetAttr("radius", m.Surface.Radius).

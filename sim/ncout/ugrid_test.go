@@ -1,6 +1,7 @@
 package ncout
 
 import (
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -328,14 +329,37 @@ func cubeSphere(r float64) *mesh.Mesh {
 
 // On the sphere, coordinates are longitude and latitude in degrees that
 // give back the Cartesian positions, faces are anticlockwise seen from
-// outside, and the normal has a z component.
+// outside, and the normal has a z component: on a cube built by hand and
+// on the cubed sphere of 3 cells along a cube edge (4-node faces, a cell
+// centre at each pole), whose face areas add up to the sphere's.
 func TestSphereCoordinates(t *testing.T) {
 	const r = 6.37122e6
 	m := cubeSphere(r)
 	if m.NumEdges != 12 || m.NumCells != 6 {
 		t.Fatalf("cube: %d cells, %d edges", m.NumCells, m.NumEdges)
 	}
-	f, err := MeshFile(m, Meta{}, []Field{{Name: "h", Location: Face, Units: "m", LongName: "depth", CellMeasures: FaceAreaMeasure, Data: []float64{1, 2, 3, 4, 5, 6}}})
+	cubed, err := mesh.New(mesh.Spec{Kind: mesh.Cubed, N: 3, Radius: r})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range []*mesh.Mesh{m, cubed} {
+		t.Run(fmt.Sprintf("%s-%d", m.Kind, m.NumCells), func(t *testing.T) { checkSphereCoordinates(t, m, r) })
+	}
+	// The cubed sphere says that its dual is not orthogonal; the regular
+	// planes say nothing.
+	for _, c := range []struct {
+		m    *mesh.Mesh
+		want any
+	}{{cubed, DualEdgesNonOrthogonal}, {planeMeshes(t)[1], nil}} {
+		_, f := writeMeshFile(t, c.m)
+		if got, _ := f.Var(MeshVar).Attr("dual_edges"); got != c.want {
+			t.Errorf("%s: dual_edges = %v, want %v", c.m.Kind, got, c.want)
+		}
+	}
+}
+
+func checkSphereCoordinates(t *testing.T, m *mesh.Mesh, r float64) {
+	f, err := MeshFile(m, Meta{}, []Field{{Name: "h", Location: Face, Units: "m", LongName: "depth", CellMeasures: FaceAreaMeasure, Data: ramp(m.NumCells, 1)}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -381,6 +405,16 @@ func TestSphereCoordinates(t *testing.T) {
 		if c := faces[i]; n[0]*c[0]+n[1]*c[1]+n[2]*c[2] <= 0 {
 			t.Errorf("face %d: nodes %v are clockwise seen from outside", i, row)
 		}
+	}
+	if maxN.Len != 4 {
+		t.Errorf("%s = %d, want 4 for quadrilateral faces", MaxFaceNodesDim, maxN.Len)
+	}
+	sum := 0.0
+	for _, a := range floats(t, f, FaceAreaVar) {
+		sum += a
+	}
+	if want := 4 * math.Pi * r * r; math.Abs(sum-want) > 1e-12*want {
+		t.Errorf("Σ %s = %.15g, want 4πr² = %.15g", FaceAreaVar, sum, want)
 	}
 	if got := floats(t, f, "mesh_edge_normal_z"); !reflect.DeepEqual(got, m.NormalZ) {
 		t.Errorf("mesh_edge_normal_z = %v; want %v", got, m.NormalZ)

@@ -237,7 +237,7 @@ func keys() []key {
 	}
 	return []key{
 		{"title", "string", s(func(c *sim.Config) *string { return &c.Title })},
-		{"grid.kind", "string", s(func(c *sim.Config) *string { return &c.Grid.Kind })},
+		{"grid.kind", "string", func(c *sim.Config, v any) { c.Grid.SetKind(v.(string)) }},
 		{"grid.n", "integer", func(c *sim.Config, v any) { c.Grid.N = v.(int) }},
 		{"grid.length", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Length })},
 		{"grid.height", "number", f(func(c *sim.Config) *float64 { return &c.Grid.Height })},

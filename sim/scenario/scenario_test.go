@@ -116,7 +116,8 @@ func TestSet(t *testing.T) {
 
 // The grid distortion keys are set, formatted and parsed back, and the
 // validation refuses them out of range and on the sphere with a message
-// naming the key and the value.
+// naming the key and the value; the cubed sphere takes the sphere's cases
+// only, n ≥ 2 and no optimisation.
 func TestGridDistortionKeys(t *testing.T) {
 	c := sim.DefaultConfig()
 	for _, a := range []string{"grid.kind=quad", "grid.n=16", "grid.distort=0.125", "grid.jitter=0.1", "grid.seed=12345"} {
@@ -147,6 +148,9 @@ func TestGridDistortionKeys(t *testing.T) {
 		{[]string{"grid.jitter=0.1", "grid.seed=-2"}, "grid.seed = -2"},
 		{[]string{"grid.kind=cubed", "grid.n=8", "initial.case=williamson-2", "grid.distort=0.1"}, "grid.distort = 0.1"},
 		{[]string{"grid.kind=icosahedral", "grid.n=3", "initial.case=williamson-2", "grid.jitter=0.1"}, "grid.jitter = 0.1"},
+		{[]string{"grid.kind=cubed", "grid.n=8"}, `grid.kind = "cubed" does not`},
+		{[]string{"grid.kind=cubed", "grid.n=1", "initial.case=williamson-2"}, "grid.n = 1"},
+		{[]string{"grid.kind=cubed", "grid.n=8", "initial.case=williamson-2", "grid.optimize=lloyd"}, `grid.optimize = "lloyd"`},
 	} {
 		c := sim.DefaultConfig()
 		for _, a := range tc.sets {
@@ -211,5 +215,42 @@ func TestSchemeHodgeKey(t *testing.T) {
 	}
 	if err := c.Validate(); err == nil || !strings.Contains(err.Error(), "regular quad") {
 		t.Errorf("al81 on a distorted quad: Validate() = %v", err)
+	}
+}
+
+// The Lloyd relaxation of a scenario written for the icosahedral grid
+// stays with that grid: --set grid.kind=cubed drops it (and the run
+// validates), while a relaxation asked for after the change is refused.
+func TestSetGridKindDropsRelaxation(t *testing.T) {
+	src, err := scenarios.Source("williamson-2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, err := Parse(src, "williamson-2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Config.Grid.Optimize != "lloyd" {
+		t.Fatalf("williamson-2 has grid.optimize = %q; the test needs a relaxed grid", s.Config.Grid.Optimize)
+	}
+	c := s.Config.Clone()
+	for _, a := range []string{"grid.kind=cubed", "grid.n=8"} {
+		if err := Set(&c, a); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if c.Grid.Optimize != "" {
+		t.Errorf("grid.optimize = %q after grid.kind=cubed, want it dropped", c.Grid.Optimize)
+	}
+	if err := c.Validate(); err != nil {
+		t.Errorf("williamson-2 on the cubed sphere: %v", err)
+	}
+	back := c.Clone()
+	if err := Set(&back, "grid.kind=icosahedral"); err != nil || back.Grid.Optimize != "" {
+		t.Errorf("grid.kind=icosahedral: optimize %q, %v; want it still dropped", back.Grid.Optimize, err)
+	}
+	same := s.Config.Clone()
+	if err := Set(&same, "grid.kind=icosahedral"); err != nil || same.Grid.Optimize != "lloyd" {
+		t.Errorf("grid.kind=icosahedral on an icosahedral scenario: optimize %q, %v; want lloyd kept", same.Grid.Optimize, err)
 	}
 }

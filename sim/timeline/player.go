@@ -88,7 +88,9 @@ func (p *Player) Apply(m *sim.Model) (Applied, error) {
 		case SetDt:
 			err = m.SetDt(e.Dt)
 		case SetGrid:
-			opt := m.Config().Grid.Optimize
+			g := m.Config().Grid
+			g.SetKind(e.Kind) // the relaxation is the icosahedral grid's; it does not carry over
+			opt := g.Optimize
 			if e.Optimize != "" {
 				opt = e.Optimize
 			}

@@ -285,7 +285,8 @@ func (tl *Timeline) validate(lines []int) error {
 			if !contains(mesh.Kinds, mesh.Kind(e.Kind)) {
 				return fail("kind", "kind = %s: unknown grid; allowed: %s", quote(e.Kind), kindList())
 			}
-			try.Grid.Kind, try.Grid.N = e.Kind, e.N
+			try.Grid.SetKind(e.Kind)
+			try.Grid.N = e.N
 			if e.Optimize != "" {
 				try.Grid.Optimize = e.Optimize
 			}
