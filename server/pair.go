@@ -77,7 +77,7 @@ type pairMsg struct {
 // apply to the side named.
 var (
 	pairCommands = []string{"play", "pause", "step", "reset", "set-field", "mark"}
-	sideCommands = []string{"set-scheme", "set-integrator", "set-dt", "set-grid", "set-dissipation"}
+	sideCommands = []string{"set-scheme", "set-hodge", "set-integrator", "set-dt", "set-grid", "set-dissipation"}
 )
 
 // pairClient is one websocket client of a pair: a subscriber on each side

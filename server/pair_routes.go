@@ -16,6 +16,7 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
+	"gyrebench/sim/scheme"
 	"gyrebench/sim/step"
 	"gyrebench/web"
 )
@@ -102,7 +103,7 @@ func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 }
 
 // pairChoice is one side's form fields; empty means the base's choice.
-type pairChoice struct{ Scheme, Integrator, Dt, Grid, N string }
+type pairChoice struct{ Scheme, Integrator, Dt, Grid, N, Hodge string }
 
 // pairBase resolves the form's base: "run:ID" (that run's current
 // choices, from its initial state) or a built-in scenario name.
@@ -148,6 +149,12 @@ func applyChoice(cfg *sim.Config, side string, c pairChoice) error {
 		cfg.Grid.SetKind(c.Grid)
 		cfg.Grid.Height = 0
 	}
+	if c.Hodge != "" {
+		if !contains(scheme.HodgeNames, c.Hodge) {
+			return fmt.Errorf("%s: scheme.hodge = %q: unknown Hodge star; allowed: %s", side, c.Hodge, strings.Join(scheme.HodgeNames, ", "))
+		}
+		cfg.Scheme.Hodge = c.Hodge
+	}
 	if c.N != "" {
 		n, err := strconv.Atoi(strings.TrimSpace(c.N))
 		if err != nil {
@@ -186,7 +193,7 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 	}
 	var cfgs [2]sim.Config
 	for i, n := range sideNames {
-		c := pairChoice{f.Get(n + ".scheme"), f.Get(n + ".integrator"), f.Get(n + ".dt"), f.Get(n + ".grid"), f.Get(n + ".n")}
+		c := pairChoice{f.Get(n + ".scheme"), f.Get(n + ".integrator"), f.Get(n + ".dt"), f.Get(n + ".grid"), f.Get(n + ".n"), f.Get(n + ".hodge")}
 		cfgs[i] = cfg
 		cfgs[i].Initial.Params = cfg.Initial.Params // shared, read-only
 		if err := applyChoice(&cfgs[i], strings.ToUpper(n), c); err != nil {

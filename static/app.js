@@ -328,13 +328,13 @@ function showConfig() {
   const nmin = (c.limits.n_min_kind && c.limits.n_min_kind[c.grid.kind]) || c.limits.n_min;
   const icosahedral = c.grid.kind === 'icosahedral';
   el.optimizeBox.hidden = !icosahedral;
-  if (c.grid.kind === 'cubed') {
-    el.nLabel.textContent = 'Cells along a cube edge n';
-    el.gridHint.textContent = `${c.grid.cells} cells (6n²) · n from ${nmin} to ${nmax}`;
-  } else if (c.grid.sphere) {
+  if (icosahedral) {
     el.optimize.value = c.grid.optimize;
     el.nLabel.textContent = 'Refinement level n';
     el.gridHint.textContent = `${c.grid.cells} cells (10·4ⁿ+2) · levels ${nmin} to ${nmax}`;
+  } else if (c.grid.kind === 'cubed') {
+    el.nLabel.textContent = 'Cells per cube edge n';
+    el.gridHint.textContent = `${c.grid.cells} cells (6n²) · n from ${nmin} to ${nmax}`;
   } else {
     el.nLabel.textContent = 'Cells per side n';
     el.gridHint.textContent = `${c.grid.cells} cells · n from ${nmin} to ${nmax}${c.grid.kind === 'quad' ? '' : ', even'}`;

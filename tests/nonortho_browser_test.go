@@ -60,7 +60,7 @@ func TestCubedBrowser(t *testing.T) {
 	t.Logf("after the switch: grid %q, drawn %q, corners %q, message %q", eval[string](t, ctx, canvas+`.dataset.grid`), eval[string](t, ctx, canvas+`.dataset.drawn`),
 		eval[string](t, ctx, canvas+`.dataset.cellCorners`), eval[string](t, ctx, role("message")+`.textContent`))
 	poll(t, ctx, "the cubed globe", canvas+`.dataset.grid === 'cubed 48' && `+canvas+`.dataset.drawn === 'globe' && `+canvas+`.dataset.cellCorners === '4'`, wait)
-	if got := eval[string](t, ctx, role("resolution-label")+`.textContent`); got != "Cells along a cube edge n" {
+	if got := eval[string](t, ctx, role("resolution-label")+`.textContent`); got != "Cells per cube edge n" {
 		t.Errorf("resolution label on the cubed sphere = %q", got)
 	}
 	if !eval[bool](t, ctx, role("optimize")+`.hidden`) {

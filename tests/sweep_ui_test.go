@@ -587,7 +587,7 @@ func TestSweepBrowser(t *testing.T) {
 	eval[chromedp.Void](t, ctx, role("sweep-set")+`.value = "time.duration=7200"`)
 	screenshot(t, ctx, "", "sweep-00-form.png")
 	navigate(t, ctx, "/sweep/", chromedp.Click(sel("sweep-start")))
-	poll(t, ctx, "the sweep to finish", role("sweep-state")+`.textContent === 'finished' && `+role("sweep-done")+`.textContent === '6'`, wait)
+	poll(t, ctx, "the sweep to finish", role("sweep-state")+`.textContent === 'finished' && `+role("sweep-done")+`.textContent === '6'`, analysisHang) // six runs under the race detector: minutes
 	plots := `[...document.querySelectorAll('[data-role="sweep-plot"]')]`
 	poll(t, ctx, "the plots loaded", plots+`.length === 3 && `+plots+`.every((i) => i.complete && i.naturalWidth > 0)`, wait)
 	if n := eval[float64](t, ctx, `document.querySelectorAll('[data-role="sweep-fits"] tbody tr').length`); n != 2 {
