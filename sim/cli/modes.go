@@ -30,8 +30,8 @@ func cmdModes(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	fs.SetOutput(stderr)
 	var sets multi
 	fs.Var(&sets, "set", "override a scenario key, e.g. --set physics.f0=0 (repeatable)")
-	grid := fs.String("grid", "", "grid kind: quad, hex, tri, icosahedral (shorthand for --set grid.kind=)")
-	n := fs.String("n", "", "cells per side, or icosahedral level (shorthand for --set grid.n=)")
+	grid := fs.String("grid", "", "grid kind: quad, hex, tri, icosahedral, cubed (shorthand for --set grid.kind=)")
+	n := fs.String("n", "", "cells per side, the icosahedral level or cells per cube edge (shorthand for --set grid.n=)")
 	out := fs.String("out", "", "output folder (required)")
 	verify := fs.Bool("verify-dt", false, "run short nonlinear checks at 0.9 and 1.1 times each predicted Δt limit")
 	extreme := fs.Bool("extreme", false, "only the largest |frequency| (Lanczos, any size) and the Δt limits")
@@ -43,48 +43,12 @@ func cmdModes(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		fmt.Fprintf(stderr, "gyrebench modes: "+format+"\n", a...)
 		return ExitBadInput
 	}
-	if len(pos) > 1 {
-		return fail("want at most one scenario file or built-in name, got %d: %s", len(pos), strings.Join(pos, " "))
-	}
 	if *out == "" {
 		return fail("--out: an output folder is required, e.g. --out modes-hex16")
 	}
-	cfg := sim.DefaultConfig()
-	if len(pos) == 1 {
-		sc, err := Load(pos[0])
-		if err != nil {
-			return fail("%v", err)
-		}
-		cfg = sc.Config
-	}
-	if *grid != "" {
-		ok := false
-		var names []string
-		for _, k := range mesh.Kinds {
-			ok = ok || string(k) == *grid
-			names = append(names, string(k))
-		}
-		if !ok {
-			return fail("--grid %q: unknown grid; allowed: %s", *grid, strings.Join(names, ", "))
-		}
-		cfg.Grid.SetKind(*grid)
-	}
-	if *n != "" {
-		v, err := strconv.Atoi(*n)
-		if err != nil {
-			return fail("--n %q: must be an integer", *n)
-		}
-		cfg.Grid.N = v
-	}
-	if *grid != "" || *n != "" {
-		if _, err := cfg.MeshSpec().Cells(); err != nil {
-			return fail("--grid %s --n %d: %v", cfg.Grid.Kind, cfg.Grid.N, err)
-		}
-	}
-	for _, s := range sets {
-		if err := scenario.Set(&cfg, s); err != nil {
-			return fail("%v", err)
-		}
+	cfg, err := analysisConfig(pos, *grid, *n, sets)
+	if err != nil {
+		return fail("%v", err)
 	}
 	res, err := linear.Analyse(ctx, cfg, linear.Options{ExtremeOnly: *extreme})
 	var tooLarge *linear.TooLargeError
@@ -145,4 +109,53 @@ func reportModes(w io.Writer, s linear.Summary, dir string) {
 			t.Integrator, t.Factor, t.Dt, state, t.Steps, t.Growth)
 	}
 	fmt.Fprintf(w, "files in %s\n", dir)
+}
+
+// analysisConfig resolves the scenario of the analysis commands (modes,
+// structure): the built-in or file named by pos (the default scenario when
+// pos is empty), then --grid and --n, then each --set in order. A change
+// of grid family drops a relaxation that belongs to the old one
+// (GridConfig.SetKind). Errors name the flag or key and what is allowed.
+func analysisConfig(pos []string, grid, n string, sets []string) (sim.Config, error) {
+	if len(pos) > 1 {
+		return sim.Config{}, fmt.Errorf("want at most one scenario file or built-in name, got %d: %s", len(pos), strings.Join(pos, " "))
+	}
+	cfg := sim.DefaultConfig()
+	if len(pos) == 1 {
+		sc, err := Load(pos[0])
+		if err != nil {
+			return sim.Config{}, err
+		}
+		cfg = sc.Config
+	}
+	if grid != "" {
+		ok := false
+		var names []string
+		for _, k := range mesh.Kinds {
+			ok = ok || string(k) == grid
+			names = append(names, string(k))
+		}
+		if !ok {
+			return sim.Config{}, fmt.Errorf("--grid %q: unknown grid; allowed: %s", grid, strings.Join(names, ", "))
+		}
+		cfg.Grid.SetKind(grid)
+	}
+	if n != "" {
+		v, err := strconv.Atoi(n)
+		if err != nil {
+			return sim.Config{}, fmt.Errorf("--n %q: must be an integer", n)
+		}
+		cfg.Grid.N = v
+	}
+	if grid != "" || n != "" {
+		if _, err := cfg.MeshSpec().Cells(); err != nil {
+			return sim.Config{}, fmt.Errorf("--grid %s --n %d: %v", cfg.Grid.Kind, cfg.Grid.N, err)
+		}
+	}
+	for _, s := range sets {
+		if err := scenario.Set(&cfg, s); err != nil {
+			return sim.Config{}, err
+		}
+	}
+	return cfg, nil
 }

@@ -8,13 +8,8 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"strconv"
-	"strings"
 
-	"gyrebench/sim"
 	"gyrebench/sim/atomicfile"
-	"gyrebench/sim/mesh"
-	"gyrebench/sim/scenario"
 	"gyrebench/sim/structure"
 )
 
@@ -37,43 +32,12 @@ func cmdStructure(ctx context.Context, args []string, stdout, stderr io.Writer) 
 		fmt.Fprintf(stderr, "gyrebench structure: "+format+"\n", a...)
 		return ExitBadInput
 	}
-	if len(pos) > 1 {
-		return fail("want at most one scenario file or built-in name, got %d: %s", len(pos), strings.Join(pos, " "))
-	}
 	if *out == "" {
 		return fail("--out: an output folder is required, e.g. --out structure-hex16")
 	}
-	cfg := sim.DefaultConfig()
-	if len(pos) == 1 {
-		sc, err := Load(pos[0])
-		if err != nil {
-			return fail("%v", err)
-		}
-		cfg = sc.Config
-	}
-	if *grid != "" {
-		ok := false
-		var names []string
-		for _, k := range mesh.Kinds {
-			ok = ok || string(k) == *grid
-			names = append(names, string(k))
-		}
-		if !ok {
-			return fail("--grid %q: unknown grid; allowed: %s", *grid, strings.Join(names, ", "))
-		}
-		cfg.Grid.Kind = *grid
-	}
-	if *n != "" {
-		v, err := strconv.Atoi(*n)
-		if err != nil {
-			return fail("--n %q: must be an integer", *n)
-		}
-		cfg.Grid.N = v
-	}
-	for _, s := range sets {
-		if err := scenario.Set(&cfg, s); err != nil {
-			return fail("%v", err)
-		}
+	cfg, err := analysisConfig(pos, *grid, *n, sets)
+	if err != nil {
+		return fail("%v", err)
 	}
 	if err := ctx.Err(); err != nil {
 		return ExitInterrupted

@@ -119,3 +119,17 @@ func TestStructureDistortedPlane(t *testing.T) {
 		}
 	}
 }
+
+// --grid on a scenario written for another grid family drops that family's
+// relaxation, as modes and --set do: williamson-2 asks for a Lloyd-relaxed
+// icosahedral grid, and the cubed sphere has none.
+func TestStructureGridFlagDropsRelaxation(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "st")
+	code, _, stderr := gyre(t, "structure", "williamson-2", "--grid", "cubed", "--n", "4", "--out", dir)
+	if code != ExitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "structure.json")); err != nil {
+		t.Fatal(err)
+	}
+}
