@@ -4,8 +4,9 @@
 // and their hooks").
 
 import { decodeBinary } from './protocol.js';
-import { FieldView } from './fieldview.js';
-import { SphereView, PROJECTIONS } from './globe.js';
+import { Connection } from './connection.js';
+import { FieldCanvas } from './fieldcanvas.js';
+import { PROJECTIONS } from './globe.js';
 import { LinearPanel } from './linearpanel.js';
 import { SeriesPlot } from './seriesplot.js';
 import { StructurePanel } from './structurepanel.js';
@@ -39,10 +40,9 @@ const hooks = { status: null, firstFrameMs: null, drawMs: 0 };
 window.gyrebench = hooks;
 
 // The plane is drawn by FieldView, the sphere by SphereView (globe or
-// longitude–latitude map); view is whichever the current grid needs.
-const planeView = new FieldView(el.canvas);
-const sphereView = new SphereView(el.canvas);
-let view = planeView;
+// longitude–latitude map); field.view is whichever the current grid needs.
+const field = new FieldCanvas(el.canvas);
+const sphereView = field.sphere;
 const linear = new LinearPanel({
   dtStable: $('dt-stable'), dtWarning: $('dt-warning'), plot: $('dispersion-plot'),
   caption: $('dispersion-caption'), legend: $('dispersion-legend'),
@@ -56,49 +56,22 @@ const structure = new StructurePanel({
 }, send); // the Hodge star and the structure report (structurepanel.js)
 
 const st = {
-  ws: null, retry: 500, fields: [], config: null, status: null, geometry: null,
-  ring: { entries: [], cursor: -1 }, nextID: 1, pending: new Map(),
+  fields: [], config: null, status: null, geometry: null, ring: { entries: [], cursor: -1 },
   frame: null, range: null, framesDrawn: 0, drawTimes: [], skipped: 0,
   dirtyField: false, dirtyPlot: false, scheduled: false, barKey: '',
 };
 
 // ---- connection ---------------------------------------------------------
 
-function connect() {
-  const proto = location.protocol === 'https:' ? 'wss' : 'ws';
-  const ws = new WebSocket(`${proto}://${location.host}/run/${encodeURIComponent(runID)}/ws`);
-  ws.binaryType = 'arraybuffer';
-  st.ws = ws;
-  setRunState('connecting');
-  ws.onopen = () => {
-    st.retry = 500;
+const conn = new Connection(`/run/${encodeURIComponent(runID)}/ws`, {
+  open: () => {
     send('linear'); // the stable-Δt prediction and the dispersion diagram
     send('structure'); // the structure report
-  };
-  ws.onmessage = (ev) => {
-    if (typeof ev.data === 'string') onJSON(JSON.parse(ev.data));
-    else onBinary(ev.data);
-  };
-  ws.onclose = (ev) => {
-    if (st.ws !== ws) return;
-    setRunState('disconnected');
-    showMessage(ev.reason ? `Connection closed: ${ev.reason}. Reconnecting…` : 'Connection lost. Reconnecting…', 'info');
-    setTimeout(connect, st.retry);
-    st.retry = Math.min(st.retry * 2, 8000);
-  };
-}
+  },
+  json: onJSON, binary: onBinary, state: setRunState, note: showMessage,
+});
 
-function send(cmd, value) {
-  if (!st.ws || st.ws.readyState !== WebSocket.OPEN) {
-    showMessage(`Not connected: “${cmd}” was not sent.`, 'error');
-    return;
-  }
-  const id = st.nextID++;
-  st.pending.set(id, cmd);
-  const msg = { id, cmd };
-  if (value !== undefined) msg.value = value;
-  st.ws.send(JSON.stringify(msg));
-}
+function send(cmd, value) { conn.send(cmd, value); }
 
 // ---- messages -----------------------------------------------------------
 
@@ -153,10 +126,10 @@ function onJSON(m) {
       break;
     case 'ack':
       // A command of ours went through: an earlier refusal is old news.
-      if (st.pending.delete(m.id) && el.message.classList.contains('error')) hideMessage();
+      if (conn.settle(m.id) && el.message.classList.contains('error')) hideMessage();
       break;
     case 'error':
-      st.pending.delete(m.id);
+      conn.settle(m.id);
       showMessage(m.message, 'error', m.cmd);
       showConfig(); // put the controls back to what the run has
       break;
@@ -173,8 +146,7 @@ function onBinary(buf) {
   }
   if (msg.kind === 'geometry') {
     st.geometry = msg;
-    useView(msg.sphere ? sphereView : planeView);
-    view.setGeometry(msg);
+    useGeometry(msg);
     st.range = null;
     el.canvas.dataset.grid = st.config ? `${st.config.grid.kind} ${st.config.grid.n}` : '';
     el.canvas.dataset.cellCorners = cornerRange(msg.polys[0]); // "4" on the cubed sphere, "5–6" icosahedral
@@ -253,6 +225,7 @@ function drawField(now) {
   const def = st.fields[f.field];
   if (!def) return;
   const r = updateRange(f, def);
+  const view = field.view;
   view.resize();
   view.setFrame(f, r.map, r.lo, r.hi);
   view.render();
@@ -267,7 +240,6 @@ function drawField(now) {
   st.framesDrawn++;
   el.canvas.dataset.frames = String(st.framesDrawn);
   el.canvas.dataset.field = def.name;
-  el.canvas.dataset.drawn = view === sphereView ? sphereView.projection : 'plane'; // how the last frame was drawn
   if (st.framesDrawn === 1) {
     hooks.firstFrameMs = performance.now();
     el.canvas.dataset.firstFrameMs = hooks.firstFrameMs.toFixed(0);
@@ -373,7 +345,7 @@ function showStatus() {
   el.time.dataset.seconds = String(s.t);
   el.steps.textContent = String(s.steps);
   const b = s.blowup;
-  view.highlight = b ? { x: b.x, y: b.y } : null;
+  field.view.highlight = b ? { x: b.x, y: b.y } : null;
   if (b) {
     const value = b.value === null ? 'not a finite number' : fmtNum(b.value, 4);
     const what = b.cell >= 0 ? `depth ${value} m in cell ${b.cell}`
@@ -467,21 +439,18 @@ function nextField() {
   send('set-field', st.fields[(i + 1) % st.fields.length].name);
 }
 
-// useView makes v the view that draws on the canvas.
-function useView(v) {
-  planeView.geom = v === planeView ? planeView.geom : null; // an idle view ignores the pointer
-  sphereView.active = v === sphereView;
-  el.projectionBox.hidden = v !== sphereView;
-  el.canvas.dataset.projection = v === sphereView ? sphereView.projection : 'plane';
-  if (v !== view) v.highlight = view.highlight;
-  view = v;
+// useGeometry draws on geometry g from now on (plane or sphere).
+function useGeometry(g) {
+  field.setGeometry(g);
+  el.projectionBox.hidden = !g.sphere;
+  el.canvas.dataset.projection = field.drawing;
 }
 
 function setProjection(p) {
   sphereView.setProjection(p);
-  el.projection.value = sphereView.projection;
-  if (view === sphereView) el.canvas.dataset.projection = sphereView.projection;
-  try { localStorage.setItem('gyrebench.projection', sphereView.projection); } catch { /* private mode */ }
+  el.projection.value = sphereView.choice;
+  if (field.view === sphereView) el.canvas.dataset.projection = sphereView.choice;
+  try { localStorage.setItem('gyrebench.projection', sphereView.choice); } catch { /* private mode */ }
   schedule('field');
 }
 
@@ -524,8 +493,7 @@ el.log.addEventListener('change', () => { plot.log = el.log.checked; schedule('p
 el.large.addEventListener('click', () => setLarge(!document.body.classList.contains('large')));
 el.help.addEventListener('click', () => toggleHelp());
 el.overlay.addEventListener('click', (e) => { if (e.target === el.overlay) toggleHelp(false); });
-planeView.onchange = () => schedule('field');
-sphereView.onchange = () => schedule('field');
+field.onchange = () => schedule('field');
 
 document.addEventListener('keydown', (e) => {
   if (e.ctrlKey || e.metaKey || e.altKey) return;
@@ -540,12 +508,12 @@ document.addEventListener('keydown', (e) => {
     case 'f': case 'F': nextField(); break;
     case 'l': case 'L': setLarge(!document.body.classList.contains('large')); break;
     case 'g': case 'G':
-      if (view === sphereView) setProjection(PROJECTIONS[(PROJECTIONS.indexOf(sphereView.projection) + 1) % PROJECTIONS.length]);
+      if (field.view === sphereView) setProjection(PROJECTIONS[(PROJECTIONS.indexOf(sphereView.choice) + 1) % PROJECTIONS.length]);
       break;
     case '?': toggleHelp(); break;
-    case '+': case '=': view.zoomBy(1.25); schedule('field'); break;
-    case '-': case '_': view.zoomBy(0.8); schedule('field'); break;
-    case '0': view.fit(); schedule('field'); break;
+    case '+': case '=': field.view.zoomBy(1.25); schedule('field'); break;
+    case '-': case '_': field.view.zoomBy(0.8); schedule('field'); break;
+    case '0': field.view.fit(); schedule('field'); break;
     default: return;
   }
 });
@@ -557,4 +525,4 @@ new ResizeObserver(() => schedule('plot')).observe(el.budget);
 try { if (localStorage.getItem('gyrebench.large') === '1') setLarge(true); } catch { /* private mode */ }
 try { const p = localStorage.getItem('gyrebench.projection'); if (p) setProjection(p); } catch { /* private mode */ }
 plot.log = el.log.checked;
-connect();
+conn.connect();

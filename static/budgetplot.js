@@ -4,32 +4,27 @@
 // the measured change). Drawn with SeriesPlot's panels and markers.
 
 import { SeriesPlot } from './seriesplot.js';
+import { BUDGET } from './theme.js';
+
+// budgetPanel is the panel of quantity q's rate (energy or enstrophy),
+// split by cause.
+const budgetPanel = (title, q) => ({
+  title,
+  series: ['scheme', 'dissipation', 'residual'].map((part) => ({
+    key: `${q}_rate_${part}`, label: part === 'residual' ? 'time stepping' : part, colour: BUDGET[part],
+  })),
+  weight: 1,
+});
 
 export const BUDGET_PANELS = [
-  {
-    title: 'dE/dt (m⁵ s⁻³)',
-    series: [
-      { key: 'energy_rate_scheme', label: 'scheme', colour: '#6cb6ff' },
-      { key: 'energy_rate_dissipation', label: 'dissipation', colour: '#ff9ecf' },
-      { key: 'energy_rate_residual', label: 'time stepping', colour: '#e8e3a1' },
-    ],
-    weight: 1,
-  },
-  {
-    title: 'dZ/dt, potential enstrophy (m s⁻³)',
-    series: [
-      { key: 'enstrophy_rate_scheme', label: 'scheme', colour: '#6cb6ff' },
-      { key: 'enstrophy_rate_dissipation', label: 'dissipation', colour: '#ff9ecf' },
-      { key: 'enstrophy_rate_residual', label: 'time stepping', colour: '#e8e3a1' },
-    ],
-    weight: 1,
-  },
+  budgetPanel('dE/dt (m⁵ s⁻³)', 'energy'),
+  budgetPanel('dZ/dt, potential enstrophy (m s⁻³)', 'enstrophy'),
 ];
 
 // BudgetPlot also writes, for tests and for people who read the page's
 // attributes, the series it holds and the latest dissipation rates.
 export class BudgetPlot extends SeriesPlot {
-  constructor(canvas) { super(canvas, BUDGET_PANELS); }
+  constructor(canvas) { super(canvas, { panels: BUDGET_PANELS }); }
 
   render() {
     super.render();

@@ -11,6 +11,7 @@
 import { fmtTick, superscript, niceStep } from './format.js';
 import { SEQUENTIAL as SEQ_TABLE, DIVERGING as DIV_TABLE } from './colourmaps.js';
 import { THEME } from './theme.js';
+import { cssContext } from './canvas.js';
 
 function build(name, table) {
   const n = table.length;
@@ -45,15 +46,7 @@ export function mapFor(def, lo, hi) {
 // drawColourBar draws a vertical bar with round ticks, the field's label
 // and its units. scale enlarges the type (large-type mode).
 export function drawColourBar(canvas, map, lo, hi, def, scale) {
-  const dpr = window.devicePixelRatio || 1;
-  const w = canvas.clientWidth, h = canvas.clientHeight;
-  if (canvas.width !== Math.round(w * dpr) || canvas.height !== Math.round(h * dpr)) {
-    canvas.width = Math.round(w * dpr);
-    canvas.height = Math.round(h * dpr);
-  }
-  const ctx = canvas.getContext('2d');
-  ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
-  ctx.clearRect(0, 0, w, h);
+  const { ctx, w, h } = cssContext(canvas);
   if (!def || !(hi > lo)) return;
   const fs = 11 * scale;
   const top = fs * 2.2, bottom = h - fs;

@@ -8,6 +8,7 @@
 
 import { fmtTick, niceStep } from './format.js';
 import { THEME } from './theme.js';
+import { cssContext } from './canvas.js';
 
 export const CLASS_COLOURS = {
   inertia_gravity: '#3fb4a0',
@@ -26,15 +27,7 @@ export const CLASS_LABELS = {
 // drawDispersion draws message d on canvas; rho, when known, is the run's
 // own grid's largest |ω| (a dashed line). scale enlarges the type.
 export function drawDispersion(canvas, d, rho, scale) {
-  const dpr = window.devicePixelRatio || 1;
-  const w = canvas.clientWidth, h = canvas.clientHeight;
-  if (canvas.width !== Math.round(w * dpr) || canvas.height !== Math.round(h * dpr)) {
-    canvas.width = Math.round(w * dpr);
-    canvas.height = Math.round(h * dpr);
-  }
-  const ctx = canvas.getContext('2d');
-  ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
-  ctx.clearRect(0, 0, w, h);
+  const { ctx, w, h } = cssContext(canvas);
   const fs = 10.5 * scale;
   ctx.font = `${fs}px system-ui, sans-serif`;
   ctx.fillStyle = THEME.muted;

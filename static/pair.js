@@ -1,11 +1,20 @@
 // The pair page: two runs in lockstep (server/pair.go). Draws A and B with
 // one shared colour scale, A − B with its own scale centred on zero when
-// both are on the same grid, and both runs' invariants overlaid. The three
-// views pan and zoom together.
+// both are on the same grid, and both runs' invariants overlaid. On the
+// plane the three views pan and zoom together; on the sphere they are
+// globes (or maps, key G) that turn together.
+//
+// Hooks for tests, beside the data-role attributes: every field canvas
+// carries data-drawn ('plane', 'globe' or 'lonlat') and data-camera (the
+// view it was last drawn with, as text: "lon=… lat=… zoom=…" on the globe,
+// "cx=… cy=… s=…" on a flat map), so that views turned together read the
+// same; window.gyrebench.pair is the latest pair status.
 
 import { decodeBinary } from './protocol.js';
-import { FieldView } from './fieldview.js';
-import { PairPlot } from './pairplot.js';
+import { Connection } from './connection.js';
+import { FieldCanvas } from './fieldcanvas.js';
+import { PROJECTIONS } from './globe.js';
+import { SeriesPlot } from './seriesplot.js';
 import { drawColourBar, mapFor, DIVERGING } from './colour.js';
 import { fmtClock, fmtNum } from './format.js';
 
@@ -14,7 +23,6 @@ const q = (role, side) => document.querySelector(side ? `[data-role="${role}"][d
 const root = document.querySelector('.wb.pair');
 const pairID = root.dataset.pair;
 const SIDES = ['a', 'b'];
-const TAGS = { 1: 'a', 2: 'b', 3: 'diff' };
 
 const el = {
   bar: q('colour-bar'), diffBar: q('diff-bar'), diffCanvas: q('diff-canvas'), diffNote: q('diff-note'),
@@ -34,55 +42,25 @@ function sideEls(s) {
 const sides = {};
 for (const s of SIDES) {
   const e = sideEls(s);
-  sides[s] = { name: s.toUpperCase(), el: e, view: new FieldView(e.canvas), config: null, status: null, geometry: null, frame: null, drawn: 0 };
+  sides[s] = { name: s.toUpperCase(), el: e, field: new FieldCanvas(e.canvas), config: null, status: null, geometry: null, frame: null, drawn: 0 };
 }
-const diff = { view: new FieldView(el.diffCanvas), frame: null, drawn: 0 };
-const plot = new PairPlot(el.plot);
+const diff = { field: new FieldCanvas(el.diffCanvas), frame: null, drawn: 0 };
+const fields = [sides.a.field, sides.b.field, diff.field];
+const plot = new SeriesPlot(el.plot, { names: SIDES.map((s) => s.toUpperCase()) });
 
-const st = {
-  ws: null, retry: 500, fields: [], pair: null, nextID: 1, range: null, scheduled: false,
-};
+const st = { fields: [], pair: null, range: null, scheduled: false, projection: 'globe' };
 
 // For tests: the latest pair status and each side's.
 window.gyrebench = { pair: null, sides };
 
 // ---- connection ---------------------------------------------------------
 
-function connect() {
-  const proto = location.protocol === 'https:' ? 'wss' : 'ws';
-  const ws = new WebSocket(`${proto}://${location.host}/pair/${encodeURIComponent(pairID)}/ws`);
-  ws.binaryType = 'arraybuffer';
-  st.ws = ws;
-  setState('connecting');
-  ws.onopen = () => { st.retry = 500; };
-  ws.onmessage = (ev) => {
-    if (typeof ev.data === 'string') {
-      const { side, msg } = JSON.parse(ev.data);
-      if (side) onSide(sides[side], side, msg);
-      else onPair(msg);
-    } else {
-      onBinary(ev.data);
-    }
-  };
-  ws.onclose = (ev) => {
-    if (st.ws !== ws) return;
-    setState('disconnected');
-    showMessage(ev.reason ? `Connection closed: ${ev.reason}. Reconnecting…` : 'Connection lost. Reconnecting…', 'info');
-    setTimeout(connect, st.retry);
-    st.retry = Math.min(st.retry * 2, 8000);
-  };
-}
+const conn = new Connection(`/pair/${encodeURIComponent(pairID)}/ws`, {
+  json: (msg, side) => (side ? onSide(sides[side], side, msg) : onPair(msg)),
+  binary: onBinary, state: setState, note: showMessage,
+}, { tagged: true });
 
-function send(cmd, value, side) {
-  if (!st.ws || st.ws.readyState !== WebSocket.OPEN) {
-    showMessage(`Not connected: “${cmd}” was not sent.`, 'error');
-    return;
-  }
-  const msg = { id: st.nextID++, cmd };
-  if (side) msg.side = side;
-  if (value !== undefined) msg.value = value;
-  st.ws.send(JSON.stringify(msg));
-}
+function send(cmd, value, side) { conn.send(cmd, value, side); }
 
 // ---- messages -----------------------------------------------------------
 
@@ -101,15 +79,15 @@ function onSide(s, name, m) {
       showSide(s);
       break;
     case 'point':
-      plot.addPoint(i, m);
+      plot.addPoint(m, i);
       schedule();
       break;
     case 'history':
-      plot.setHistory(i, m.points, m.markers);
+      plot.setHistory(m.points, m.markers, i);
       schedule();
       break;
     case 'marker':
-      plot.addMarker(i, m);
+      plot.addMarker(m, i);
       schedule();
       break;
     default: // ring, timeline, the linear panel's messages: not shown here
@@ -125,17 +103,17 @@ function onPair(m) {
       showPair();
       break;
     case 'ack':
-      if (el.message.classList.contains('error')) hideMessage();
+      if (conn.settle(m.id) && el.message.classList.contains('error')) hideMessage();
       break;
     case 'error':
+      conn.settle(m.id);
       showMessage(m.message, 'error');
       for (const s of SIDES) showConfig(sides[s]);
       break;
   }
 }
 
-function onBinary(buf) {
-  const tag = TAGS[new Uint8Array(buf, 3, 1)[0]];
+function onBinary(buf, tag) {
   let msg;
   try {
     msg = decodeBinary(buf);
@@ -147,13 +125,13 @@ function onBinary(buf) {
     const s = sides[tag];
     if (!s) return;
     s.geometry = msg;
-    s.view.setGeometry(msg);
+    useGeometry(s.field, msg);
     s.frame = null;
     if (tag === 'a') {
-      diff.view.setGeometry(msg);
+      useGeometry(diff.field, msg);
       diff.frame = null;
     }
-    syncViews(s.view);
+    syncViews(s.field.view);
     st.range = null;
     return;
   }
@@ -218,9 +196,10 @@ function draw() {
     for (const name of SIDES) {
       const s = sides[name];
       if (!s.frame) continue;
-      s.view.resize();
-      s.view.setFrame(s.frame, r.map, r.lo, r.hi);
-      s.view.render();
+      const v = s.field.view;
+      v.resize();
+      v.setFrame(s.frame, r.map, r.lo, r.hi);
+      v.render();
       s.drawn++;
       s.el.canvas.dataset.frames = String(s.drawn);
       s.el.canvas.dataset.field = def.name;
@@ -247,9 +226,10 @@ function drawDiff(def) {
     return;
   }
   const a = Math.max(Math.abs(f.min), Math.abs(f.max));
-  diff.view.resize();
-  diff.view.setFrame(f, DIVERGING, -(a || 1), a || 1);
-  diff.view.render();
+  const v = diff.field.view;
+  v.resize();
+  v.setFrame(f, DIVERGING, -(a || 1), a || 1);
+  v.render();
   diff.drawn++;
   const c = el.diffCanvas.dataset;
   c.frames = String(diff.drawn);
@@ -264,20 +244,29 @@ function drawDiff(def) {
   }
 }
 
-// syncViews gives every view the pan and zoom of src.
+// useGeometry draws field canvas fc on geometry g, in the page's choice
+// of projection on the sphere.
+function useGeometry(fc, g) {
+  fc.sphere.setProjection(st.projection);
+  fc.setGeometry(g);
+}
+
+// syncViews gives every view the pan and zoom (on the globe: the turn) of
+// src, where they show the same domain in the same projection.
 function syncViews(src) {
-  for (const v of [sides.a.view, sides.b.view, diff.view]) {
-    if (v === src || !v.geom || !src.view || !src.geom) continue;
-    const e1 = v.geom.extent, e2 = src.geom.extent;
-    if (e1.x1 !== e2.x1 || e1.y1 !== e2.y1) continue;
-    v.view = { ...src.view };
-    v.fitted = src.fitted;
-    v.rasterKey = '';
-  }
+  for (const fc of fields) if (fc.view !== src) fc.view.follow(src);
   schedule();
 }
 
-for (const v of [sides.a.view, sides.b.view, diff.view]) v.onchange = () => syncViews(v);
+for (const fc of fields) fc.onchange = () => syncViews(fc.view);
+
+// toggleProjection moves every globe to the map, or back.
+function toggleProjection() {
+  if (!fields.some((fc) => fc.view === fc.sphere)) return;
+  st.projection = PROJECTIONS[(PROJECTIONS.indexOf(st.projection) + 1) % PROJECTIONS.length];
+  for (const fc of fields) fc.sphere.setProjection(st.projection);
+  schedule();
+}
 
 // ---- controls -----------------------------------------------------------
 
@@ -382,7 +371,8 @@ document.addEventListener('keydown', (e) => {
     case 's': case 'S': send('step'); break;
     case 'r': case 'R': send('reset'); break;
     case 'l': case 'L': setLarge(!document.body.classList.contains('large')); break;
-    case '0': for (const v of [sides.a.view, sides.b.view, diff.view]) v.fit(); schedule(); break;
+    case 'g': case 'G': toggleProjection(); break;
+    case '0': for (const fc of fields) fc.view.fit(); schedule(); break;
     default:
   }
 });
@@ -390,4 +380,4 @@ document.addEventListener('keydown', (e) => {
 new ResizeObserver(schedule).observe(document.querySelector('.pair-views'));
 new ResizeObserver(schedule).observe(el.plot);
 plot.log = el.log.checked;
-connect();
+conn.connect();

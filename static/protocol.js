@@ -58,3 +58,11 @@ function decodeFrame(buf, dv) {
     values: new Float32Array(buf, 40, count),
   };
 }
+
+// SIDE_TAGS name byte 3 of a pair's binary messages: which side's
+// geometry or frame it is, or the difference A − B.
+const SIDE_TAGS = { 1: 'a', 2: 'b', 3: 'diff' };
+
+export function sideOf(buf) {
+  return SIDE_TAGS[new Uint8Array(buf, 3, 1)[0]];
+}

@@ -1,13 +1,19 @@
-// SeriesPlot draws the invariants against simulated time in three stacked
-// panels: relative drift of mass, energy and potential enstrophy (signed,
-// or log₁₀ of its magnitude), the Courant numbers, and the minimum depth.
-// Every mid-run change is a labelled vertical line across all panels.
+// SeriesPlot draws the invariants of k runs against simulated time in
+// stacked panels: relative drift of mass, energy and potential enstrophy
+// (signed, or log₁₀ of its magnitude), the Courant numbers, and the
+// minimum depth. One run (k = 1) is drawn in solid lines, its mid-run
+// changes as labelled vertical lines coloured by kind; a pair (k = 2)
+// draws A solid and B dashed, each side's changes in the side's colour
+// and labelled with its name. Other panels can be given (budgetplot.js).
 
 import { fmtNum, superscript, timeUnit, niceStep, ticks, tickDigits } from './format.js';
-import { THEME, SERIES, MARKERS } from './theme.js';
+import { THEME, SERIES, MARKERS, SIDES } from './theme.js';
+import { fitToBox } from './canvas.js';
 
-const MAX_POINTS = 8000;
+const MAX_POINTS = 8000; // kept of one run; k runs keep 12000 / k each, at most this
 const FLOOR = 1e-18; // |drift| below this is drawn at this value in log mode
+const DASHES = [[], [6, 4], [2, 3]]; // the lines of run 1, 2, 3
+const MARKER_DASHES = [[4, 3], [2, 3], [1, 2]];
 
 const PANELS = [
   {
@@ -35,47 +41,42 @@ const PANELS = [
   },
 ];
 
-const MARKER_COLOURS = MARKERS;
-
 export class SeriesPlot {
-  // panels replaces the invariant panels (the budget plot has its own).
-  constructor(canvas, panels = PANELS) {
+  // panels replaces the invariant panels (the budget plot has its own);
+  // names holds one name per run ('' for a single run).
+  constructor(canvas, { panels = PANELS, names = [''] } = {}) {
     this.canvas = canvas;
     this.panels = panels;
-    this.points = [];
-    this.markers = [];
+    this.names = names;
+    this.sets = names.map(() => ({ points: [], markers: [] }));
+    this.maxPoints = Math.min(MAX_POINTS, Math.round(12000 / names.length));
     this.log = true;
     this.scale = 1;
   }
 
-  setHistory(points, markers) {
-    this.points = (points || []).slice();
-    this.markers = (markers || []).slice();
-    this.thin();
+  // points are the first run's points.
+  get points() { return this.sets[0].points; }
+
+  setHistory(points, markers, i = 0) {
+    this.sets[i].points = (points || []).slice();
+    this.sets[i].markers = (markers || []).slice();
+    this.thin(i);
   }
 
-  addPoint(p) {
-    const last = this.points[this.points.length - 1];
+  addPoint(p, i = 0) {
+    const pts = this.sets[i].points;
+    const last = pts[pts.length - 1];
     if (last && last.steps === p.steps && last.energy === p.energy && last.mass === p.mass) return;
-    this.points.push(p);
-    this.thin();
+    pts.push(p);
+    this.thin(i);
   }
 
-  addMarker(m) { this.markers.push(m); }
+  addMarker(m, i = 0) { this.sets[i].markers.push(m); }
 
-  thin() {
-    if (this.points.length <= MAX_POINTS) return;
-    this.points = this.points.filter((_, i) => i % 2 === 0 || i === this.points.length - 1);
-  }
-
-  resize() {
-    const dpr = window.devicePixelRatio || 1;
-    const w = Math.max(1, Math.round(this.canvas.clientWidth * dpr));
-    const h = Math.max(1, Math.round(this.canvas.clientHeight * dpr));
-    if (w !== this.canvas.width || h !== this.canvas.height) {
-      this.canvas.width = w;
-      this.canvas.height = h;
-    }
+  thin(i) {
+    const s = this.sets[i];
+    if (s.points.length <= this.maxPoints) return;
+    s.points = s.points.filter((_, k) => k % 2 === 0 || k === s.points.length - 1);
   }
 
   value(p, key, drift) {
@@ -86,7 +87,7 @@ export class SeriesPlot {
   }
 
   render() {
-    this.resize();
+    fitToBox(this.canvas);
     const dpr = window.devicePixelRatio || 1;
     const ctx = this.canvas.getContext('2d');
     const W = this.canvas.width / dpr, H = this.canvas.height / dpr;
@@ -96,10 +97,12 @@ export class SeriesPlot {
     const fs = 11 * this.scale;
     ctx.font = `${fs}px system-ui, sans-serif`;
     const left = fs * 6, right = fs * 1.2, top = fs * 0.3, bottom = fs * 2.2, gap = fs * 0.6;
-    const pts = this.points;
-    if (pts.length === 0) return;
-    let t0 = pts[0].t, t1 = pts[pts.length - 1].t;
-    for (const m of this.markers) t1 = Math.max(t1, m.t);
+    let t0 = Infinity, t1 = -Infinity;
+    for (const s of this.sets) {
+      for (const p of s.points) { if (p.t < t0) t0 = p.t; if (p.t > t1) t1 = p.t; }
+    }
+    if (t0 === Infinity) return;
+    for (const s of this.sets) for (const m of s.markers) t1 = Math.max(t1, m.t);
     if (!(t1 > t0)) t1 = t0 + 1;
     const plotW = W - left - right;
     const X = (t) => left + ((t - t0) / (t1 - t0)) * plotW;
@@ -123,12 +126,14 @@ export class SeriesPlot {
     const head = fs * 1.5; // title and legend sit above the data
     const y = yTop + head, h = hAll - head;
     let lo = Infinity, hi = -Infinity;
-    for (const p of this.points) {
-      for (const s of panel.series) {
-        const v = this.value(p, s.key, drift);
-        if (v === null) continue;
-        if (v < lo) lo = v;
-        if (v > hi) hi = v;
+    for (const set of this.sets) {
+      for (const p of set.points) {
+        for (const s of panel.series) {
+          const v = this.value(p, s.key, drift);
+          if (v === null) continue;
+          if (v < lo) lo = v;
+          if (v > hi) hi = v;
+        }
       }
     }
     if (!(hi >= lo)) { lo = 0; hi = 1; }
@@ -172,19 +177,23 @@ export class SeriesPlot {
     ctx.rect(x, y, w, h);
     ctx.clip();
     ctx.lineWidth = 1.5 * this.scale;
-    for (const s of panel.series) {
-      ctx.strokeStyle = s.colour;
-      ctx.beginPath();
-      let pen = false;
-      for (const p of this.points) {
-        const v = this.value(p, s.key, drift);
-        if (v === null) { pen = false; continue; }
-        const px = X(p.t), py = Y(v);
-        if (pen) ctx.lineTo(px, py); else ctx.moveTo(px, py);
-        pen = true;
+    this.sets.forEach((set, i) => {
+      ctx.setLineDash(DASHES[i % DASHES.length].map((d) => d * this.scale));
+      for (const s of panel.series) {
+        ctx.strokeStyle = s.colour;
+        ctx.beginPath();
+        let pen = false;
+        for (const p of set.points) {
+          const v = this.value(p, s.key, drift);
+          if (v === null) { pen = false; continue; }
+          const px = X(p.t), py = Y(v);
+          if (pen) ctx.lineTo(px, py); else ctx.moveTo(px, py);
+          pen = true;
+        }
+        ctx.stroke();
       }
-      ctx.stroke();
-    }
+    });
+    ctx.setLineDash([]);
     ctx.restore();
     // Title and legend above the panel.
     ctx.textAlign = 'left';
@@ -207,31 +216,35 @@ export class SeriesPlot {
     const yTop = boxes[0][0] + fs * 1.5;
     const last = boxes[boxes.length - 1];
     const yBottom = last[0] + last[1];
-    const rows = [-Infinity, -Infinity, -Infinity];
+    const k = this.sets.length;
+    const rows = new Array(2 + k).fill(-Infinity);
     ctx.textAlign = 'left';
     ctx.textBaseline = 'top';
-    for (const m of this.markers) {
-      const x = Math.round(X(m.t)) + 0.5;
-      const colour = MARKER_COLOURS[m.kind] || THEME.fallback;
-      ctx.strokeStyle = colour;
-      ctx.lineWidth = 1;
-      ctx.setLineDash([4, 3]);
-      ctx.beginPath(); ctx.moveTo(x, yTop); ctx.lineTo(x, yBottom); ctx.stroke();
-      ctx.setLineDash([]);
-      // Labels sit in the first free row to the right of the line.
-      const w = ctx.measureText(m.label).width + fs * 0.8;
-      // With every row taken, the newest label covers the one it
-      // replaces entirely, so that two never print over each other.
-      let row = rows.findIndex((r) => r < x);
-      if (row < 0) row = rows.indexOf(Math.min(...rows));
-      const covered = Math.max(w, rows[row] - x);
-      rows[row] = x + w;
-      const ly = yTop + fs * (0.3 + 1.3 * row);
-      ctx.fillStyle = covered > w ? THEME.label : THEME.labelSoft;
-      ctx.fillRect(x + 2, ly - 1, covered - fs * 0.4, fs * 1.25);
-      ctx.fillStyle = colour;
-      ctx.fillText(m.label, x + fs * 0.3, ly);
-    }
+    this.sets.forEach((set, i) => {
+      for (const m of set.markers) {
+        const x = Math.round(X(m.t)) + 0.5;
+        const colour = k > 1 ? SIDES[i % SIDES.length] : MARKERS[m.kind] || THEME.fallback;
+        const label = this.names[i] ? `${this.names[i]}: ${m.label}` : m.label;
+        ctx.strokeStyle = colour;
+        ctx.lineWidth = 1;
+        ctx.setLineDash(MARKER_DASHES[i % MARKER_DASHES.length]);
+        ctx.beginPath(); ctx.moveTo(x, yTop); ctx.lineTo(x, yBottom); ctx.stroke();
+        ctx.setLineDash([]);
+        // Labels sit in the first free row to the right of the line.
+        const w = ctx.measureText(label).width + fs * 0.8;
+        // With every row taken, the newest label covers the one it
+        // replaces entirely, so that two never print over each other.
+        let row = rows.findIndex((r) => r < x);
+        if (row < 0) row = rows.indexOf(Math.min(...rows));
+        const covered = Math.max(w, rows[row] - x);
+        rows[row] = x + w;
+        const ly = yTop + fs * (0.3 + 1.3 * row);
+        ctx.fillStyle = covered > w ? THEME.label : THEME.labelSoft;
+        ctx.fillRect(x + 2, ly - 1, covered - fs * 0.4, fs * 1.25);
+        ctx.fillStyle = colour;
+        ctx.fillText(label, x + fs * 0.3, ly);
+      }
+    });
   }
 
   drawTimeAxis(ctx, t0, t1, X, y, fs) {

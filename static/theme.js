@@ -46,5 +46,10 @@ export const MARKERS = {
   hodge: '#9be3c4', dissipation: '#ff9ecf',
 };
 
+// BUDGET colours the parts of the energy and enstrophy budgets: sky for
+// the scheme's own term, pink for the dissipation, pale straw for what
+// the time stepping leaves.
+export const BUDGET = { scheme: '#6cb6ff', dissipation: '#ff9ecf', residual: '#e8e3a1' };
+
 // SIDES colour run A and run B of a lockstep pair.
 export const SIDES = ['#8fc8ff', '#ff9f80'];

@@ -479,7 +479,7 @@ func PairPage(v PairView) templ.Component {
 			if templ_7745c5c3_Err != nil {
 				return templ_7745c5c3_Err
 			}
-			templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 36, "</span> <span class=\"stat\">A: t = <span data-role=\"sim-time\" data-side=\"a\" data-seconds=\"0\">–</span>, step <span data-role=\"steps\" data-side=\"a\">0</span></span> <span class=\"stat\">B: t = <span data-role=\"sim-time\" data-side=\"b\" data-seconds=\"0\">–</span>, step <span data-role=\"steps\" data-side=\"b\">0</span></span> <span class=\"stat\" data-role=\"pair-note\"></span></span></div><div class=\"pair-views\"><figure class=\"pane\"><figcaption>A <span data-role=\"caption\" data-side=\"a\"></span></figcaption><canvas data-role=\"field-canvas\" data-side=\"a\" data-frames=\"0\" aria-label=\"Side A\"></canvas></figure><figure class=\"pane\"><figcaption>B <span data-role=\"caption\" data-side=\"b\"></span></figcaption><canvas data-role=\"field-canvas\" data-side=\"b\" data-frames=\"0\" aria-label=\"Side B\"></canvas></figure><canvas data-role=\"colour-bar\" aria-hidden=\"true\" title=\"one colour scale for A and B\"></canvas><figure class=\"pane\"><figcaption>A − B <span data-role=\"caption\" data-side=\"diff\"></span></figcaption><canvas data-role=\"diff-canvas\" data-frames=\"0\" aria-label=\"Difference A minus B\"></canvas><p class=\"diff-note\" data-role=\"diff-note\" hidden>A and B are on different grids: no difference field</p></figure><canvas data-role=\"diff-bar\" aria-hidden=\"true\"></canvas></div></section><aside class=\"controls\" aria-label=\"Controls\"><div class=\"transport\"><button type=\"button\" data-role=\"play-pause\" class=\"primary\" title=\"Play / pause both (Space)\">Play</button> <button type=\"button\" data-role=\"step-once\" title=\"One lockstep step: the side behind in time, or both (S)\">Step</button> <button type=\"button\" data-role=\"reset\" title=\"Both back to their initial states, choices kept (R)\">Reset</button></div><p class=\"hint\">Lockstep: each step advances the side that is behind in simulated time, or both when their times agree.</p>")
+			templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 36, "</span> <span class=\"stat\">A: t = <span data-role=\"sim-time\" data-side=\"a\" data-seconds=\"0\">–</span>, step <span data-role=\"steps\" data-side=\"a\">0</span></span> <span class=\"stat\">B: t = <span data-role=\"sim-time\" data-side=\"b\" data-seconds=\"0\">–</span>, step <span data-role=\"steps\" data-side=\"b\">0</span></span> <span class=\"stat\" data-role=\"pair-note\"></span></span></div><div class=\"pair-views\"><figure class=\"pane\"><figcaption>A <span data-role=\"caption\" data-side=\"a\"></span></figcaption><canvas data-role=\"field-canvas\" data-side=\"a\" data-frames=\"0\" aria-label=\"Side A\"></canvas></figure><figure class=\"pane\"><figcaption>B <span data-role=\"caption\" data-side=\"b\"></span></figcaption><canvas data-role=\"field-canvas\" data-side=\"b\" data-frames=\"0\" aria-label=\"Side B\"></canvas></figure><canvas data-role=\"colour-bar\" aria-hidden=\"true\" title=\"one colour scale for A and B\"></canvas><figure class=\"pane\"><figcaption>A − B <span data-role=\"caption\" data-side=\"diff\"></span></figcaption><canvas data-role=\"diff-canvas\" data-frames=\"0\" aria-label=\"Difference A minus B\"></canvas><p class=\"diff-note\" data-role=\"diff-note\" hidden>A and B are on different grids: no difference field</p></figure><canvas data-role=\"diff-bar\" aria-hidden=\"true\"></canvas></div></section><aside class=\"controls\" aria-label=\"Controls\"><div class=\"transport\"><button type=\"button\" data-role=\"play-pause\" class=\"primary\" title=\"Play / pause both (Space)\">Play</button> <button type=\"button\" data-role=\"step-once\" title=\"One lockstep step: the side behind in time, or both (S)\">Step</button> <button type=\"button\" data-role=\"reset\" title=\"Both back to their initial states, choices kept (R)\">Reset</button></div><p class=\"hint\">Lockstep: each step advances the side that is behind in simulated time, or both when their times agree.</p><p class=\"hint\">Drag any view to pan all three; on the sphere, drag a globe to turn all three, and press G for the longitude–latitude map.</p>")
 			if templ_7745c5c3_Err != nil {
 				return templ_7745c5c3_Err
 			}
@@ -546,7 +546,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var32 string
 				templ_7745c5c3_Var32, templ_7745c5c3_Err = templ.JoinStringErrs(v.Message)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 119, Col: 73}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 120, Col: 73}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var32))
 				if templ_7745c5c3_Err != nil {
@@ -570,7 +570,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var33 string
 					templ_7745c5c3_Var33, templ_7745c5c3_Err = templruntime.NewAttributeExpression(templ.SafeURL("/pair/" + p.ID)).ResolveURL(ctx)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 127, Col: 52}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 128, Col: 52}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var33)
 					if templ_7745c5c3_Err != nil {
@@ -583,7 +583,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var34 string
 					templ_7745c5c3_Var34, templ_7745c5c3_Err = templ.JoinStringErrs(p.ID)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 127, Col: 61}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 128, Col: 61}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var34))
 					if templ_7745c5c3_Err != nil {
@@ -596,7 +596,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var35 string
 					templ_7745c5c3_Var35, templ_7745c5c3_Err = templ.JoinStringErrs(p.Title)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 128, Col: 21}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 129, Col: 21}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var35))
 					if templ_7745c5c3_Err != nil {
@@ -609,7 +609,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var36 string
 					templ_7745c5c3_Var36, templ_7745c5c3_Err = templ.JoinStringErrs(p.A)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 129, Col: 17}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 130, Col: 17}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var36))
 					if templ_7745c5c3_Err != nil {
@@ -622,7 +622,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var37 string
 					templ_7745c5c3_Var37, templ_7745c5c3_Err = templ.JoinStringErrs(p.B)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 130, Col: 17}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 131, Col: 17}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var37))
 					if templ_7745c5c3_Err != nil {
@@ -635,7 +635,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var38 string
 					templ_7745c5c3_Var38, templ_7745c5c3_Err = templ.JoinStringErrs(p.State)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 131, Col: 21}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 132, Col: 21}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var38))
 					if templ_7745c5c3_Err != nil {
@@ -663,7 +663,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var39 string
 				templ_7745c5c3_Var39, templ_7745c5c3_Err = templruntime.NewAttributeExpression(o.Value).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 142, Col: 30}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 143, Col: 30}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var39)
 				if templ_7745c5c3_Err != nil {
@@ -676,7 +676,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var40 string
 				templ_7745c5c3_Var40, templ_7745c5c3_Err = templruntime.NewAttributeExpression(o.Title).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 142, Col: 48}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 143, Col: 48}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var40)
 				if templ_7745c5c3_Err != nil {
@@ -699,7 +699,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var41 string
 				templ_7745c5c3_Var41, templ_7745c5c3_Err = templ.JoinStringErrs(o.Label)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 142, Col: 85}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 143, Col: 85}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var41))
 				if templ_7745c5c3_Err != nil {
@@ -722,7 +722,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var42 string
 				templ_7745c5c3_Var42, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 148, Col: 32}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 149, Col: 32}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var42)
 				if templ_7745c5c3_Err != nil {
@@ -735,7 +735,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var43 string
 				templ_7745c5c3_Var43, templ_7745c5c3_Err = templ.JoinStringErrs(map[string]string{"a": "A", "b": "B"}[side])
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 149, Col: 60}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 150, Col: 60}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var43))
 				if templ_7745c5c3_Err != nil {
@@ -748,7 +748,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var44 string
 				templ_7745c5c3_Var44, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side + ".scheme").Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 151, Col: 39}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 152, Col: 39}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var44)
 				if templ_7745c5c3_Err != nil {
@@ -761,7 +761,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var45 string
 				templ_7745c5c3_Var45, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 151, Col: 84}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 152, Col: 84}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var45)
 				if templ_7745c5c3_Err != nil {
@@ -779,7 +779,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var46 string
 					templ_7745c5c3_Var46, templ_7745c5c3_Err = templruntime.NewAttributeExpression(o.Value).Resolve(ctx)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 153, Col: 33}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 154, Col: 33}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var46)
 					if templ_7745c5c3_Err != nil {
@@ -802,7 +802,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var47 string
 					templ_7745c5c3_Var47, templ_7745c5c3_Err = templ.JoinStringErrs(o.Label)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 153, Col: 70}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 154, Col: 70}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var47))
 					if templ_7745c5c3_Err != nil {
@@ -820,7 +820,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var48 string
 				templ_7745c5c3_Var48, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side + ".integrator").Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 158, Col: 43}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 159, Col: 43}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var48)
 				if templ_7745c5c3_Err != nil {
@@ -833,7 +833,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var49 string
 				templ_7745c5c3_Var49, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 158, Col: 92}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 159, Col: 92}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var49)
 				if templ_7745c5c3_Err != nil {
@@ -851,7 +851,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var50 string
 					templ_7745c5c3_Var50, templ_7745c5c3_Err = templruntime.NewAttributeExpression(o.Value).Resolve(ctx)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 160, Col: 33}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 161, Col: 33}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var50)
 					if templ_7745c5c3_Err != nil {
@@ -874,7 +874,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var51 string
 					templ_7745c5c3_Var51, templ_7745c5c3_Err = templ.JoinStringErrs(o.Label)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 160, Col: 70}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 161, Col: 70}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var51))
 					if templ_7745c5c3_Err != nil {
@@ -892,7 +892,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var52 string
 				templ_7745c5c3_Var52, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side + ".dt").Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 165, Col: 34}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 166, Col: 34}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var52)
 				if templ_7745c5c3_Err != nil {
@@ -905,7 +905,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var53 string
 				templ_7745c5c3_Var53, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 165, Col: 74}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 166, Col: 74}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var53)
 				if templ_7745c5c3_Err != nil {
@@ -918,7 +918,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var54 string
 				templ_7745c5c3_Var54, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side + ".grid").Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 168, Col: 37}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 169, Col: 37}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var54)
 				if templ_7745c5c3_Err != nil {
@@ -931,7 +931,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var55 string
 				templ_7745c5c3_Var55, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 168, Col: 80}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 169, Col: 80}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var55)
 				if templ_7745c5c3_Err != nil {
@@ -949,7 +949,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var56 string
 					templ_7745c5c3_Var56, templ_7745c5c3_Err = templruntime.NewAttributeExpression(o.Value).Resolve(ctx)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 170, Col: 33}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 171, Col: 33}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var56)
 					if templ_7745c5c3_Err != nil {
@@ -972,7 +972,7 @@ func PairNewPage(v PairNewView) templ.Component {
 					var templ_7745c5c3_Var57 string
 					templ_7745c5c3_Var57, templ_7745c5c3_Err = templ.JoinStringErrs(o.Label)
 					if templ_7745c5c3_Err != nil {
-						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 170, Col: 70}
+						return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 171, Col: 70}
 					}
 					_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ.EscapeString(templ_7745c5c3_Var57))
 					if templ_7745c5c3_Err != nil {
@@ -990,7 +990,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var58 string
 				templ_7745c5c3_Var58, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side + ".n").Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 175, Col: 33}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 176, Col: 33}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var58)
 				if templ_7745c5c3_Err != nil {
@@ -1003,7 +1003,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var59 string
 				templ_7745c5c3_Var59, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 175, Col: 81}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 176, Col: 81}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var59)
 				if templ_7745c5c3_Err != nil {
@@ -1016,7 +1016,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var60 string
 				templ_7745c5c3_Var60, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side + ".hodge").Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 178, Col: 38}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 179, Col: 38}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var60)
 				if templ_7745c5c3_Err != nil {
@@ -1029,7 +1029,7 @@ func PairNewPage(v PairNewView) templ.Component {
 				var templ_7745c5c3_Var61 string
 				templ_7745c5c3_Var61, templ_7745c5c3_Err = templruntime.NewAttributeExpression(side).Resolve(ctx)
 				if templ_7745c5c3_Err != nil {
-					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 178, Col: 82}
+					return templ.Error{Err: templ_7745c5c3_Err, FileName: `pair.templ`, Line: 179, Col: 82}
 				}
 				_, templ_7745c5c3_Err = templ_7745c5c3_Buffer.WriteString(templ_7745c5c3_Var61)
 				if templ_7745c5c3_Err != nil {
