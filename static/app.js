@@ -3,7 +3,6 @@
 // Elements are found by their data-role attributes (DEVELOPERS.md "Pages
 // and their hooks").
 
-import { decodeBinary } from './protocol.js';
 import { Connection } from './connection.js';
 import { FieldCanvas } from './fieldcanvas.js';
 import { PROJECTIONS } from './globe.js';
@@ -12,7 +11,8 @@ import { SeriesPlot } from './seriesplot.js';
 import { StructurePanel } from './structurepanel.js';
 import { BudgetPlot } from './budgetplot.js';
 import { TimelinePanel } from './timeline.js';
-import { drawColourBar, mapFor } from './colour.js';
+import { drawColourBar, ColourRange } from './colour.js';
+import { MessageLine, showState, numberOrText, commitOnEnter, textScale, isLarge, setLargeType, onKeys } from './controls.js';
 import { fmtClock, fmtNum } from './format.js';
 
 const $ = (role) => document.querySelector(`[data-role="${role}"]`);
@@ -34,6 +34,8 @@ const el = {
   dissipationHint: $('dissipation-hint'), budget: $('budget-plot'),
 };
 
+const message = new MessageLine(el.message);
+
 // For tests and measurements: the latest status (with the server's own
 // clock, wall_s) and the time from navigation start to the first frame.
 const hooks = { status: null, firstFrameMs: null, drawMs: 0 };
@@ -48,8 +50,9 @@ const linear = new LinearPanel({
   caption: $('dispersion-caption'), legend: $('dispersion-legend'),
 });
 const plot = new SeriesPlot(el.plot);
+const range = new ColourRange();
 const budget = new BudgetPlot(el.budget);
-const timeline = new TimelinePanel(send, showMessage); // record, mark, replay (timeline.js)
+const timeline = new TimelinePanel(send, (text, kind) => message.show(text, kind)); // record, mark, replay (timeline.js)
 const structure = new StructurePanel({
   panel: $('structure-panel'), caption: $('structure-caption'), verdicts: $('structure-verdicts'),
   measures: $('structure-measures'), hodge: $('hodge-select'), hint: $('hodge-hint'),
@@ -57,7 +60,7 @@ const structure = new StructurePanel({
 
 const st = {
   fields: [], config: null, status: null, geometry: null, ring: { entries: [], cursor: -1 },
-  frame: null, range: null, framesDrawn: 0, drawTimes: [], skipped: 0,
+  frame: null, framesDrawn: 0, drawTimes: [], skipped: 0,
   dirtyField: false, dirtyPlot: false, scheduled: false, barKey: '',
 };
 
@@ -68,86 +71,46 @@ const conn = new Connection(`/run/${encodeURIComponent(runID)}/ws`, {
     send('linear'); // the stable-Δt prediction and the dispersion diagram
     send('structure'); // the structure report
   },
-  json: onJSON, binary: onBinary, state: setRunState, note: showMessage,
+  json: onJSON, binary: onBinary, state: setRunState, note: (text, kind) => message.show(text, kind),
 });
 
 function send(cmd, value) { conn.send(cmd, value); }
 
 // ---- messages -----------------------------------------------------------
 
+// onJSON applies one of the run's text messages to the page.
+const messages = {
+  hello: (m) => { st.fields = m.fields; },
+  config: (m) => { st.config = m; showConfig(); },
+  status: (m) => { st.status = m; hooks.status = m; showStatus(); },
+  point: (m) => { plot.addPoint(m); budget.addPoint(m); linear.onPoint(m); schedule('plot'); },
+  stability: (m) => linear.onStability(m),
+  dispersion: (m) => linear.onDispersion(m),
+  structure: (m) => structure.onStructure(m),
+  warning: (m) => linear.onWarning(m),
+  history: (m) => { plot.setHistory(m.points, m.markers); budget.setHistory(m.points, m.markers); schedule('plot'); },
+  marker: (m) => { plot.addMarker(m); budget.addMarker(m); schedule('plot'); },
+  timeline: (m) => timeline.update(m),
+  ring: (m) => { st.ring = m; showRing(); },
+  // A command of ours went through: an earlier refusal is old news.
+  ack: (m) => { if (conn.settle(m.id) && message.error) message.hide(); },
+  error: (m) => {
+    conn.settle(m.id);
+    message.show(m.message, 'error', m.cmd);
+    showConfig(); // put the controls back to what the run has
+  },
+};
+
 function onJSON(m) {
-  switch (m.type) {
-    case 'hello':
-      st.fields = m.fields;
-      break;
-    case 'config':
-      st.config = m;
-      showConfig();
-      break;
-    case 'status':
-      st.status = m;
-      hooks.status = m;
-      showStatus();
-      break;
-    case 'point':
-      plot.addPoint(m);
-      budget.addPoint(m);
-      linear.onPoint(m);
-      schedule('plot');
-      break;
-    case 'stability':
-      linear.onStability(m);
-      break;
-    case 'dispersion':
-      linear.onDispersion(m);
-      break;
-    case 'structure':
-      structure.onStructure(m);
-      break;
-    case 'warning':
-      linear.onWarning(m);
-      break;
-    case 'history':
-      plot.setHistory(m.points, m.markers);
-      budget.setHistory(m.points, m.markers);
-      schedule('plot');
-      break;
-    case 'marker':
-      plot.addMarker(m);
-      budget.addMarker(m);
-      schedule('plot');
-      break;
-    case 'timeline':
-      timeline.update(m);
-      break;
-    case 'ring':
-      st.ring = m;
-      showRing();
-      break;
-    case 'ack':
-      // A command of ours went through: an earlier refusal is old news.
-      if (conn.settle(m.id) && el.message.classList.contains('error')) hideMessage();
-      break;
-    case 'error':
-      conn.settle(m.id);
-      showMessage(m.message, 'error', m.cmd);
-      showConfig(); // put the controls back to what the run has
-      break;
-  }
+  const f = messages[m.type];
+  if (f) f(m);
 }
 
-function onBinary(buf) {
-  let msg;
-  try {
-    msg = decodeBinary(buf);
-  } catch (err) {
-    showMessage(`Could not read a message from the server: ${err.message}`, 'error');
-    return;
-  }
+function onBinary(msg) {
   if (msg.kind === 'geometry') {
     st.geometry = msg;
     useGeometry(msg);
-    st.range = null;
+    range.reset();
     el.canvas.dataset.grid = st.config ? `${st.config.grid.kind} ${st.config.grid.n}` : '';
     el.canvas.dataset.cellCorners = cornerRange(msg.polys[0]); // "4" on the cubed sphere, "5–6" icosahedral
     return;
@@ -193,38 +156,13 @@ function draw(now) {
   }
 }
 
-// updateRange follows the frame's range: it widens at once and narrows
-// slowly, so colours do not flicker from frame to frame.
-function updateRange(f, def) {
-  let lo = f.min, hi = f.max;
-  const map = mapFor(def, lo, hi);
-  if (map.name === 'diverging') {
-    const a = Math.max(Math.abs(lo), Math.abs(hi)) || 1e-30;
-    lo = -a; hi = a;
-  }
-  if (!(hi > lo)) {
-    const d = Math.abs(lo) * 1e-6 || 1e-12;
-    lo -= d; hi += d;
-  }
-  const key = `${f.field}|${f.gen}|${map.name}`;
-  const r = st.range;
-  if (!r || r.key !== key) {
-    st.range = { key, lo, hi, map };
-  } else {
-    const k = 0.08;
-    r.lo = lo < r.lo ? lo : r.lo + (lo - r.lo) * k;
-    r.hi = hi > r.hi ? hi : r.hi + (hi - r.hi) * k;
-  }
-  return st.range;
-}
-
 function drawField(now) {
   const f = st.frame;
   if (!f) return;
   const t0 = performance.now();
   const def = st.fields[f.field];
   if (!def) return;
-  const r = updateRange(f, def);
+  const r = range.update(`${f.field}|${f.gen}`, def, f.min, f.max);
   const view = field.view;
   view.resize();
   view.setFrame(f, r.map, r.lo, r.hi);
@@ -261,18 +199,10 @@ function showRates() {
 }
 setInterval(showRates, 500);
 
-function textScale() {
-  return document.body.classList.contains('large') ? 1.6 : 1;
-}
-
 // ---- controls -----------------------------------------------------------
 
 function setRunState(s) {
-  el.state.textContent = s;
-  el.state.dataset.state = s;
-  el.play.textContent = s === 'running' ? 'Pause' : 'Play';
-  const live = s === 'running' || s === 'paused' || s === 'blown-up';
-  for (const b of [el.play, el.step, el.reset, el.load]) b.disabled = !live;
+  showState(el, s, ['running', 'paused', 'blown-up'], [el.play, el.step, el.reset, el.load]);
 }
 
 function showConfig() {
@@ -383,27 +313,6 @@ function scrubLabel() {
     : 'none yet';
 }
 
-function showMessage(text, kind, cmd) {
-  el.message.hidden = false;
-  el.message.textContent = text;
-  el.message.className = `message ${kind}`;
-  el.message.dataset.cmd = cmd || '';
-}
-
-function hideMessage() {
-  el.message.hidden = true;
-  el.message.textContent = '';
-  el.message.dataset.cmd = '';
-}
-
-// numberOrText sends what the user typed: a number when it reads as one,
-// otherwise the text itself, so the server's message can quote it.
-function numberOrText(s) {
-  const t = s.trim();
-  const x = Number(t);
-  return t !== '' && Number.isFinite(x) ? x : t;
-}
-
 function togglePlay() {
   send(st.status && st.status.state === 'running' ? 'pause' : 'play');
 }
@@ -455,10 +364,9 @@ function setProjection(p) {
 }
 
 function setLarge(on) {
-  document.body.classList.toggle('large', on);
-  el.large.setAttribute('aria-pressed', String(on));
-  plot.scale = on ? 1.6 : 1;
-  linear.setScale(on ? 1.6 : 1);
+  const scale = setLargeType(el.large, on);
+  plot.scale = scale;
+  linear.setScale(scale);
   try { localStorage.setItem('gyrebench.large', on ? '1' : '0'); } catch { /* private mode */ }
   requestAnimationFrame(() => { schedule('field'); schedule('plot'); });
 }
@@ -484,39 +392,30 @@ el.hyperviscosity.addEventListener('change', () => send('set-dissipation', { hyp
 el.divDamping.addEventListener('change', () => send('set-dissipation', { divergence_damping: numberOrText(el.divDamping.value) }));
 el.dt.addEventListener('blur', () => linear.onTyped(''));
 el.projection.addEventListener('change', () => setProjection(el.projection.value));
-for (const input of [el.dt, el.n, el.viscosity, el.hyperviscosity, el.divDamping]) {
-  input.addEventListener('keydown', (e) => { if (e.key === 'Enter') input.blur(); });
-}
+commitOnEnter([el.dt, el.n, el.viscosity, el.hyperviscosity, el.divDamping]);
 el.scrub.addEventListener('input', scrubLabel);
 el.scrub.addEventListener('change', () => send('scrub', Number(el.scrub.value)));
 el.log.addEventListener('change', () => { plot.log = el.log.checked; schedule('plot'); });
-el.large.addEventListener('click', () => setLarge(!document.body.classList.contains('large')));
+el.large.addEventListener('click', () => setLarge(!isLarge()));
 el.help.addEventListener('click', () => toggleHelp());
 el.overlay.addEventListener('click', (e) => { if (e.target === el.overlay) toggleHelp(false); });
 field.onchange = () => schedule('field');
 
-document.addEventListener('keydown', (e) => {
-  if (e.ctrlKey || e.metaKey || e.altKey) return;
-  if (e.key === 'Escape') { toggleHelp(false); return; }
-  const tag = e.target && e.target.tagName;
-  if (tag === 'INPUT' || tag === 'SELECT' || tag === 'TEXTAREA') return;
-  if (tag === 'BUTTON' && (e.key === ' ' || e.key === 'Enter')) return; // the button's own action
-  switch (e.key) {
-    case ' ': e.preventDefault(); togglePlay(); break;
-    case 's': case 'S': send('step'); break;
-    case 'r': case 'R': send('reset'); break;
-    case 'f': case 'F': nextField(); break;
-    case 'l': case 'L': setLarge(!document.body.classList.contains('large')); break;
-    case 'g': case 'G':
-      if (field.view === sphereView) setProjection(PROJECTIONS[(PROJECTIONS.indexOf(sphereView.choice) + 1) % PROJECTIONS.length]);
-      break;
-    case '?': toggleHelp(); break;
-    case '+': case '=': field.view.zoomBy(1.25); schedule('field'); break;
-    case '-': case '_': field.view.zoomBy(0.8); schedule('field'); break;
-    case '0': field.view.fit(); schedule('field'); break;
-    default: return;
-  }
-});
+const zoom = (k) => { field.view.zoomBy(k); schedule('field'); };
+onKeys({
+  ' ': togglePlay,
+  s: () => send('step'),
+  r: () => send('reset'),
+  f: nextField,
+  l: () => setLarge(!isLarge()),
+  g: () => { if (field.view === sphereView) setProjection(PROJECTIONS[(PROJECTIONS.indexOf(sphereView.choice) + 1) % PROJECTIONS.length]); },
+  '?': () => toggleHelp(),
+  '+': () => zoom(1.25),
+  '=': () => zoom(1.25),
+  '-': () => zoom(0.8),
+  _: () => zoom(0.8),
+  0: () => { field.view.fit(); schedule('field'); },
+}, () => toggleHelp(false));
 
 new ResizeObserver(() => { schedule('field'); schedule('plot'); }).observe(el.canvas.parentElement);
 new ResizeObserver(() => schedule('plot')).observe(el.plot);

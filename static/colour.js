@@ -80,8 +80,43 @@ export function drawColourBar(canvas, map, lo, hi, def, scale) {
   }
 }
 
-function shortLabel(label) {
+// shortLabel is the symbol at the end of a field's label.
+export function shortLabel(label) {
   // The symbol at the end of the label ("relative vorticity ζ" → "ζ").
   const parts = label.split(' ');
   return parts[parts.length - 1];
+}
+
+// ColourRange is the colour range of a field shown frame after frame: it
+// widens at once and narrows slowly, so that colours do not flicker; a
+// diverging map gets a range symmetric about zero. A new key (field, grid
+// or map) starts afresh.
+export class ColourRange {
+  constructor() { this.r = null; }
+
+  reset() { this.r = null; }
+
+  // update takes the frame range [lo, hi] of field def; it returns
+  // {lo, hi, map} to draw with.
+  update(key, def, lo, hi) {
+    const map = mapFor(def, lo, hi);
+    if (map.name === 'diverging') {
+      const a = Math.max(Math.abs(lo), Math.abs(hi)) || 1e-30;
+      lo = -a; hi = a;
+    }
+    if (!(hi > lo)) {
+      const d = Math.abs(lo) * 1e-6 || 1e-12;
+      lo -= d; hi += d;
+    }
+    key = `${key}|${map.name}`;
+    const r = this.r;
+    if (!r || r.key !== key) {
+      this.r = { key, lo, hi, map };
+    } else {
+      const k = 0.08;
+      r.lo = lo < r.lo ? lo : r.lo + (lo - r.lo) * k;
+      r.hi = hi > r.hi ? hi : r.hi + (hi - r.hi) * k;
+    }
+    return this.r;
+  }
 }

@@ -3,16 +3,18 @@
 // it sends and remembers which are still unanswered. On a pair's socket
 // (tagged) every message names its side: text arrives as {side, msg},
 // binary messages carry the side in byte 3 (server/doc.go); the handlers
-// get the side as their second argument ('' for the pair itself).
+// get the side as their second argument ('' for the pair itself). Binary
+// messages are handed on decoded (protocol.js); one that cannot be read
+// is reported as a note and dropped.
 
-import { sideOf } from './protocol.js';
+import { decodeBinary, sideOf } from './protocol.js';
 
 const FIRST_RETRY_MS = 500;
 const LAST_RETRY_MS = 8000;
 
 export class Connection {
   // path: the socket's path on this host. on: {open(), json(msg, side),
-  // binary(buf, side), state(s) ('connecting' or 'disconnected'),
+  // binary(msg, side) (a decoded geometry or frame), state(s) ('connecting' or 'disconnected'),
   // note(text, kind) (a line for the page's message area)}.
   constructor(path, on, { tagged = false } = {}) {
     this.path = path;
@@ -40,7 +42,7 @@ export class Connection {
         if (this.tagged) this.on.json(m.msg, m.side || '');
         else this.on.json(m, '');
       } else {
-        this.on.binary(ev.data, this.tagged ? sideOf(ev.data) : '');
+        this.onBinary(ev.data);
       }
     };
     ws.onclose = (ev) => {
@@ -50,6 +52,17 @@ export class Connection {
       setTimeout(() => this.connect(), this.retry);
       this.retry = Math.min(this.retry * 2, LAST_RETRY_MS);
     };
+  }
+
+  onBinary(buf) {
+    let msg;
+    try {
+      msg = decodeBinary(buf);
+    } catch (err) {
+      this.on.note(`Could not read a message from the server: ${err.message}`, 'error');
+      return;
+    }
+    this.on.binary(msg, this.tagged ? sideOf(buf) : '');
   }
 
   // send sends command cmd with its value (if any) to the run, or to one

@@ -10,12 +10,12 @@
 // "cx=… cy=… s=…" on a flat map), so that views turned together read the
 // same; window.gyrebench.pair is the latest pair status.
 
-import { decodeBinary } from './protocol.js';
 import { Connection } from './connection.js';
 import { FieldCanvas } from './fieldcanvas.js';
 import { PROJECTIONS } from './globe.js';
 import { SeriesPlot } from './seriesplot.js';
-import { drawColourBar, mapFor, DIVERGING } from './colour.js';
+import { drawColourBar, ColourRange, DIVERGING, shortLabel } from './colour.js';
+import { MessageLine, showState, numberOrText, commitOnEnter, textScale, isLarge, setLargeType, onKeys } from './controls.js';
 import { fmtClock, fmtNum } from './format.js';
 
 const q = (role, side) => document.querySelector(side ? `[data-role="${role}"][data-side="${side}"]` : `[data-role="${role}"]`);
@@ -48,7 +48,9 @@ const diff = { field: new FieldCanvas(el.diffCanvas), frame: null, drawn: 0 };
 const fields = [sides.a.field, sides.b.field, diff.field];
 const plot = new SeriesPlot(el.plot, { names: SIDES.map((s) => s.toUpperCase()) });
 
-const st = { fields: [], pair: null, range: null, scheduled: false, projection: 'globe' };
+const st = { fields: [], pair: null, scheduled: false, projection: 'globe' };
+const range = new ColourRange(); // one colour scale for A and B
+const message = new MessageLine(el.message);
 
 // For tests: the latest pair status and each side's.
 window.gyrebench = { pair: null, sides };
@@ -57,7 +59,7 @@ window.gyrebench = { pair: null, sides };
 
 const conn = new Connection(`/pair/${encodeURIComponent(pairID)}/ws`, {
   json: (msg, side) => (side ? onSide(sides[side], side, msg) : onPair(msg)),
-  binary: onBinary, state: setState, note: showMessage,
+  binary: onBinary, state: setState, note: (text, kind) => message.show(text, kind),
 }, { tagged: true });
 
 function send(cmd, value, side) { conn.send(cmd, value, side); }
@@ -103,24 +105,17 @@ function onPair(m) {
       showPair();
       break;
     case 'ack':
-      if (conn.settle(m.id) && el.message.classList.contains('error')) hideMessage();
+      if (conn.settle(m.id) && message.error) message.hide();
       break;
     case 'error':
       conn.settle(m.id);
-      showMessage(m.message, 'error');
+      message.show(m.message, 'error');
       for (const s of SIDES) showConfig(sides[s]);
       break;
   }
 }
 
-function onBinary(buf, tag) {
-  let msg;
-  try {
-    msg = decodeBinary(buf);
-  } catch (err) {
-    showMessage(`Could not read a message from the server: ${err.message}`, 'error');
-    return;
-  }
+function onBinary(msg, tag) {
   if (msg.kind === 'geometry') {
     const s = sides[tag];
     if (!s) return;
@@ -132,7 +127,7 @@ function onBinary(buf, tag) {
       diff.frame = null;
     }
     syncViews(s.field.view);
-    st.range = null;
+    range.reset();
     return;
   }
   if (tag === 'diff') {
@@ -154,45 +149,14 @@ function schedule() {
   requestAnimationFrame(draw);
 }
 
-function textScale() { return document.body.classList.contains('large') ? 1.6 : 1; }
-
-// sharedRange is the colour range of A and B together: it widens at once
-// and narrows slowly, so colours do not flicker.
-function sharedRange(def, frames) {
-  let lo = Infinity, hi = -Infinity;
-  for (const f of frames) { lo = Math.min(lo, f.min); hi = Math.max(hi, f.max); }
-  const map = mapFor(def, lo, hi);
-  if (map.name === 'diverging') {
-    const a = Math.max(Math.abs(lo), Math.abs(hi)) || 1e-30;
-    lo = -a; hi = a;
-  }
-  if (!(hi > lo)) {
-    const d = Math.abs(lo) * 1e-6 || 1e-12;
-    lo -= d; hi += d;
-  }
-  const key = `${def.name}|${map.name}`;
-  const r = st.range;
-  if (!r || r.key !== key) {
-    st.range = { key, lo, hi, map };
-  } else {
-    const k = 0.08;
-    r.lo = lo < r.lo ? lo : r.lo + (lo - r.lo) * k;
-    r.hi = hi > r.hi ? hi : r.hi + (hi - r.hi) * k;
-  }
-  return st.range;
-}
-
-function symbol(label) {
-  const parts = label.split(' ');
-  return parts[parts.length - 1];
-}
-
 function draw() {
   st.scheduled = false;
   const frames = SIDES.map((s) => sides[s].frame).filter((f) => f);
   const def = frames.length ? st.fields[frames[0].field] : null;
   if (def && frames.every((f) => f.field === frames[0].field)) {
-    const r = sharedRange(def, frames);
+    let lo = Infinity, hi = -Infinity;
+    for (const f of frames) { lo = Math.min(lo, f.min); hi = Math.max(hi, f.max); }
+    const r = range.update(def.name, def, lo, hi);
     for (const name of SIDES) {
       const s = sides[name];
       if (!s.frame) continue;
@@ -235,7 +199,7 @@ function drawDiff(def) {
   c.frames = String(diff.drawn);
   c.maxAbs = String(a);
   c.steps = String(f.steps);
-  const sym = symbol(def.label);
+  const sym = shortLabel(def.label);
   el.diffCaption.textContent = a === 0 ? '= 0 everywhere: identical' : `max |${sym}_A − ${sym}_B| = ${fmtNum(a, 3)} ${def.units}`;
   if (a > 0) {
     drawColourBar(el.diffBar, DIVERGING, -a, a, { label: `${sym}A−${sym}B`, units: def.units }, textScale());
@@ -271,11 +235,7 @@ function toggleProjection() {
 // ---- controls -----------------------------------------------------------
 
 function setState(s) {
-  el.state.textContent = s;
-  el.state.dataset.state = s;
-  el.play.textContent = s === 'running' ? 'Pause' : 'Play';
-  const live = s === 'running' || s === 'paused';
-  for (const b of [el.play, el.step, el.reset]) b.disabled = !live;
+  showState(el, s, ['running', 'paused'], [el.play, el.step, el.reset]);
 }
 
 function showConfig(s) {
@@ -307,7 +267,7 @@ function showSide(s) {
   s.el.time.textContent = fmtClock(m.t);
   s.el.time.dataset.seconds = String(m.t);
   s.el.steps.textContent = String(m.steps);
-  if (m.blowup) showMessage(`${s.name} blew up at step ${m.blowup.step}, t = ${fmtClock(m.blowup.t)}: lower its Δt and press Play.`, 'error');
+  if (m.blowup) message.show(`${s.name} blew up at step ${m.blowup.step}, t = ${fmtClock(m.blowup.t)}: lower its Δt and press Play.`, 'error');
 }
 
 function showPair() {
@@ -318,29 +278,10 @@ function showPair() {
   schedule();
 }
 
-function showMessage(text, kind) {
-  el.message.hidden = false;
-  el.message.textContent = text;
-  el.message.className = `message ${kind}`;
-}
-
-function hideMessage() {
-  el.message.hidden = true;
-  el.message.textContent = '';
-}
-
-function numberOrText(s) {
-  const t = s.trim();
-  const x = Number(t);
-  return t !== '' && Number.isFinite(x) ? x : t;
-}
-
 function togglePlay() { send(st.pair && st.pair.state === 'running' ? 'pause' : 'play'); }
 
 function setLarge(on) {
-  document.body.classList.toggle('large', on);
-  el.large.setAttribute('aria-pressed', String(on));
-  plot.scale = on ? 1.6 : 1;
+  plot.scale = setLargeType(el.large, on);
   requestAnimationFrame(schedule);
 }
 
@@ -352,29 +293,22 @@ for (const name of SIDES) {
   const grid = () => send('set-grid', { kind: e.grid.value, n: numberOrText(e.n.value) }, name);
   e.grid.addEventListener('change', grid);
   e.n.addEventListener('change', grid);
-  for (const input of [e.dt, e.n]) input.addEventListener('keydown', (ev) => { if (ev.key === 'Enter') input.blur(); });
+  commitOnEnter([e.dt, e.n]);
 }
 el.play.addEventListener('click', togglePlay);
 el.step.addEventListener('click', () => send('step'));
 el.reset.addEventListener('click', () => send('reset'));
 el.field.addEventListener('change', () => send('set-field', el.field.value));
 el.log.addEventListener('change', () => { plot.log = el.log.checked; schedule(); });
-el.large.addEventListener('click', () => setLarge(!document.body.classList.contains('large')));
+el.large.addEventListener('click', () => setLarge(!isLarge()));
 
-document.addEventListener('keydown', (e) => {
-  if (e.ctrlKey || e.metaKey || e.altKey) return;
-  const tag = e.target && e.target.tagName;
-  if (tag === 'INPUT' || tag === 'SELECT' || tag === 'TEXTAREA') return;
-  if (tag === 'BUTTON' && (e.key === ' ' || e.key === 'Enter')) return;
-  switch (e.key) {
-    case ' ': e.preventDefault(); togglePlay(); break;
-    case 's': case 'S': send('step'); break;
-    case 'r': case 'R': send('reset'); break;
-    case 'l': case 'L': setLarge(!document.body.classList.contains('large')); break;
-    case 'g': case 'G': toggleProjection(); break;
-    case '0': for (const fc of fields) fc.view.fit(); schedule(); break;
-    default:
-  }
+onKeys({
+  ' ': togglePlay,
+  s: () => send('step'),
+  r: () => send('reset'),
+  l: () => setLarge(!isLarge()),
+  g: toggleProjection,
+  0: () => { for (const fc of fields) fc.view.fit(); schedule(); },
 });
 
 new ResizeObserver(schedule).observe(document.querySelector('.pair-views'));

@@ -4,7 +4,10 @@
 //   - app.js: the run page's entry point; wires the controls (the
 //     data-role hooks) and the keyboard.
 //   - connection.js: the websocket of a run or a pair: reconnection with
-//     back-off, command ids, and the pair's demultiplexing by side.
+//     back-off, command ids, decoding, and the pair's demultiplexing by
+//     side.
+//   - controls.js: what both pages do alike with their controls (message
+//     line, transport, typed numbers, large type, keyboard).
 //   - protocol.js: decodes the binary geometry and field frames.
 //   - raster.js: MeshView, drawing a field on a mesh's polygons through a
 //     pluggable projection (index raster, pointer, colours), and TiledMap,

@@ -47,7 +47,7 @@ func page(title string) templ.Component {
 		if templ_7745c5c3_Err != nil {
 			return templ_7745c5c3_Err
 		}
-		for _, m := range []string{"app", "connection", "protocol", "raster", "canvas", "fieldcanvas", "fieldview", "seriesplot", "colour", "colourmaps", "theme", "format", "globe", "linearpanel", "dispersion", "structurepanel", "budgetplot"} {
+		for _, m := range []string{"app", "connection", "controls", "protocol", "raster", "canvas", "fieldcanvas", "fieldview", "seriesplot", "colour", "colourmaps", "theme", "format", "globe", "linearpanel", "dispersion", "structurepanel", "budgetplot"} {
 			templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 3, "<link rel=\"modulepreload\" href=\"")
 			if templ_7745c5c3_Err != nil {
 				return templ_7745c5c3_Err
