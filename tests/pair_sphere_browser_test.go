@@ -79,14 +79,7 @@ func TestPairSphereBrowser(t *testing.T) {
 	screenshot(t, ctx, "", "pair-sphere-01-globes.png")
 
 	// Drag B's globe across its middle.
-	box := eval[[]float64](t, ctx, `(() => { const r = `+b+`.getBoundingClientRect(); return [r.left, r.top, r.width, r.height]; })()`)
-	x, y := box[0]+box[2]/2, box[1]+box[3]/2
-	drag := []chromedp.Action[chromedp.Void]{chromedp.MouseEvent(chromedp.MousePressed, x, y, chromedp.ButtonType("left"))}
-	for k := 1; k <= 8; k++ {
-		drag = append(drag, chromedp.MouseEvent(chromedp.MouseMoved, x+float64(k)*12, y-float64(k)*4, chromedp.ButtonType("left")))
-	}
-	drag = append(drag, chromedp.MouseEvent(chromedp.MouseReleased, x+96, y-32, chromedp.ButtonType("left")))
-	do(t, ctx, drag...)
+	dragAcross(t, ctx, b, 96, -32)
 	moved := `(` + a + `.dataset.camera !== ` + fmt.Sprintf("%q", before["A"]) + `)`
 	poll(t, ctx, "all three globes turned alike", moved+` && `+a+`.dataset.camera === `+b+`.dataset.camera && `+b+`.dataset.camera === `+d+`.dataset.camera`, wait)
 	after := eval[string](t, ctx, b+`.dataset.camera`)

@@ -1,6 +1,7 @@
 package tests
 
 import (
+	"context"
 	"strconv"
 	"testing"
 
@@ -8,6 +9,21 @@ import (
 
 	"gyrebench/server"
 )
+
+// dragAcross drags the mouse from the middle of canvas (a JavaScript
+// expression) by (dx, dy) CSS pixels in eight moves, as a user turns a
+// globe.
+func dragAcross(t testing.TB, ctx context.Context, canvas string, dx, dy float64) {
+	t.Helper()
+	box := eval[[]float64](t, ctx, `(() => { const r = `+canvas+`.getBoundingClientRect(); return [r.left, r.top, r.width, r.height]; })()`)
+	x, y := box[0]+box[2]/2, box[1]+box[3]/2
+	drag := []chromedp.Action[chromedp.Void]{chromedp.MouseEvent(chromedp.MousePressed, x, y, chromedp.ButtonType("left"))}
+	for k := 1; k <= 8; k++ {
+		drag = append(drag, chromedp.MouseEvent(chromedp.MouseMoved, x+float64(k)*dx/8, y+float64(k)*dy/8, chromedp.ButtonType("left")))
+	}
+	drag = append(drag, chromedp.MouseEvent(chromedp.MouseReleased, x+dx, y+dy, chromedp.ButtonType("left")))
+	do(t, ctx, drag...)
+}
 
 // TestSphereBrowser drives the sphere in headless Chromium: load a sphere
 // scenario from the menu, see the globe, turn it by a drag, switch to the
@@ -49,15 +65,8 @@ func TestSphereBrowser(t *testing.T) {
 	globe := screenshot(t, ctx, sel("field-canvas"), "sphere-02-globe.png")
 
 	// Turn the globe by a drag across its middle.
-	box := eval[[]float64](t, ctx, `(() => { const r = `+canvas+`.getBoundingClientRect(); return [r.left, r.top, r.width, r.height]; })()`)
-	x, y := box[0]+box[2]/2, box[1]+box[3]/2
-	drag := []chromedp.Action[chromedp.Void]{chromedp.MouseEvent(chromedp.MousePressed, x, y, chromedp.ButtonType("left"))}
-	for k := 1; k <= 8; k++ {
-		drag = append(drag, chromedp.MouseEvent(chromedp.MouseMoved, x+float64(k)*20, y-float64(k)*6, chromedp.ButtonType("left")))
-	}
-	drag = append(drag, chromedp.MouseEvent(chromedp.MouseReleased, x+160, y-48, chromedp.ButtonType("left")))
 	frames := eval[string](t, ctx, canvas+`.dataset.frames`)
-	do(t, ctx, drag...)
+	dragAcross(t, ctx, canvas, 160, -48)
 	poll(t, ctx, "a redraw after the drag", canvas+`.dataset.frames > `+frames, wait)
 	turned := screenshot(t, ctx, sel("field-canvas"), "sphere-03-globe-turned.png")
 	if d := differing(globe, turned); d < 0.1 {
