@@ -28,7 +28,7 @@ import { THEME, FIELD_GROUND } from './theme.js';
 import { fitToBox } from './canvas.js';
 
 const OUTLINE_PX = 9; // cells at least this many pixels across get outlines
-export const MAX_POLY = 40; // corners kept of a polygon (a pole band has ~12)
+export const MAX_POLY = 40; // corners kept of a polygon (pole bands have more than cells)
 
 export class MeshView {
   constructor(canvas) {
