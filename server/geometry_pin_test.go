@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"testing"
 
+	"gyrebench/sim/display"
 	"gyrebench/sim/mesh"
 )
 
@@ -41,7 +42,7 @@ func TestGeometryMessagePinned(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			got := encodeGeometry(m, 3)
+			got := encodeGeometry(display.Of(m), 3)
 			if c.file != "" {
 				path := filepath.Join("testdata", c.file)
 				want, err := os.ReadFile(path)
