@@ -225,23 +225,8 @@ func TestLiveRun(t *testing.T) {
 
 // hex64 is a run with large frames (4096 cells, 16 KiB each): a client
 // that does not read fills its socket buffers within a second or two.
-const hex64 = `title = "test: hexagonal bump, n = 64"
-[grid]
-kind = "hex"
-n = 64
-length = 1.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = 86400.0
-[initial]
-case = "gaussian-bump"
-`
+var hex64 = fPlaneScenario("test: hexagonal bump, n = 64", "hex", 64, "1.0e6", "86400.0", `case = "gaussian-bump"
+`)
 
 const (
 	// slowReaderSteps is how far the run must step while a client is

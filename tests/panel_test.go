@@ -26,24 +26,9 @@ import (
 // quadBump is a quad f-plane run at rest apart from a small bump, so that
 // the flow's depth and speed are those of the linearisation: the guide
 // equals the prediction.
-const quadBump = `title = "test: quad bump"
-[grid]
-kind = "quad"
-n = 32
-length = 1.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = 86400.0
-[initial]
-case = "gaussian-bump"
+var quadBump = fPlaneScenario("test: quad bump", "quad", 32, "1.0e6", "86400.0", `case = "gaussian-bump"
 amplitude = 1.0
-`
+`)
 
 // stability is the message "stability" (server/linear_panel.go).
 type stability struct {

@@ -17,23 +17,8 @@ import (
 
 // smallHex is a small planar run to start from; the sphere is loaded into
 // it, as a user does from the scenario menu.
-const smallHex = `title = "test: small hexagonal bump"
-[grid]
-kind = "hex"
-n = 16
-length = 1.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = 86400.0
-[initial]
-case = "gaussian-bump"
-`
+var smallHex = fPlaneScenario("test: small hexagonal bump", "hex", 16, "1.0e6", "86400.0", `case = "gaussian-bump"
+`)
 
 // geometry is a decoded geometry message (layout in server/doc.go).
 type geometry struct {
@@ -316,12 +301,7 @@ func TestSphereOptimizeSwitch(t *testing.T) {
 		cl.mustAck("step", nil, nil)
 	}
 
-	data := get(t, base+"/run/1/timeline.toml")
-	live := get(t, base+"/run/1/final.nc")
-	tl, err := timeline.Parse(data, "saved.toml")
-	if err != nil {
-		t.Fatalf("the saved timeline does not parse: %v\n%s", err, data)
-	}
+	data, live, tl := savedRun(t, base)
 	var grids []string
 	for _, e := range tl.Events {
 		if e.Cmd == timeline.SetGrid {
