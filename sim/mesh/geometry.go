@@ -3,6 +3,8 @@ package mesh
 import (
 	"fmt"
 	"math"
+
+	"gyrebench/sim/internal/r3"
 )
 
 // This file holds the geometry of C-grids whose dual need not be
@@ -128,32 +130,32 @@ func (m *Mesh) sphereGeometryFrom(x, p []vec3) error {
 		v0, v1 := p[t.EdgeVertices[2*e]], p[t.EdgeVertices[2*e+1]]
 		// The midpoint of the arc a–b, made exactly perpendicular to the
 		// chord (as on the Voronoi sphere), and the unit tangent there.
-		d := b.sub(a)
-		mp := a.add(b)
-		mp = mp.sub(d.scale(mp.dot(d) / d.dot(d))).unit()
-		n0 := d.sub(mp.scale(d.dot(mp))).unit()
+		d := b.Sub(a)
+		mp := a.Add(b)
+		mp = mp.Sub(d.Scale(mp.Dot(d) / d.Dot(d))).Unit()
+		n0 := d.Sub(mp.Scale(d.Dot(mp))).Unit()
 		// X_e = mp cos θ + n0 sin θ lies on the great circle of v0–v1, of
 		// pole pv (from differences, so that short arcs keep full relative
 		// precision): tan θ = −(mp·pv)/(n0·pv). |θ| ≤ midpointSnap·2⁻⁵²
 		// is rounding, and X_e is then the midpoint, as on the Voronoi
 		// sphere.
-		pv := v0.cross(v1.sub(v0))
-		th := math.Atan(-mp.dot(pv) / n0.dot(pv))
+		pv := v0.Cross(v1.Sub(v0))
+		th := math.Atan(-mp.Dot(pv) / n0.Dot(pv))
 		if math.Abs(th) <= midpointSnap*0x1p-52 {
 			th = 0
 		}
 		xe := mp
 		if th != 0 {
-			xe = mp.scale(math.Cos(th)).add(n0.scale(math.Sin(th)))
+			xe = mp.Scale(math.Cos(th)).Add(n0.Scale(math.Sin(th)))
 		}
 		// Inside both arcs: |θ| below half the arc a–b, and X_e turned from
 		// each end of the primal arc towards the other about its pole.
-		if !(math.Abs(th) < arc(a, b)/2 && v0.cross(xe.sub(v0)).dot(pv) > 0 && xe.cross(v1.sub(xe)).dot(pv) > 0) {
+		if !(math.Abs(th) < arc(a, b)/2 && v0.Cross(xe.Sub(v0)).Dot(pv) > 0 && xe.Cross(v1.Sub(xe)).Dot(pv) > 0) {
 			return fmt.Errorf("edge %d: the arc between the centres of cells %d and %d does not cross its primal edge inside both arcs",
 				e, t.EdgeCells[2*e], t.EdgeCells[2*e+1])
 		}
 		mid[e] = xe
-		n := d.sub(xe.scale(d.dot(xe))).unit() // tangent at X_e, towards b
+		n := d.Sub(xe.Scale(d.Dot(xe))).Unit() // tangent at X_e, towards b
 		c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e] = r*xe[0], r*xe[1], r*xe[2]
 		c.NormalX[e], c.NormalY[e], c.NormalZ[e] = n[0], n[1], n[2]
 		g.DualLength[e] = r * arc(a, b)
@@ -169,7 +171,7 @@ func (m *Mesh) sphereGeometryFrom(x, p []vec3) error {
 		for j := 0; j < k; j++ {
 			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
 			v := p[t.CellVertices[lo+j]]
-			a := r2 * (sphTriArea(x[i], mid[e], v) + sphTriArea(x[i], v, mid[en]))
+			a := r2 * (r3.TriArea(x[i], mid[e], v) + r3.TriArea(x[i], v, mid[en]))
 			g.CellKiteArea[lo+j] = a
 			g.CellArea[i] += a
 		}
@@ -190,15 +192,15 @@ func (m *Mesh) NonOrthogonality() float64 {
 		var l vec3
 		if m.Surface.Sphere {
 			n[2] = c.NormalZ[e]
-			p0 := vec3{c.VertexX[v0], c.VertexY[v0], c.VertexZ[v0]}.unit()
-			p1 := vec3{c.VertexX[v1], c.VertexY[v1], c.VertexZ[v1]}.unit()
-			xe := vec3{c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e]}.unit()
-			l = p0.cross(p1.sub(p0)).cross(xe) // tangent of the primal arc at X_e
+			p0 := vec3{c.VertexX[v0], c.VertexY[v0], c.VertexZ[v0]}.Unit()
+			p1 := vec3{c.VertexX[v1], c.VertexY[v1], c.VertexZ[v1]}.Unit()
+			xe := vec3{c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e]}.Unit()
+			l = p0.Cross(p1.Sub(p0)).Cross(xe) // tangent of the primal arc at X_e
 		} else {
 			l = vec3{wrap(c.VertexX[v1]-c.VertexX[v0], m.Surface.Lx), wrap(c.VertexY[v1]-c.VertexY[v0], m.Surface.Ly), 0}
 		}
 		// n · l̂ = sin(deviation).
-		worst = max(worst, math.Abs(math.Asin(min(1, math.Abs(n.dot(l.unit()))))))
+		worst = max(worst, math.Abs(math.Asin(min(1, math.Abs(n.Dot(l.Unit()))))))
 	}
 	return worst
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"gyrebench/sim/internal/r3"
 	"gyrebench/sim/mesh"
 )
 
@@ -19,26 +20,7 @@ const radiusTol = 1e-12
 const insideTol = 1e-12
 
 // vec3 is a point or direction in R³; on the unit sphere for positions.
-type vec3 [3]float64
-
-func (a vec3) add(b vec3) vec3      { return vec3{a[0] + b[0], a[1] + b[1], a[2] + b[2]} }
-func (a vec3) sub(b vec3) vec3      { return vec3{a[0] - b[0], a[1] - b[1], a[2] - b[2]} }
-func (a vec3) scale(s float64) vec3 { return vec3{s * a[0], s * a[1], s * a[2]} }
-func (a vec3) dot(b vec3) float64   { return a[0]*b[0] + a[1]*b[1] + a[2]*b[2] }
-func (a vec3) norm() float64        { return math.Sqrt(a.dot(a)) }
-func (a vec3) unit() vec3           { return a.scale(1 / a.norm()) }
-func (a vec3) cross(b vec3) vec3 {
-	return vec3{a[1]*b[2] - a[2]*b[1], a[2]*b[0] - a[0]*b[2], a[0]*b[1] - a[1]*b[0]}
-}
-
-// sphTriArea returns the signed area of the spherical triangle abc on the
-// unit sphere, positive when abc is anticlockwise seen from outside
-// (Eriksson 1990, Math. Mag. 63, 184–187: tan(E/2) = a·(b×c) /
-// (1 + a·b + b·c + c·a)); the triple product is formed from differences so
-// that small triangles keep their relative precision (as package mesh does).
-func sphTriArea(a, b, c vec3) float64 {
-	return 2 * math.Atan2(a.dot(b.sub(a).cross(c.sub(a))), 1+a.dot(b)+b.dot(c)+c.dot(a))
-}
+type vec3 = r3.Vec
 
 // tangentBasis returns unit vectors e1, e2 spanning the tangent plane at
 // the unit vector p, with (e1, e2, p) right-handed.
@@ -47,8 +29,8 @@ func tangentBasis(p vec3) (e1, e2 vec3) {
 	if math.Abs(p[2]) > 0.9 {
 		ref = vec3{1, 0, 0}
 	}
-	e1 = ref.cross(p).unit()
-	return e1, p.cross(e1)
+	e1 = ref.Cross(p).Unit()
+	return e1, p.Cross(e1)
 }
 
 // sphPolys holds the cells of a sphere mesh as geodesic polygons on the
@@ -80,21 +62,21 @@ func newSphPolys(m *mesh.Mesh) (*sphPolys, error) {
 		area:   m.CellArea,
 	}
 	for i := 0; i < nc; i++ {
-		c := vec3{m.CellX[i] * inv, m.CellY[i] * inv, m.CellZ[i] * inv}.unit()
+		c := vec3{m.CellX[i] * inv, m.CellY[i] * inv, m.CellZ[i] * inv}.Unit()
 		p.centre[i] = c
 		lo, hi := m.EdgesOfCell(i)
 		for k := lo; k < hi; k++ {
 			v := m.CellVertices[k]
-			p.corner[k] = vec3{m.VertexX[v] * inv, m.VertexY[v] * inv, m.VertexZ[v] * inv}.unit()
-			p.reach[i] = max(p.reach[i], p.corner[k].sub(c).norm())
+			p.corner[k] = vec3{m.VertexX[v] * inv, m.VertexY[v] * inv, m.VertexZ[v] * inv}.Unit()
+			p.reach[i] = max(p.reach[i], p.corner[k].Sub(c).Norm())
 		}
 		for k := lo; k < hi; k++ {
 			a, b := p.corner[prev(k, lo, hi)], p.corner[k]
-			n := a.cross(b.sub(a)) // a × b, from the difference
-			if !(n.dot(c) > 0) {
+			n := a.Cross(b.Sub(a)) // a × b, from the difference
+			if !(n.Dot(c) > 0) {
 				return nil, fmt.Errorf("remap: cell %d of %s n=%d is not a convex polygon listed anticlockwise about its centre", i, m.Kind, m.N)
 			}
-			p.plane[k] = n.unit()
+			p.plane[k] = n.Unit()
 		}
 	}
 	return p, nil
@@ -123,7 +105,7 @@ func (p *sphPolys) depth(i int32, x vec3) (float64, int) {
 	lo, hi := p.m.EdgesOfCell(int(i))
 	d, side := math.Inf(1), lo
 	for k := lo; k < hi; k++ {
-		if s := p.plane[k].dot(x); s < d {
+		if s := p.plane[k].Dot(x); s < d {
 			d, side = s, k
 		}
 	}
@@ -139,13 +121,13 @@ func (p *sphPolys) depth(i int32, x vec3) (float64, int) {
 // side x is farthest outside of, and as a last resort every cell is tried,
 // so the answer is always the cell that x is deepest in.
 func (p *sphPolys) locate(x vec3, from int32) (int32, int) {
-	i, best, steps := from, x.dot(p.centre[from]), 0
+	i, best, steps := from, x.Dot(p.centre[from]), 0
 	for {
 		next := int32(-1)
 		lo, hi := p.m.EdgesOfCell(int(i))
 		for k := lo; k < hi; k++ {
 			nb := p.across(i, k)
-			if d := x.dot(p.centre[nb]); d > best {
+			if d := x.Dot(p.centre[nb]); d > best {
 				best, next = d, nb
 			}
 		}
@@ -199,16 +181,16 @@ func (s *sphClip) overlap(pc []vec3, planes []vec3) (float64, int) {
 		}
 		out = out[:0]
 		pv := in[len(in)-1]
-		dp := n.dot(pv)
+		dp := n.Dot(pv)
 		for _, cv := range in {
-			dc := n.dot(cv)
+			dc := n.Dot(cv)
 			if dc >= 0 {
 				if dp < 0 { // entering
-					out = append(out, pv.add(cv.sub(pv).scale(dp/(dp-dc))).unit())
+					out = append(out, pv.Add(cv.Sub(pv).Scale(dp/(dp-dc))).Unit())
 				}
 				out = append(out, cv)
 			} else if dp >= 0 { // leaving
-				out = append(out, pv.add(cv.sub(pv).scale(dp/(dp-dc))).unit())
+				out = append(out, pv.Add(cv.Sub(pv).Scale(dp/(dp-dc))).Unit())
 			}
 			pv, dp = cv, dc
 		}
@@ -217,7 +199,7 @@ func (s *sphClip) overlap(pc []vec3, planes []vec3) (float64, int) {
 	s.a, s.b = in, out
 	a := 0.0
 	for k := 2; k < len(in); k++ {
-		a += sphTriArea(in[0], in[k-1], in[k])
+		a += r3.TriArea(in[0], in[k-1], in[k])
 	}
 	return a, len(in)
 }
@@ -349,7 +331,7 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 		cover := 0.0
 		for q := 0; q < len(queue); q++ {
 			i := queue[q]
-			if sp.centre[i].sub(cj).norm() > sp.reach[i]+reach {
+			if sp.centre[i].Sub(cj).Norm() > sp.reach[i]+reach {
 				continue // no common point: the chords obey the triangle inequality
 			}
 			r.clipped++
@@ -408,12 +390,12 @@ type sphFrame struct {
 // row returns φ(x, n), the normal component along n at the unit vector x
 // of the six fields of the fit (see sphEdgeWeights).
 func (f *sphFrame) row(x, n vec3) [6]float64 {
-	w := x.cross(n) // n·(Ω × x) = Ω·(x × n)
-	ne1, ne2 := n.dot(f.e1), n.dot(f.e2)
-	xe1, xe2 := x.dot(f.e1), x.dot(f.e2)
+	w := x.Cross(n) // n·(Ω × x) = Ω·(x × n)
+	ne1, ne2 := n.Dot(f.e1), n.Dot(f.e2)
+	xe1, xe2 := x.Dot(f.e1), x.Dot(f.e2)
 	return [6]float64{
-		w.dot(f.e1), w.dot(f.e2), w.dot(f.c) * f.inv,
-		n.dot(f.c) * f.inv,
+		w.Dot(f.e1), w.Dot(f.e2), w.Dot(f.c) * f.inv,
+		n.Dot(f.c) * f.inv,
 		(ne1*xe1 - ne2*xe2) * f.inv, (ne1*xe2 + ne2*xe1) * f.inv,
 	}
 }
@@ -443,7 +425,7 @@ func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) er
 	edgeHost := make([]int32, ne)
 	r.edgeStart = make([]int32, ne+1)
 	for e := 0; e < ne; e++ {
-		x := vec3{dst.EdgeX[e] * rd, dst.EdgeY[e] * rd, dst.EdgeZ[e] * rd}.unit()
+		x := vec3{dst.EdgeX[e] * rd, dst.EdgeY[e] * rd, dst.EdgeZ[e] * rd}.Unit()
 		i, steps := sp.locate(x, host[dst.EdgeCells[2*e]])
 		r.walked += steps
 		edgeHost[e] = i

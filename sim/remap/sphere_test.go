@@ -50,14 +50,14 @@ var spherePairs = []spherePair{
 	{0, 1, "none", "none"}, {1, 0, "none", "none"},
 }
 
-func unitPos(x, y, z float64) vec3 { return vec3{x, y, z}.unit() }
+func unitPos(x, y, z float64) vec3 { return vec3{x, y, z}.Unit() }
 
 // sphereFlow sets u_e = v(x_e)·n_e for a tangent field given on the unit
 // sphere.
 func sphereFlow(m *mesh.Mesh, u []float64, v func(x vec3) vec3) {
 	for e := range u {
 		x := unitPos(m.EdgeX[e], m.EdgeY[e], m.EdgeZ[e])
-		u[e] = v(x).dot(vec3{m.NormalX[e], m.NormalY[e], m.NormalZ[e]})
+		u[e] = v(x).Dot(vec3{m.NormalX[e], m.NormalY[e], m.NormalZ[e]})
 	}
 }
 
@@ -172,7 +172,7 @@ func TestSphereIdentity(t *testing.T) {
 // arbitrary.
 func TestSphereSolidBodyExact(t *testing.T) {
 	u0 := 2 * math.Pi * earthRadius / (12 * 86400)
-	axes := []vec3{{0, 0, 1}, {-math.Sin(math.Pi / 4), 0, math.Cos(math.Pi / 4)}, vec3{0.3, -0.5, 0.8}.unit()}
+	axes := []vec3{{0, 0, 1}, {-math.Sin(math.Pi / 4), 0, math.Cos(math.Pi / 4)}, vec3{0.3, -0.5, 0.8}.Unit()}
 	pairs := append([]spherePair{{5, 6, "none", "none"}, {6, 5, "none", "none"}}, spherePairs...)
 	for _, p := range pairs {
 		src, dst := p.build(t)
@@ -182,7 +182,7 @@ func TestSphereSolidBodyExact(t *testing.T) {
 		}
 		worst := 0.0
 		for _, ax := range axes {
-			rot := func(x vec3) vec3 { return ax.cross(x).scale(u0) }
+			rot := func(x vec3) vec3 { return ax.Cross(x).Scale(u0) }
 			u, want, got := make([]float64, src.NumEdges), make([]float64, dst.NumEdges), make([]float64, dst.NumEdges)
 			sphereFlow(src, u, rot)
 			sphereFlow(dst, want, rot)
@@ -202,7 +202,7 @@ func TestSphereSolidBodyExact(t *testing.T) {
 // sphere of a smooth field of R³.
 func smoothFlow(x vec3) vec3 {
 	g := vec3{math.Sin(2*x[1]) + x[2], math.Cos(3 * x[0]), x[0]*x[1] - 0.5*x[2]*x[2]}
-	return g.sub(x.scale(g.dot(x)))
+	return g.Sub(x.Scale(g.Dot(x)))
 }
 
 // centroid returns the spherical centroid of cell i, by the first moment
@@ -216,10 +216,10 @@ func centroid(m *mesh.Mesh, i int) vec3 {
 		a, b := m.CellVertices[prev(k, lo, hi)], m.CellVertices[k]
 		va := unitPos(m.VertexX[a], m.VertexY[a], m.VertexZ[a])
 		vb := unitPos(m.VertexX[b], m.VertexY[b], m.VertexZ[b])
-		c := va.cross(vb)
-		s = s.add(c.scale(math.Atan2(c.norm(), va.dot(vb)) / c.norm()))
+		c := va.Cross(vb)
+		s = s.Add(c.Scale(math.Atan2(c.Norm(), va.Dot(vb)) / c.Norm()))
 	}
-	return s.unit()
+	return s.Unit()
 }
 
 // smoothDepth is H + A·Y₂¹-like: sin θ cos θ cos λ = x z on the unit
