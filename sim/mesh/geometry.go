@@ -74,20 +74,18 @@ func (m *Mesh) planeGeometry() error {
 	rel := func(i int, x, y float64) (float64, float64) {
 		return wrap(x-c.CellX[i], lx), wrap(y-c.CellY[i], ly)
 	}
-	g.CellArea = make([]float64, nc)
-	g.CellKiteArea = make([]float64, len(t.CellEdges))
+	m.cellKites(func(i int, e, v, en int32) float64 {
+		px, py := rel(i, c.EdgeX[e], c.EdgeY[e])
+		vx, vy := rel(i, c.VertexX[v], c.VertexY[v])
+		qx, qy := rel(i, c.EdgeX[en], c.EdgeY[en])
+		return (px*vy-py*vx)/2 + (vx*qy-vy*qx)/2
+	})
 	for i := 0; i < nc; i++ {
 		lo, hi := t.EdgesOfCell(i)
 		k := hi - lo
 		for j := 0; j < k; j++ {
-			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
 			v := t.CellVertices[lo+j]
-			px, py := rel(i, c.EdgeX[e], c.EdgeY[e])
 			vx, vy := rel(i, c.VertexX[v], c.VertexY[v])
-			qx, qy := rel(i, c.EdgeX[en], c.EdgeY[en])
-			a := (px*vy-py*vx)/2 + (vx*qy-vy*qx)/2
-			g.CellKiteArea[lo+j] = a
-			g.CellArea[i] += a
 			// Convexity: the corner at v turns left.
 			w := t.CellVertices[lo+(j+1)%k]
 			u := t.CellVertices[lo+(j+k-1)%k]
@@ -163,19 +161,9 @@ func (m *Mesh) sphereGeometryFrom(x, p []vec3) error {
 	}
 	// Kite (cell i, vertex v between edges e and e′): the spherical
 	// quadrilateral centre, X_e, v, X_e′, as two triangles.
-	g.CellArea = make([]float64, nc)
-	g.CellKiteArea = make([]float64, len(t.CellEdges))
-	for i := 0; i < nc; i++ {
-		lo, hi := t.EdgesOfCell(i)
-		k := hi - lo
-		for j := 0; j < k; j++ {
-			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
-			v := p[t.CellVertices[lo+j]]
-			a := r2 * (r3.TriArea(x[i], mid[e], v) + r3.TriArea(x[i], v, mid[en]))
-			g.CellKiteArea[lo+j] = a
-			g.CellArea[i] += a
-		}
-	}
+	m.cellKites(func(i int, e, v, en int32) float64 {
+		return r2 * (r3.TriArea(x[i], mid[e], p[v]) + r3.TriArea(x[i], p[v], mid[en]))
+	})
 	m.vertexKites()
 	return nil
 }

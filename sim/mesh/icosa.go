@@ -388,19 +388,9 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 
 	// Kite (cell i, vertex v between edges e and e′): the spherical
 	// quadrilateral centre, mid(e), v, mid(e′), as two triangles.
-	g.CellArea = make([]float64, nc)
-	g.CellKiteArea = make([]float64, len(t.CellEdges))
-	for i := 0; i < nc; i++ {
-		lo, hi := t.EdgesOfCell(i)
-		k := hi - lo
-		for j := 0; j < k; j++ {
-			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
-			v := cc[t.CellVertices[lo+j]]
-			a := r2 * (r3.TriArea(x[i], mid[e], v) + r3.TriArea(x[i], v, mid[en]))
-			g.CellKiteArea[lo+j] = a
-			g.CellArea[i] += a
-		}
-	}
+	m.cellKites(func(i int, e, v, en int32) float64 {
+		return r2 * (r3.TriArea(x[i], mid[e], cc[v]) + r3.TriArea(x[i], cc[v], mid[en]))
+	})
 	// Around a Voronoi vertex the edges are dual to its triangle's edges,
 	// whose midpoints are anticlockwise about the circumcentre in the
 	// triangle's own order (the kite test catches a centre outside).
