@@ -3,6 +3,8 @@ package mesh
 import (
 	"fmt"
 	"math"
+
+	"gyrebench/sim/internal/r3"
 )
 
 // MaxCubedN is the largest cubed-sphere resolution: 6n² ≤ MaxCells.
@@ -104,7 +106,7 @@ func newCubed(n int, radius float64) (*Mesh, error) {
 	// vertex in the tangent plane.
 	basis := make([][2]vec3, nv)
 	for v := range basis {
-		basis[v][0], basis[v][1] = tangentBasis(pts[v])
+		basis[v][0], basis[v][1] = r3.TangentBasis(pts[v])
 	}
 	m.sortVertexEdges(vertexEdges, func(v int, e int32) float64 {
 		w := t.EdgeVertices[2*e]

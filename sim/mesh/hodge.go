@@ -3,6 +3,8 @@ package mesh
 import (
 	"fmt"
 	"math"
+
+	"gyrebench/sim/internal/r3"
 )
 
 // Hodge is a general edge Hodge star H in compressed sparse rows: it maps
@@ -246,7 +248,7 @@ func (m *Mesh) tangentProjector(v int) func(i int) [2]float64 {
 	xv := m.point(v, false)
 	r := xv.Norm()
 	up := xv.Scale(1 / r)
-	e1, e2 := tangentBasis(up)
+	e1, e2 := r3.TangentBasis(up)
 	return func(i int) [2]float64 {
 		x := m.point(i, true)
 		g := x.Scale(r / x.Dot(up)).Sub(xv)

@@ -402,15 +402,3 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 		return float64(j)
 	})
 }
-
-// tangentBasis returns unit vectors e1, e2 spanning the tangent plane at
-// the unit vector p, with (e1, e2, p) right-handed, so that angles measured
-// from e1 towards e2 run anticlockwise seen from outside.
-func tangentBasis(p vec3) (e1, e2 vec3) {
-	ref := vec3{0, 0, 1}
-	if math.Abs(p[2]) > 0.9 {
-		ref = vec3{1, 0, 0}
-	}
-	e1 = ref.Cross(p).Unit()
-	return e1, p.Cross(e1)
-}

@@ -22,17 +22,6 @@ const insideTol = 1e-12
 // vec3 is a point or direction in R³; on the unit sphere for positions.
 type vec3 = r3.Vec
 
-// tangentBasis returns unit vectors e1, e2 spanning the tangent plane at
-// the unit vector p, with (e1, e2, p) right-handed.
-func tangentBasis(p vec3) (e1, e2 vec3) {
-	ref := vec3{0, 0, 1}
-	if math.Abs(p[2]) > 0.9 {
-		ref = vec3{1, 0, 0}
-	}
-	e1 = ref.Cross(p).Unit()
-	return e1, p.Cross(e1)
-}
-
 // sphPolys holds the cells of a sphere mesh as geodesic polygons on the
 // unit sphere, in the cell CSR layout of the mesh: corner k of cell i
 // (k in CellEdgeStart[i]:CellEdgeStart[i+1]) is vertex CellVertices[k], and
@@ -312,14 +301,7 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 	src, dst := sp.m, dp.m
 	nd := dst.NumCells
 	r2 := dst.Surface.Radius * dst.Surface.Radius
-	r.cellStart = make([]int32, nd+1)
-	r.cellFrom = make([]int32, 0, 2*(src.NumCells+nd))
-	r.cellW = make([]float64, 0, 2*(src.NumCells+nd))
-	stamp := make([]int32, src.NumCells)
-	for i := range stamp {
-		stamp[i] = -1
-	}
-	srcCover := make([]float64, src.NumCells)
+	stamp, srcCover := r.startCells(src.NumCells, nd)
 	var queue []int32
 	var sc sphClip
 	for j := 0; j < nd; j++ {
@@ -341,11 +323,7 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 				continue
 			}
 			if a > 0 {
-				a *= r2
-				r.cellFrom = append(r.cellFrom, i)
-				r.cellW = append(r.cellW, a)
-				srcCover[i] += a
-				cover += a
+				cover += r.addPiece(i, a*r2, srcCover)
 			}
 			for k := lo; k < hi; k++ {
 				if nb := sp.across(i, k); stamp[nb] != int32(j) {
@@ -354,21 +332,14 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 				}
 			}
 		}
-		if math.Abs(cover-dp.area[j]) > coverTol*dp.area[j] {
-			return fmt.Errorf("remap: old cells cover %.12g of the %.12g m² of new cell %d (%s n=%d → %s n=%d): the meshes do not tile the same sphere",
-				cover, dp.area[j], j, src.Kind, src.N, dst.Kind, dst.N)
+		if err := r.closeCell(j, cover, dp.area[j], src, dst, "sphere"); err != nil {
+			return err
 		}
-		inv := 1 / dp.area[j]
-		for k := r.cellStart[j]; k < int32(len(r.cellW)); k++ {
-			r.cellW[k] *= inv
-		}
-		r.cellStart[j+1] = int32(len(r.cellW))
+	}
+	if err := checkSourceCover(srcCover, sp.area, src, dst, "sphere"); err != nil {
+		return err
 	}
 	for i, c := range srcCover {
-		if math.Abs(c-sp.area[i]) > coverTol*sp.area[i] {
-			return fmt.Errorf("remap: new cells cover %.12g of the %.12g m² of old cell %d (%s n=%d → %s n=%d): the meshes do not tile the same sphere",
-				c, sp.area[i], i, src.Kind, src.N, dst.Kind, dst.N)
-		}
 		srcCover[i] = sp.area[i] / c
 	}
 	// The pieces of old cell i now sum to the mesh's A_i exactly, so that
@@ -440,7 +411,7 @@ func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) er
 			continue
 		}
 		c := sp.centre[i]
-		e1, e2 := tangentBasis(c)
+		e1, e2 := r3.TangentBasis(c)
 		f := sphFrame{c: c, e1: e1, e2: e2, inv: src.Surface.Radius / math.Sqrt(sp.area[i])}
 		es := st.edge[st.start[i]:st.start[i+1]]
 		phi = phi[:0]

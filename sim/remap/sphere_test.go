@@ -136,31 +136,7 @@ func TestSphereIdentity(t *testing.T) {
 		opt string
 	}{{2, "none"}, {4, "none"}, {3, "lloyd"}} {
 		a, b := ico(t, c.n, c.opt), ico(t, c.n, c.opt)
-		r, err := New(a, b)
-		if err != nil {
-			t.Fatal(err)
-		}
-		x := make([]float64, a.NumCells+a.NumEdges)
-		for k := range x {
-			x[k] = rng.NormFloat64()
-		}
-		for i := 0; i < a.NumCells; i++ {
-			x[i] += 1000
-		}
-		y := make([]float64, len(x))
-		r.Apply(y, x)
-		for i := 0; i < a.NumCells; i++ {
-			if math.Abs(y[i]-x[i]) > 1e-13*x[i] {
-				t.Errorf("%s: identity changes h[%d] from %.17g to %.17g", icoName(a, c.opt), i, x[i], y[i])
-				break
-			}
-		}
-		for e := a.NumCells; e < len(x); e++ {
-			if y[e] != x[e] {
-				t.Errorf("%s: identity changes u[%d] from %g to %g", icoName(a, c.opt), e-a.NumCells, x[e], y[e])
-				break
-			}
-		}
+		checkIdentity(t, icoName(a, c.opt), a, b, rng)
 	}
 }
 

@@ -18,6 +18,18 @@ func (a Vec) Cross(b Vec) Vec {
 	return Vec{a[1]*b[2] - a[2]*b[1], a[2]*b[0] - a[0]*b[2], a[0]*b[1] - a[1]*b[0]}
 }
 
+// TangentBasis returns unit vectors e1, e2 spanning the tangent plane at
+// the unit vector p, with (e1, e2, p) right-handed, so that angles measured
+// from e1 towards e2 run anticlockwise seen from outside.
+func TangentBasis(p Vec) (e1, e2 Vec) {
+	ref := Vec{0, 0, 1}
+	if math.Abs(p[2]) > 0.9 {
+		ref = Vec{1, 0, 0}
+	}
+	e1 = ref.Cross(p).Unit()
+	return e1, p.Cross(e1)
+}
+
 // Triple returns a·(b×c), formed from the differences b − a and c − a so
 // that a small triangle of unit vectors keeps its relative precision.
 func Triple(a, b, c Vec) float64 { return a.Dot(b.Sub(a).Cross(c.Sub(a))) }
