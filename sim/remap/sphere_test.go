@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/mesh"
 )
 
@@ -302,15 +303,7 @@ func TestSphereErrors(t *testing.T) {
 		{"no cells", a, &mesh.Mesh{Kind: mesh.Icosahedral, Surface: mesh.Surface{Sphere: true, Radius: earthRadius}}, []string{"incomplete"}},
 	} {
 		_, err := New(c.src, c.dst)
-		if err == nil {
-			t.Errorf("%s: no error", c.name)
-			continue
-		}
-		for _, w := range c.want {
-			if !strings.Contains(err.Error(), w) {
-				t.Errorf("%s: error %q does not say %q", c.name, err, w)
-			}
-		}
+		testcheck.ErrorSays(t, c.name, err, c.want...)
 	}
 	// A cell listed clockwise is refused, not clipped to nonsense.
 	bad := ico(t, 2, "none")

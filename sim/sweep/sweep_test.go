@@ -24,6 +24,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/internal/testcheck"
 )
 
 // geostrophic returns the steady geostrophic jet, whose exact solution is
@@ -120,15 +121,7 @@ func TestNewPlanRejects(t *testing.T) {
 			axes = append(axes, a)
 		}
 		_, err := NewPlan(geostrophic(), "test", "", nil, axes)
-		if err == nil {
-			t.Errorf("%s: no error", tc.name)
-			continue
-		}
-		for _, s := range tc.wantErr {
-			if !strings.Contains(err.Error(), s) {
-				t.Errorf("%s: message %q lacks %q", tc.name, err, s)
-			}
-		}
+		testcheck.ErrorSays(t, tc.name, err, tc.wantErr...)
 	}
 }
 

@@ -1,0 +1,26 @@
+// Package testcheck holds the assertions that the tests of several sim
+// packages share. It is imported by tests only.
+package testcheck
+
+import (
+	"strings"
+	"testing"
+)
+
+// ErrorSays checks that err is an error whose message holds every string
+// of want, reporting through t what is missing; what names the case. It
+// returns false when err is nil, so that a table loop can go on to the
+// next case.
+func ErrorSays(t testing.TB, what string, err error, want ...string) bool {
+	t.Helper()
+	if err == nil {
+		t.Errorf("%s: no error, want one saying %q", what, want)
+		return false
+	}
+	for _, s := range want {
+		if !strings.Contains(err.Error(), s) {
+			t.Errorf("%s: message %q lacks %q", what, err, s)
+		}
+	}
+	return true
+}
