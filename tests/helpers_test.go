@@ -178,6 +178,27 @@ func dial(t testing.TB, base, id string) *client {
 	return cl
 }
 
+// switchGrid sends set-grid with value and waits for its ack. It returns
+// the new geometry's header (nil if none came), the last invariant point
+// before the grid marker and the first after it (Type "" if none).
+func (cl *client) switchGrid(value map[string]any) (geo *frameHdr, before, after msg) {
+	cl.t.Helper()
+	marked := false
+	cl.mustAck("set-grid", value, func(m msg) {
+		switch {
+		case m.Type == "geometry":
+			geo = m.bin
+		case m.Type == "marker":
+			marked = m.Kind == "grid"
+		case m.Type == "point" && !marked:
+			before = m
+		case m.Type == "point" && marked && after.Type == "":
+			after = m
+		}
+	})
+	return geo, before, after
+}
+
 // dialWS opens the websocket at path on the server at base. It returns
 // the connection and the context its reader should use; both end with
 // the test.

@@ -178,21 +178,7 @@ func TestLiveRun(t *testing.T) {
 
 	// Grid: hex → tri. The depth is remapped conservatively, so the mass
 	// is the same to round-off on either side of the switch.
-	var before, after msg
-	var geo *frameHdr
-	var marked bool
-	cl.mustAck("set-grid", map[string]any{"kind": "tri", "n": 32}, func(m msg) {
-		switch {
-		case m.Type == "geometry":
-			geo = m.bin
-		case m.Type == "marker":
-			marked = m.Kind == "grid"
-		case m.Type == "point" && !marked:
-			before = m
-		case m.Type == "point" && marked && after.Type == "":
-			after = m
-		}
-	})
+	geo, before, after := cl.switchGrid(map[string]any{"kind": "tri", "n": 32})
 	if geo == nil || geo.Gen == geomGen {
 		t.Fatalf("no new geometry after the grid switch (got %+v)", geo)
 	}

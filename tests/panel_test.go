@@ -273,16 +273,7 @@ func TestFigure(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "small-hex", smallHex)})
 	request := func(path string) (*http.Response, []byte) {
 		t.Helper()
-		resp, err := http.Get(base + path)
-		if err != nil {
-			t.Fatal(err)
-		}
-		defer resp.Body.Close()
-		b, err := io.ReadAll(resp.Body)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return resp, b
+		return httpGet(t, base+path)
 	}
 	check := func(what string) {
 		t.Helper()

@@ -193,21 +193,7 @@ func TestSphereLive(t *testing.T) {
 
 	// Level 5 → 4 remaps conservatively: the mass is the same to round-off
 	// on either side of the switch.
-	var before, after msg
-	var newGeo *frameHdr
-	marked := false
-	cl.mustAck("set-grid", map[string]any{"kind": "icosahedral", "n": 4}, func(m msg) {
-		switch {
-		case m.Type == "geometry":
-			newGeo = m.bin
-		case m.Type == "marker":
-			marked = m.Kind == "grid"
-		case m.Type == "point" && !marked:
-			before = m
-		case m.Type == "point" && marked && after.Type == "":
-			after = m
-		}
-	})
+	newGeo, before, after := cl.switchGrid(map[string]any{"kind": "icosahedral", "n": 4})
 	if newGeo == nil || newGeo.Count != 10*256+2 {
 		t.Fatalf("geometry after the switch to level 4: %+v, want 2562 cells", newGeo)
 	}

@@ -15,6 +15,16 @@ import (
 // get fetches a URL and fails the test unless the answer is 200 OK.
 func get(t testing.TB, url string) []byte {
 	t.Helper()
+	resp, b := httpGet(t, url)
+	if resp.StatusCode != http.StatusOK {
+		t.Fatalf("GET %s: %s: %s", url, resp.Status, b)
+	}
+	return b
+}
+
+// httpGet GETs a URL and returns the response with its whole body (closed).
+func httpGet(t testing.TB, url string) (*http.Response, []byte) {
+	t.Helper()
 	resp, err := http.Get(url)
 	if err != nil {
 		t.Fatal(err)
@@ -24,10 +34,7 @@ func get(t testing.TB, url string) []byte {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if resp.StatusCode != http.StatusOK {
-		t.Fatalf("GET %s: %s: %s", url, resp.Status, b)
-	}
-	return b
+	return resp, b
 }
 
 // savedRun fetches run 1's recorded timeline and its final.nc, and parses

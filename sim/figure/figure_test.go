@@ -195,15 +195,7 @@ func TestRenderPNG(t *testing.T) {
 				}
 			}
 		}
-		blank := 0
-		for y := int(lay.Map.Y0); y < int(lay.Map.Y1); y++ {
-			for x := int(lay.Map.X0); x < int(lay.Map.X1); x++ {
-				if rgba(img, x, y) == white {
-					blank++
-				}
-			}
-		}
-		if blank > 0 {
+		if blank := blankPixels(img, lay); blank > 0 {
 			t.Errorf("%s: %d map pixels left blank", name, blank)
 		}
 	}
@@ -456,18 +448,24 @@ func TestNoSeams(t *testing.T) {
 				}
 				img := decode(t, buf.Bytes())
 				lay, _ := NewLayout(m, opt)
-				blank := 0
-				for y := int(lay.Map.Y0); y < int(lay.Map.Y1); y++ {
-					for x := int(lay.Map.X0); x < int(lay.Map.X1); x++ {
-						if rgba(img, x, y) == white {
-							blank++
-						}
-					}
-				}
-				if blank > 0 {
+				if blank := blankPixels(img, lay); blank > 0 {
 					t.Errorf("%s %s at %v: %d map pixels left blank", kind, loc, sz, blank)
 				}
 			}
 		}
 	}
+}
+
+// blankPixels counts the pixels of the map of layout lay that are still
+// the background white.
+func blankPixels(img image.Image, lay *Layout) int {
+	blank := 0
+	for y := int(lay.Map.Y0); y < int(lay.Map.Y1); y++ {
+		for x := int(lay.Map.X0); x < int(lay.Map.X1); x++ {
+			if rgba(img, x, y) == white {
+				blank++
+			}
+		}
+	}
+	return blank
 }

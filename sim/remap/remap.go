@@ -538,28 +538,20 @@ func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) er
 	r.edgeFrom = make([]int32, r.edgeStart[ne])
 	r.edgeW = make([]float64, r.edgeStart[ne])
 	first, byHost := groupByHost(host, nc)
-	var phi [][6]float64
+	var fit edgeFit
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {
 			continue
 		}
 		es := st.edge[st.start[i]:st.start[i+1]]
 		s := sp.size[i]
-		phi = phi[:0]
-		var a [6][6]float64
+		fit.reset()
 		for _, e := range es {
 			rx, ry := wrap(src.EdgeX[e]-sp.cx[i], sp.lx)/s, wrap(src.EdgeY[e]-sp.cy[i], sp.ly)/s
 			nx, ny := src.NormalX[e], src.NormalY[e]
-			f := [6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry}
-			for p := 0; p < 6; p++ {
-				for q := 0; q <= p; q++ {
-					a[p][q] += f[p] * f[q]
-				}
-			}
-			phi = append(phi, f)
+			fit.add([6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry})
 		}
-		var l chol6
-		if !l.factor(&a) {
+		if !fit.factor() {
 			return fmt.Errorf("remap: the velocity fit of %s n=%d cell %d is degenerate (%d edges)", src.Kind, src.N, i, len(es))
 		}
 		for _, e := range byHost[first[i]:first[i+1]] {
@@ -567,20 +559,53 @@ func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) er
 			// ρ = (x_e − x_i)/√A_i; the weight of old edge k is φ_k·z.
 			rx, ry := wrap(dst.EdgeX[e]-sp.cx[i], sp.lx)/s, wrap(dst.EdgeY[e]-sp.cy[i], sp.ly)/s
 			nx, ny := dst.NormalX[e], dst.NormalY[e]
-			z := [6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry}
-			l.solve(&z)
-			k0 := r.edgeStart[e]
-			for k, f := range phi {
-				w := 0.0
-				for c := range f {
-					w += f[c] * z[c]
-				}
-				r.edgeFrom[k0+int32(k)] = es[k]
-				r.edgeW[k0+int32(k)] = w
-			}
+			fit.weights(r, e, [6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry}, es)
 		}
 	}
 	return nil
+}
+
+// edgeFit is the least-squares fit of six unknowns to the normal
+// velocities on the edges of one old cell: the rows φ_k, one per old
+// edge, and the Cholesky factor of the normal matrix M = Σ_k φ_k φ_kᵀ.
+type edgeFit struct {
+	a   [6][6]float64 // the lower triangle of M
+	phi [][6]float64
+	l   chol6
+}
+
+func (f *edgeFit) reset() {
+	f.a = [6][6]float64{}
+	f.phi = f.phi[:0]
+}
+
+// add adds the row of one old edge.
+func (f *edgeFit) add(row [6]float64) {
+	for p := 0; p < 6; p++ {
+		for q := 0; q <= p; q++ {
+			f.a[p][q] += row[p] * row[q]
+		}
+	}
+	f.phi = append(f.phi, row)
+}
+
+// factor factors M; it reports false when the fit is degenerate.
+func (f *edgeFit) factor() bool { return f.l.factor(&f.a) }
+
+// weights stores in r the weights of new edge e on the old edges es (in
+// the order of add): with z = M⁻¹ψ, ψ the row of the new edge, the
+// weight of old edge k is φ_k·z.
+func (f *edgeFit) weights(r *Remapper, e int32, psi [6]float64, es []int32) {
+	f.l.solve(&psi)
+	k0 := r.edgeStart[e]
+	for k, row := range f.phi {
+		w := 0.0
+		for q := range row {
+			w += row[q] * psi[q]
+		}
+		r.edgeFrom[k0+int32(k)] = es[k]
+		r.edgeW[k0+int32(k)] = w
+	}
 }
 
 // locate returns the old cell containing (x, y): of the candidates in the

@@ -405,7 +405,7 @@ func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) er
 	r.edgeFrom = make([]int32, r.edgeStart[ne])
 	r.edgeW = make([]float64, r.edgeStart[ne])
 	first, byHost := groupByHost(edgeHost, nc)
-	var phi [][6]float64
+	var fit edgeFit
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {
 			continue
@@ -414,38 +414,20 @@ func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) er
 		e1, e2 := r3.TangentBasis(c)
 		f := sphFrame{c: c, e1: e1, e2: e2, inv: src.Surface.Radius / math.Sqrt(sp.area[i])}
 		es := st.edge[st.start[i]:st.start[i+1]]
-		phi = phi[:0]
-		var a [6][6]float64
+		fit.reset()
 		for _, e := range es {
 			x := vec3{src.EdgeX[e] * rs, src.EdgeY[e] * rs, src.EdgeZ[e] * rs}
 			n := vec3{src.NormalX[e], src.NormalY[e], src.NormalZ[e]}
-			row := f.row(x, n)
-			for p := 0; p < 6; p++ {
-				for q := 0; q <= p; q++ {
-					a[p][q] += row[p] * row[q]
-				}
-			}
-			phi = append(phi, row)
+			fit.add(f.row(x, n))
 		}
-		var l chol6
-		if !l.factor(&a) {
+		if !fit.factor() {
 			return fmt.Errorf("remap: the velocity fit of %s n=%d cell %d is degenerate (%d edges)", src.Kind, src.N, i, len(es))
 		}
 		for _, e := range byHost[first[i]:first[i+1]] {
 			// z = M⁻¹ψ with ψ = φ(x_e', n_e'); the weight of old edge k is φ_k·z.
 			x := vec3{dst.EdgeX[e] * rd, dst.EdgeY[e] * rd, dst.EdgeZ[e] * rd}
 			n := vec3{dst.NormalX[e], dst.NormalY[e], dst.NormalZ[e]}
-			z := f.row(x, n)
-			l.solve(&z)
-			k0 := r.edgeStart[e]
-			for k, row := range phi {
-				w := 0.0
-				for q := range row {
-					w += row[q] * z[q]
-				}
-				r.edgeFrom[k0+int32(k)] = es[k]
-				r.edgeW[k0+int32(k)] = w
-			}
+			fit.weights(r, e, f.row(x, n), es)
 		}
 	}
 	return nil
