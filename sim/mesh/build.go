@@ -41,10 +41,7 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 	c := &m.Coords
 	c.CellX, c.CellY = p.cx, p.cy
 	c.VertexX, c.VertexY = p.vx, p.vy
-	g.EdgeLength = make([]float64, ne)
-	g.DualLength = make([]float64, ne)
-	c.EdgeX, c.EdgeY = make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY = make([]float64, ne), make([]float64, ne)
+	m.allocPlaneEdges()
 	for e := 0; e < ne; e++ {
 		c0, c1 := t.EdgeCells[2*e], t.EdgeCells[2*e+1]
 		v0, v1 := t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]
@@ -70,6 +67,15 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 		return math.Atan2(y, x)
 	})
 	return m
+}
+
+// allocPlaneEdges allocates the per-edge metric and coordinates of a
+// planar mesh: lengths, dual lengths, edge points and normals.
+func (m *Mesh) allocPlaneEdges() {
+	ne := m.NumEdges
+	m.EdgeLength, m.DualLength = make([]float64, ne), make([]float64, ne)
+	m.EdgeX, m.EdgeY = make([]float64, ne), make([]float64, ne)
+	m.NormalX, m.NormalY = make([]float64, ne), make([]float64, ne)
 }
 
 // cellKites fills CellKiteArea and CellArea, the sum of a cell's kites,

@@ -32,10 +32,7 @@ func (m *Mesh) planeGeometry() error {
 	lx, ly := m.Surface.Lx, m.Surface.Ly
 	ne, nc := t.NumEdges, t.NumCells
 	ulp := math.Nextafter(max(lx, ly), math.Inf(1)) - max(lx, ly)
-	g.EdgeLength = make([]float64, ne)
-	g.DualLength = make([]float64, ne)
-	c.EdgeX, c.EdgeY = make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY = make([]float64, ne), make([]float64, ne)
+	m.allocPlaneEdges()
 	for e := 0; e < ne; e++ {
 		c0, c1 := t.EdgeCells[2*e], t.EdgeCells[2*e+1]
 		v0, v1 := t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]

@@ -533,11 +533,8 @@ func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) er
 				src.Kind, src.N, e, dst.EdgeX[e], dst.EdgeY[e], dst.Kind, dst.N)
 		}
 		host[e] = int32(i)
-		r.edgeStart[e+1] = r.edgeStart[e] + st.start[i+1] - st.start[i]
 	}
-	r.edgeFrom = make([]int32, r.edgeStart[ne])
-	r.edgeW = make([]float64, r.edgeStart[ne])
-	first, byHost := groupByHost(host, nc)
+	first, byHost := r.startEdges(host, st, nc)
 	var fit edgeFit
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {
@@ -563,6 +560,20 @@ func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) er
 		}
 	}
 	return nil
+}
+
+// startEdges lays out the edge map: new edge e takes one weight per edge
+// of the stencil of its host old cell host[e] (r.edgeStart must have
+// len(host)+1 entries). It returns the new edges grouped by host, as
+// groupByHost does for nc old cells.
+func (r *Remapper) startEdges(host []int32, st *stencils, nc int) (first, byHost []int32) {
+	for e, i := range host {
+		r.edgeStart[e+1] = r.edgeStart[e] + st.start[i+1] - st.start[i]
+	}
+	ne := len(host)
+	r.edgeFrom = make([]int32, r.edgeStart[ne])
+	r.edgeW = make([]float64, r.edgeStart[ne])
+	return groupByHost(host, nc)
 }
 
 // edgeFit is the least-squares fit of six unknowns to the normal

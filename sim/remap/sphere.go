@@ -400,11 +400,8 @@ func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) er
 		i, steps := sp.locate(x, host[dst.EdgeCells[2*e]])
 		r.walked += steps
 		edgeHost[e] = i
-		r.edgeStart[e+1] = r.edgeStart[e] + st.start[i+1] - st.start[i]
 	}
-	r.edgeFrom = make([]int32, r.edgeStart[ne])
-	r.edgeW = make([]float64, r.edgeStart[ne])
-	first, byHost := groupByHost(edgeHost, nc)
+	first, byHost := r.startEdges(edgeHost, st, nc)
 	var fit edgeFit
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {

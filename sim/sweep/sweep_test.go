@@ -3,7 +3,6 @@ package sweep
 import (
 	"bytes"
 	"context"
-	"encoding/csv"
 	"encoding/json"
 	"encoding/xml"
 	"errors"
@@ -187,18 +186,7 @@ func TestFitOrderMatchesLinearRegression(t *testing.T) {
 	}
 }
 
-func readCSV(t *testing.T, path string) [][]string {
-	t.Helper()
-	b, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	recs, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	return recs
-}
+func readCSV(t *testing.T, path string) [][]string { return testcheck.ReadCSV(t, path) }
 
 func column(t *testing.T, recs [][]string, name string) []string {
 	t.Helper()

@@ -3,6 +3,8 @@
 package testcheck
 
 import (
+	"encoding/csv"
+	"os"
 	"strings"
 	"testing"
 )
@@ -23,4 +25,20 @@ func ErrorSays(t testing.TB, what string, err error, want ...string) bool {
 		}
 	}
 	return true
+}
+
+// ReadCSV returns the records of the CSV file at path, failing the test
+// if it cannot be read or parsed.
+func ReadCSV(t testing.TB, path string) [][]string {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	return recs
 }
