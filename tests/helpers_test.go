@@ -56,10 +56,10 @@ func startServer(t testing.TB, opt server.Options) (*server.Server, string) {
 }
 
 // fPlaneScenario returns the text of a scenario on the f-plane (f0 =
-// 1e-4 s⁻¹, depth 1000 m) with the trisk-energy scheme and rk3 at
-// Δt = 60 s: the grid's kind, n and length, the duration, and the
-// [initial] table's lines as given (numbers as TOML text).
-func fPlaneScenario(title, kind string, n int, length, duration, initial string) string {
+// 1e-4 s⁻¹, depth 1000 m) with the trisk-energy scheme: the grid's kind,
+// n and length, the integrator, Δt and duration, and the [initial]
+// table's lines as given (numbers as TOML text).
+func fPlaneScenario(title, kind string, n int, length, integrator, dt, duration, initial string) string {
 	return fmt.Sprintf(`title = %q
 [grid]
 kind = %q
@@ -71,11 +71,11 @@ depth = 1000.0
 [scheme]
 name = "trisk-energy"
 [time]
-integrator = "rk3"
-dt = 60.0
+integrator = %q
+dt = %s
 duration = %s
 [initial]
-%s`, title, kind, n, length, duration, initial)
+%s`, title, kind, n, length, integrator, dt, duration, initial)
 }
 
 // writeScenario writes a scenario file for the test and returns its path.

@@ -13,26 +13,11 @@ import (
 
 // eddies is a small freely decaying turbulence run: fast enough for a
 // test, with enough vorticity gradients that the choice of PV flux shows.
-const eddies = `title = "test: small decaying eddies"
-[grid]
-kind = "hex"
-n = 32
-length = 2.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk4"
-dt = 120.0
-duration = 864000.0
-[initial]
-case = "turbulence"
+var eddies = fPlaneScenario("test: small decaying eddies", "hex", 32, "2.0e6", "rk4", "120.0", "864000.0", `case = "turbulence"
 seed = 7.0
 k_peak = 6.0
 u_rms = 8.0
-`
+`)
 
 // segment collects what streams between two changes.
 type segment struct {
@@ -211,7 +196,7 @@ func TestLiveRun(t *testing.T) {
 
 // hex64 is a run with large frames (4096 cells, 16 KiB each): a client
 // that does not read fills its socket buffers within a second or two.
-var hex64 = fPlaneScenario("test: hexagonal bump, n = 64", "hex", 64, "1.0e6", "86400.0", `case = "gaussian-bump"
+var hex64 = fPlaneScenario("test: hexagonal bump, n = 64", "hex", 64, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
 `)
 
 const (

@@ -26,7 +26,7 @@ import (
 // quadBump is a quad f-plane run at rest apart from a small bump, so that
 // the flow's depth and speed are those of the linearisation: the guide
 // equals the prediction.
-var quadBump = fPlaneScenario("test: quad bump", "quad", 32, "1.0e6", "86400.0", `case = "gaussian-bump"
+var quadBump = fPlaneScenario("test: quad bump", "quad", 32, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
 amplitude = 1.0
 `)
 

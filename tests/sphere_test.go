@@ -17,7 +17,7 @@ import (
 
 // smallHex is a small planar run to start from; the sphere is loaded into
 // it, as a user does from the scenario menu.
-var smallHex = fPlaneScenario("test: small hexagonal bump", "hex", 16, "1.0e6", "86400.0", `case = "gaussian-bump"
+var smallHex = fPlaneScenario("test: small hexagonal bump", "hex", 16, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
 `)
 
 // geometry is a decoded geometry message (layout in server/doc.go).
@@ -63,9 +63,8 @@ func currentGeometry(t *testing.T, base, id string) geometry {
 		}
 		f32 := func(n int) []float32 {
 			s := make([]float32, n)
-			for i := range s {
-				s[i] = math.Float32frombits(le.Uint32(b[o:]))
-				o += 4
+			for i, w := range u32(n) {
+				s[i] = math.Float32frombits(w)
 			}
 			return s
 		}
