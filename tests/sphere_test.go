@@ -56,9 +56,9 @@ func currentGeometry(t *testing.T, base, id string) geometry {
 		u32 := func(n int) []uint32 {
 			s := make([]uint32, n)
 			for i := range s {
-				s[i] = le.Uint32(b[o:])
-				o += 4
+				s[i] = le.Uint32(b[o+4*i:])
 			}
+			o += 4 * n
 			return s
 		}
 		f32 := func(n int) []float32 {
