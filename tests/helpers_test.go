@@ -178,6 +178,18 @@ func dial(t testing.TB, base, id string) *client {
 	return cl
 }
 
+// mustAckConfig sends the command, waits for its ack and returns the last
+// config message that came before it (Type "" if none).
+func (cl *client) mustAckConfig(cmd string, value any) (conf msg) {
+	cl.t.Helper()
+	cl.mustAck(cmd, value, func(m msg) {
+		if m.Type == "config" {
+			conf = m
+		}
+	})
+	return conf
+}
+
 // switchGrid sends set-grid with value and waits for its ack. It returns
 // the new geometry's header (nil if none came), the last invariant point
 // before the grid marker and the first after it (Type "" if none).

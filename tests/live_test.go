@@ -132,22 +132,13 @@ func TestLiveRun(t *testing.T) {
 
 	// Integrator, then Δt: frames keep coming and the clock follows Δt.
 	var c segment
-	var conf msg
-	cl.mustAck("set-integrator", "rk3", func(m msg) {
-		if m.Type == "config" {
-			conf = m
-		}
-	})
+	conf := cl.mustAckConfig("set-integrator", "rk3")
 	if conf.Integrator != "rk3" {
 		t.Errorf("integrator after set-integrator rk3 = %q", conf.Integrator)
 	}
 	runFor(cl, &c, 200)
 	var d segment
-	cl.mustAck("set-dt", 60, func(m msg) {
-		if m.Type == "config" {
-			conf = m
-		}
-	})
+	conf = cl.mustAckConfig("set-dt", 60)
 	if conf.Dt != 60 {
 		t.Errorf("Δt after set-dt 60 = %g", conf.Dt)
 	}
@@ -420,12 +411,7 @@ func TestBadCommands(t *testing.T) {
 		t.Errorf("the run changed under refused commands:\nbefore %+v\nafter  %+v", before, after)
 	}
 	// The connection still works.
-	var conf msg
-	cl.mustAck("set-dt", 60, func(m msg) {
-		if m.Type == "config" {
-			conf = m
-		}
-	})
+	conf := cl.mustAckConfig("set-dt", 60)
 	if conf.Dt != 60 {
 		t.Errorf("after the refused commands, set-dt 60 gave Δt = %g", conf.Dt)
 	}

@@ -248,26 +248,9 @@ func TestSphereSmoothFieldsConverge(t *testing.T) {
 		var eu, eh []float64
 		for _, l := range c.levels {
 			src, dst := c.pair(l).build(t)
-			r, err := New(src, dst)
-			if err != nil {
-				t.Fatal(err)
-			}
-			x := make([]float64, src.NumCells+src.NumEdges)
-			for i := 0; i < src.NumCells; i++ {
-				x[i] = smoothDepth(centroid(src, i))
-			}
-			sphereFlow(src, x[src.NumCells:], smoothFlow)
-			y := make([]float64, dst.NumCells+dst.NumEdges)
-			r.Apply(y, x)
-			want := make([]float64, dst.NumEdges)
-			sphereFlow(dst, want, smoothFlow)
-			du, dh := 0.0, 0.0
-			for e, w := range want {
-				du = max(du, math.Abs(y[dst.NumCells+e]-w))
-			}
-			for j := 0; j < dst.NumCells; j++ {
-				dh = max(dh, math.Abs(y[j]-smoothDepth(centroid(dst, j))))
-			}
+			du, dh := remapErrors(t, src, dst,
+				func(m *mesh.Mesh, i int) float64 { return smoothDepth(centroid(m, i)) },
+				func(m *mesh.Mesh, u []float64) { sphereFlow(m, u, smoothFlow) })
 			if bound := grad * (diameter(src) + diameter(dst)); !(dh <= bound) {
 				t.Errorf("%s, %v: depth error %.3g m above the first-order bound %.3g m", c.name, c.pair(l), dh, bound)
 			}
