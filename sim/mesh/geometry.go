@@ -97,6 +97,25 @@ func (m *Mesh) planeGeometry() error {
 	return nil
 }
 
+// allocSphereCoords sets the cell centres and vertices of a spherical mesh
+// from their unit vectors x and p, scaled by the radius, and allocates the
+// per-edge coordinates and metric.
+func (m *Mesh) allocSphereCoords(x, p []vec3) {
+	c, r := &m.Coords, m.Surface.Radius
+	nc, ne, nv := m.NumCells, m.NumEdges, m.NumVertices
+	c.CellX, c.CellY, c.CellZ = make([]float64, nc), make([]float64, nc), make([]float64, nc)
+	for i, q := range x {
+		c.CellX[i], c.CellY[i], c.CellZ[i] = r*q[0], r*q[1], r*q[2]
+	}
+	c.VertexX, c.VertexY, c.VertexZ = make([]float64, nv), make([]float64, nv), make([]float64, nv)
+	for v, q := range p {
+		c.VertexX[v], c.VertexY[v], c.VertexZ[v] = r*q[0], r*q[1], r*q[2]
+	}
+	c.EdgeX, c.EdgeY, c.EdgeZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
+	c.NormalX, c.NormalY, c.NormalZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
+	m.EdgeLength, m.DualLength = make([]float64, ne), make([]float64, ne)
+}
+
 // sphereGeometryFrom fills the metric and the coordinates of a spherical mesh
 // from its topology (complete, vertex arrays included) and the unit
 // vectors of its cell centres x and vertices p. X_e is the crossing of the
@@ -107,19 +126,9 @@ func (m *Mesh) sphereGeometryFrom(x, p []vec3) error {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	r := m.Surface.Radius
 	r2 := r * r
-	nc, ne, nv := t.NumCells, t.NumEdges, t.NumVertices
-	c.CellX, c.CellY, c.CellZ = make([]float64, nc), make([]float64, nc), make([]float64, nc)
-	for i, q := range x {
-		c.CellX[i], c.CellY[i], c.CellZ[i] = r*q[0], r*q[1], r*q[2]
-	}
-	c.VertexX, c.VertexY, c.VertexZ = make([]float64, nv), make([]float64, nv), make([]float64, nv)
-	for v, q := range p {
-		c.VertexX[v], c.VertexY[v], c.VertexZ[v] = r*q[0], r*q[1], r*q[2]
-	}
+	ne := t.NumEdges
+	m.allocSphereCoords(x, p)
 	mid := make([]vec3, ne)
-	c.EdgeX, c.EdgeY, c.EdgeZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY, c.NormalZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	g.EdgeLength, g.DualLength = make([]float64, ne), make([]float64, ne)
 	for e := 0; e < ne; e++ {
 		a, b := x[t.EdgeCells[2*e]], x[t.EdgeCells[2*e+1]]
 		v0, v1 := p[t.EdgeVertices[2*e]], p[t.EdgeVertices[2*e+1]]

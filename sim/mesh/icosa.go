@@ -351,23 +351,13 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	r := m.Surface.Radius
 	r2 := r * r
-	nc, ne, nv := t.NumCells, t.NumEdges, t.NumVertices
+	ne, nv := t.NumEdges, t.NumVertices
 
 	cc := make([]vec3, nv)
 	circumcentres(tr, x, cc)
 	mid := make([]vec3, ne)
 
-	c.CellX, c.CellY, c.CellZ = make([]float64, nc), make([]float64, nc), make([]float64, nc)
-	for i, p := range x {
-		c.CellX[i], c.CellY[i], c.CellZ[i] = r*p[0], r*p[1], r*p[2]
-	}
-	c.VertexX, c.VertexY, c.VertexZ = make([]float64, nv), make([]float64, nv), make([]float64, nv)
-	for v, p := range cc {
-		c.VertexX[v], c.VertexY[v], c.VertexZ[v] = r*p[0], r*p[1], r*p[2]
-	}
-	c.EdgeX, c.EdgeY, c.EdgeZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY, c.NormalZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	g.EdgeLength, g.DualLength = make([]float64, ne), make([]float64, ne)
+	m.allocSphereCoords(x, cc)
 	for e := 0; e < ne; e++ {
 		p, q := x[t.EdgeCells[2*e]], x[t.EdgeCells[2*e+1]]
 		// The midpoint of the c0–c1 arc, made exactly perpendicular to the
