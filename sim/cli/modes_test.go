@@ -1,8 +1,6 @@
 package cli
 
 import (
-	"encoding/csv"
-	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
@@ -10,28 +8,15 @@ import (
 	"strings"
 	"testing"
 
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/linear"
 )
 
 func readModes(t *testing.T, dir string) ([][]string, linear.Summary) {
 	t.Helper()
-	f, err := os.Open(filepath.Join(dir, "modes.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, err := os.ReadFile(filepath.Join(dir, "summary.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	rows := testcheck.ReadCSV(t, filepath.Join(dir, "modes.csv"))
 	var s linear.Summary
-	if err := json.Unmarshal(b, &s); err != nil {
-		t.Fatal(err)
-	}
+	testcheck.ReadJSON(t, filepath.Join(dir, "summary.json"), &s)
 	if tmp, _ := filepath.Glob(filepath.Join(dir, ".*.tmp")); len(tmp) > 0 {
 		t.Errorf("temporary files left: %v", tmp)
 	}

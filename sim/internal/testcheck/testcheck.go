@@ -4,6 +4,7 @@ package testcheck
 
 import (
 	"encoding/csv"
+	"encoding/json"
 	"os"
 	"strings"
 	"testing"
@@ -41,4 +42,17 @@ func ReadCSV(t testing.TB, path string) [][]string {
 		t.Fatalf("%s: %v", path, err)
 	}
 	return recs
+}
+
+// ReadJSON decodes the JSON file at path into v, failing the test if it
+// cannot be read or decoded.
+func ReadJSON(t testing.TB, path string, v any) {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, v); err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
 }
