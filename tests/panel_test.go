@@ -183,19 +183,8 @@ type rawClient struct {
 // the linear panel's messages).
 func dialRawJSON(t *testing.T, base, id string) *rawClient {
 	t.Helper()
-	dctx, dcancel := context.WithTimeout(context.Background(), hang)
-	defer dcancel()
-	c, _, err := websocket.Dial(dctx, "ws"+strings.TrimPrefix(base, "http")+"/run/"+id+"/ws", nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	c.SetReadLimit(64 << 20)
+	c, ctx := dialWS(t, base, "/run/"+id+"/ws")
 	rc := &rawClient{in: make(chan []byte, 1<<12)}
-	ctx, cancel := context.WithCancel(context.Background())
-	t.Cleanup(func() {
-		cancel()
-		c.CloseNow()
-	})
 	go func() {
 		defer close(rc.in)
 		for {
