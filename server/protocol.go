@@ -6,7 +6,7 @@ import (
 	"math"
 	"strconv"
 
-	"gyrebench/sim/mesh"
+	"gyrebench/sim/display"
 )
 
 // Binary message kinds (first byte).
@@ -111,46 +111,23 @@ func mustJSON(v any) []byte {
 	return b
 }
 
-// wrap returns the periodic image of d nearest zero; period 0 means none.
-func wrap(d, l float64) float64 {
-	if l == 0 {
-		return d
-	}
-	return d - l*math.Round(d/l)
-}
+// drawXY converts a point in drawing coordinates (package sim/display) to
+// JSON numbers.
+func drawXY(x, y float64) (num, num) { return num(x), num(y) }
 
-// drawXY returns point i of the coordinate arrays in drawing coordinates:
-// metres on the plane, longitude and latitude in degrees on the sphere.
-func drawXY(m *mesh.Mesh, x, y, z []float64, i int) (num, num) {
-	if !m.Surface.Sphere {
-		return num(x[i]), num(y[i])
-	}
-	lon := math.Atan2(y[i], x[i]) * 180 / math.Pi
-	lat := math.Asin(math.Max(-1, math.Min(1, z[i]/m.Surface.Radius))) * 180 / math.Pi
-	return num(lon), num(lat)
-}
-
-// drawPeriods returns the periods of the drawing plane in x and y (0: none).
-func drawPeriods(m *mesh.Mesh) (float64, float64) {
-	if m.Surface.Sphere {
-		return 360, 0
-	}
-	return m.Surface.Lx, m.Surface.Ly
-}
-
-// encodeGeometry writes the drawing geometry of a mesh: every cell polygon
-// and every dual (vertex) polygon, unwrapped around its centre. The layout
-// is in the package documentation; the sphere is drawn in longitude and
-// latitude (degrees), periodic in longitude only.
-func encodeGeometry(m *mesh.Mesh, gen uint32) []byte {
-	nc, nv := m.NumCells, m.NumVertices
-	px, py := drawPeriods(m)
-	ncp, ndp := len(m.CellVertices), len(m.VertexCells)
+// encodeGeometry writes the drawing geometry g (display.Of of the run's
+// mesh): every cell polygon and every dual (vertex) polygon, unwrapped
+// around its centre. The layout is in the package documentation; the
+// sphere is drawn in longitude and latitude (degrees), periodic in
+// longitude only.
+func encodeGeometry(g *display.Geometry, gen uint32) []byte {
+	nc, nv := g.Cells.Len(), g.Duals.Len()
+	ncp, ndp := len(g.Cells.XY)/2, len(g.Duals.XY)/2
 	size := 48 + 4*(nc+1) + 4*(nv+1) + 8*ncp + 8*ndp
 	b := make([]byte, size)
 	le := binary.LittleEndian
 	b[0] = binGeometry
-	if m.Surface.Sphere {
+	if g.Sphere {
 		b[1] = 1
 	}
 	le.PutUint32(b[4:], gen)
@@ -158,34 +135,20 @@ func encodeGeometry(m *mesh.Mesh, gen uint32) []byte {
 	le.PutUint32(b[12:], uint32(nv))
 	le.PutUint32(b[16:], uint32(ncp))
 	le.PutUint32(b[20:], uint32(ndp))
-	le.PutUint64(b[32:], math.Float64bits(px))
-	le.PutUint64(b[40:], math.Float64bits(py))
+	le.PutUint64(b[32:], math.Float64bits(g.PeriodX))
+	le.PutUint64(b[40:], math.Float64bits(g.PeriodY))
 	o := 48
-	for _, s := range m.CellEdgeStart {
-		le.PutUint32(b[o:], uint32(s))
-		o += 4
-	}
-	for _, s := range m.VertexEdgeStart {
-		le.PutUint32(b[o:], uint32(s))
-		o += 4
-	}
-	polygon := func(cx, cy num, xs, ys, zs []float64, idx []int32) {
-		for _, k := range idx {
-			x, y := drawXY(m, xs, ys, zs, int(k))
-			le.PutUint32(b[o:], math.Float32bits(float32(float64(cx)+wrap(float64(x-cx), px))))
-			le.PutUint32(b[o+4:], math.Float32bits(float32(float64(cy)+wrap(float64(y-cy), py))))
-			o += 8
+	for _, p := range []*display.Polygons{&g.Cells, &g.Duals} {
+		for _, s := range p.Start {
+			le.PutUint32(b[o:], uint32(s))
+			o += 4
 		}
 	}
-	for i := 0; i < nc; i++ {
-		cx, cy := drawXY(m, m.CellX, m.CellY, m.CellZ, i)
-		lo, hi := m.EdgesOfCell(i)
-		polygon(cx, cy, m.VertexX, m.VertexY, m.VertexZ, m.CellVertices[lo:hi])
-	}
-	for v := 0; v < nv; v++ {
-		cx, cy := drawXY(m, m.VertexX, m.VertexY, m.VertexZ, v)
-		lo, hi := m.EdgesOfVertex(v)
-		polygon(cx, cy, m.CellX, m.CellY, m.CellZ, m.VertexCells[lo:hi])
+	for _, p := range []*display.Polygons{&g.Cells, &g.Duals} {
+		for _, v := range p.XY {
+			le.PutUint32(b[o:], math.Float32bits(float32(v)))
+			o += 4
+		}
 	}
 	return b
 }

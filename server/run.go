@@ -10,6 +10,7 @@ import (
 
 	"gyrebench/sim"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/display"
 	"gyrebench/sim/dissip"
 )
 
@@ -303,9 +304,9 @@ func (r *Run) blownUp(bu *sim.BlowUpError, err error) {
 	b := &blowInfo{Step: bu.Step, T: num(bu.Time), Cell: bu.Cell, Edge: bu.Edge, Value: num(bu.Value), Message: err.Error(), Dt: r.m.Config().Time.Dt}
 	switch {
 	case bu.Cell >= 0 && bu.Cell < msh.NumCells:
-		b.X, b.Y = drawXY(msh, msh.CellX, msh.CellY, msh.CellZ, bu.Cell)
+		b.X, b.Y = drawXY(display.CellCentre(msh, bu.Cell))
 	case bu.Edge >= 0 && bu.Edge < msh.NumEdges:
-		b.X, b.Y = drawXY(msh, msh.EdgeX, msh.EdgeY, msh.EdgeZ, bu.Edge)
+		b.X, b.Y = drawXY(display.EdgePoint(msh, bu.Edge))
 	default:
 		b.X, b.Y = num(math.NaN()), num(math.NaN())
 	}
@@ -389,7 +390,7 @@ func (r *Run) install(m *sim.Model, scenario, title string) {
 // newMesh readies the per-mesh state after the model's mesh changed.
 func (r *Run) newMesh() {
 	r.gen++
-	r.geom = outMsg{typ: binMsg, data: encodeGeometry(r.m.Mesh(), r.gen)}
+	r.geom = outMsg{typ: binMsg, data: encodeGeometry(display.Of(r.m.Mesh()), r.gen)}
 	r.scratch = newFieldScratch(r.m)
 }
 

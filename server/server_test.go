@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"gyrebench/sim"
+	"gyrebench/sim/display"
 	"gyrebench/sim/mesh"
 )
 
@@ -63,7 +64,7 @@ func TestGeometryTilesTheDomain(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		cs, ds, cxy, dxy, px, py := decodeGeometry(encodeGeometry(m, 3))
+		cs, ds, cxy, dxy, px, py := decodeGeometry(encodeGeometry(display.Of(m), 3))
 		if px != m.Surface.Lx || py != m.Surface.Ly {
 			t.Errorf("%s: periods %g × %g, want the domain %g × %g", kind, px, py, m.Surface.Lx, m.Surface.Ly)
 		}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"maps"
 	"math"
+	"slices"
 	"strings"
 
 	"gyrebench/sim/cases"
@@ -171,7 +172,7 @@ func (c *Config) Validate() error {
 			return chk
 		}
 	}
-	if !contains(scheme.Names, c.Scheme.Name) {
+	if !slices.Contains(scheme.Names, c.Scheme.Name) {
 		return fmt.Errorf("scheme.name = %q: unknown; allowed: %s", c.Scheme.Name, strings.Join(scheme.Names, ", "))
 	}
 	if scheme.SquareOnly(c.Scheme.Name) && c.Grid.Kind == string(mesh.Quad) && (c.Grid.Distort != 0 || c.Grid.Jitter != 0) {
@@ -212,13 +213,4 @@ func (c *Config) Validate() error {
 		return err
 	}
 	return nil
-}
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }

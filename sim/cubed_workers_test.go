@@ -18,12 +18,7 @@ func TestBitIdenticalWorkersCubed(t *testing.T) {
 			cfg.Time.Integrator = integ
 			var ref []float64
 			for _, w := range []int{1, 2, 4} {
-				m := mustModel(t, cfg, w)
-				for i := 0; i < 10; i++ {
-					if err := m.Step(); err != nil {
-						t.Fatal(err)
-					}
-				}
+				m := steppedModel(t, cfg, w, 10)
 				if ref == nil {
 					ref = append([]float64(nil), m.State()...)
 					m.Close()

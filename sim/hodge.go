@@ -2,6 +2,7 @@ package sim
 
 import (
 	"fmt"
+	"slices"
 	"strings"
 
 	"gyrebench/sim/diag"
@@ -11,7 +12,7 @@ import (
 )
 
 func validHodge(name string) error {
-	if name == "" || contains(scheme.HodgeNames, name) {
+	if name == "" || slices.Contains(scheme.HodgeNames, name) {
 		return nil
 	}
 	return fmt.Errorf("scheme.hodge = %q: unknown; allowed: %s", name, strings.Join(scheme.HodgeNames, ", "))

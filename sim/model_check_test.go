@@ -109,12 +109,7 @@ func TestBitIdenticalWorkersHexAndSphere(t *testing.T) {
 			cfg.Time.Integrator = integ
 			var ref []float64
 			for _, w := range []int{1, 2, 3, 4} {
-				m := mustModel(t, cfg, w)
-				for i := 0; i < 10; i++ {
-					if err := m.Step(); err != nil {
-						t.Fatal(err)
-					}
-				}
+				m := steppedModel(t, cfg, w, 10)
 				if ref == nil {
 					ref = append([]float64(nil), m.State()...)
 					continue
@@ -127,4 +122,17 @@ func TestBitIdenticalWorkersHexAndSphere(t *testing.T) {
 			}
 		}
 	}
+}
+
+// steppedModel returns a model of cfg with the given workers, after n
+// steps.
+func steppedModel(t *testing.T, cfg Config, workers, n int) *Model {
+	t.Helper()
+	m := mustModel(t, cfg, workers)
+	for i := 0; i < n; i++ {
+		if err := m.Step(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return m
 }

@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"gyrebench/sim/diag"
+	"gyrebench/sim/internal/testcheck"
 )
 
 func mustModel(t testing.TB, cfg Config, workers int) *Model {
@@ -215,13 +216,7 @@ func TestBadConfig(t *testing.T) {
 		cfg := DefaultConfig()
 		tc.edit(&cfg)
 		_, err := NewModel(cfg, 1)
-		if err == nil {
-			t.Errorf("%s: accepted", tc.name)
-			continue
-		}
-		if !strings.Contains(err.Error(), tc.field) {
-			t.Errorf("%s: error %q does not name %s", tc.name, err, tc.field)
-		}
+		testcheck.ErrorSays(t, tc.name, err, tc.field)
 	}
 }
 

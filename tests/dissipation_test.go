@@ -10,7 +10,7 @@ import (
 	"github.com/coder/websocket"
 
 	"gyrebench/server"
-	"gyrebench/sim/scenario"
+	"gyrebench/sim"
 )
 
 // Bad set-dissipation commands are refused naming the coefficient, the
@@ -71,15 +71,8 @@ func TestPairDissipationSide(t *testing.T) {
 	for i := 0; i < n; i++ {
 		pc.must("", "step", nil, nil)
 	}
-	sc, err := scenario.Parse([]byte(eddies), "eddies")
-	if err != nil {
-		t.Fatal(err)
-	}
-	for i, side := range []string{"a", "b"} {
-		cfg := sc.Config
-		if i == 1 {
-			cfg.Scheme.Hyperviscosity = 1e14
-		}
+	for i, cfg := range pairConfigs(t, eddies, func(b *sim.Config) { b.Scheme.Hyperviscosity = 1e14 }) {
+		side := pairSides[i]
 		want, _ := soloState(t, cfg, n)
 		got := stateOf(t, get(t, base+"/pair/"+id+"/"+side+"/final.nc"))
 		for k := range got {

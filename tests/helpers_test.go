@@ -8,6 +8,7 @@ import (
 	"encoding/binary"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"net"
 	"net/http"
@@ -52,6 +53,29 @@ func startServer(t testing.TB, opt server.Options) (*server.Server, string) {
 		ts.Close()
 	})
 	return srv, ts.URL
+}
+
+// fPlaneScenario returns the text of a scenario on the f-plane (f0 =
+// 1e-4 s⁻¹, depth 1000 m) with the trisk-energy scheme: the grid's kind,
+// n and length, the integrator, Δt and duration, and the [initial]
+// table's lines as given (numbers as TOML text).
+func fPlaneScenario(title, kind string, n int, length, integrator, dt, duration, initial string) string {
+	return fmt.Sprintf(`title = %q
+[grid]
+kind = %q
+n = %d
+length = %s
+[physics]
+f0 = 1.0e-4
+depth = 1000.0
+[scheme]
+name = "trisk-energy"
+[time]
+integrator = %q
+dt = %s
+duration = %s
+[initial]
+%s`, title, kind, n, length, integrator, dt, duration, initial)
 }
 
 // writeScenario writes a scenario file for the test and returns its path.
@@ -148,22 +172,64 @@ type client struct {
 // dial connects to run id; the client reads until the test ends.
 func dial(t testing.TB, base, id string) *client {
 	t.Helper()
+	c, rctx := dialWS(t, base, "/run/"+id+"/ws")
+	cl := &client{t: t, c: c, in: make(chan msg, 1<<14)}
+	go cl.read(rctx)
+	return cl
+}
+
+// mustAckConfig sends the command, waits for its ack and returns the last
+// config message that came before it (Type "" if none).
+func (cl *client) mustAckConfig(cmd string, value any) (conf msg) {
+	cl.t.Helper()
+	cl.mustAck(cmd, value, func(m msg) {
+		if m.Type == "config" {
+			conf = m
+		}
+	})
+	return conf
+}
+
+// switchGrid sends set-grid with value and waits for its ack. It returns
+// the new geometry's header (nil if none came), the last invariant point
+// before the grid marker and the first after it (Type "" if none).
+func (cl *client) switchGrid(value map[string]any) (geo *frameHdr, before, after msg) {
+	cl.t.Helper()
+	marked := false
+	cl.mustAck("set-grid", value, func(m msg) {
+		switch {
+		case m.Type == "geometry":
+			geo = m.bin
+		case m.Type == "marker":
+			marked = m.Kind == "grid"
+		case m.Type == "point" && !marked:
+			before = m
+		case m.Type == "point" && marked && after.Type == "":
+			after = m
+		}
+	})
+	return geo, before, after
+}
+
+// dialWS opens the websocket at path on the server at base. It returns
+// the connection and the context its reader should use; both end with
+// the test.
+func dialWS(t testing.TB, base, path string) (*websocket.Conn, context.Context) {
+	t.Helper()
 	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
-	u := "ws" + strings.TrimPrefix(base, "http") + "/run/" + id + "/ws"
+	u := "ws" + strings.TrimPrefix(base, "http") + path
 	c, _, err := websocket.Dial(ctx, u, nil)
 	if err != nil {
 		t.Fatalf("dial %s: %v", u, err)
 	}
 	c.SetReadLimit(64 << 20)
-	cl := &client{t: t, c: c, in: make(chan msg, 1<<14)}
 	rctx, stop := context.WithCancel(context.Background())
 	t.Cleanup(func() {
 		stop()
 		c.CloseNow()
 	})
-	go cl.read(rctx)
-	return cl
+	return c, rctx
 }
 
 func (cl *client) read(ctx context.Context) {

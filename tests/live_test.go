@@ -13,26 +13,11 @@ import (
 
 // eddies is a small freely decaying turbulence run: fast enough for a
 // test, with enough vorticity gradients that the choice of PV flux shows.
-const eddies = `title = "test: small decaying eddies"
-[grid]
-kind = "hex"
-n = 32
-length = 2.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk4"
-dt = 120.0
-duration = 864000.0
-[initial]
-case = "turbulence"
+var eddies = fPlaneScenario("test: small decaying eddies", "hex", 32, "2.0e6", "rk4", "120.0", "864000.0", `case = "turbulence"
 seed = 7.0
 k_peak = 6.0
 u_rms = 8.0
-`
+`)
 
 // segment collects what streams between two changes.
 type segment struct {
@@ -147,22 +132,13 @@ func TestLiveRun(t *testing.T) {
 
 	// Integrator, then Δt: frames keep coming and the clock follows Δt.
 	var c segment
-	var conf msg
-	cl.mustAck("set-integrator", "rk3", func(m msg) {
-		if m.Type == "config" {
-			conf = m
-		}
-	})
+	conf := cl.mustAckConfig("set-integrator", "rk3")
 	if conf.Integrator != "rk3" {
 		t.Errorf("integrator after set-integrator rk3 = %q", conf.Integrator)
 	}
 	runFor(cl, &c, 200)
 	var d segment
-	cl.mustAck("set-dt", 60, func(m msg) {
-		if m.Type == "config" {
-			conf = m
-		}
-	})
+	conf = cl.mustAckConfig("set-dt", 60)
 	if conf.Dt != 60 {
 		t.Errorf("Δt after set-dt 60 = %g", conf.Dt)
 	}
@@ -178,21 +154,7 @@ func TestLiveRun(t *testing.T) {
 
 	// Grid: hex → tri. The depth is remapped conservatively, so the mass
 	// is the same to round-off on either side of the switch.
-	var before, after msg
-	var geo *frameHdr
-	var marked bool
-	cl.mustAck("set-grid", map[string]any{"kind": "tri", "n": 32}, func(m msg) {
-		switch {
-		case m.Type == "geometry":
-			geo = m.bin
-		case m.Type == "marker":
-			marked = m.Kind == "grid"
-		case m.Type == "point" && !marked:
-			before = m
-		case m.Type == "point" && marked && after.Type == "":
-			after = m
-		}
-	})
+	geo, before, after := cl.switchGrid(map[string]any{"kind": "tri", "n": 32})
 	if geo == nil || geo.Gen == geomGen {
 		t.Fatalf("no new geometry after the grid switch (got %+v)", geo)
 	}
@@ -225,23 +187,8 @@ func TestLiveRun(t *testing.T) {
 
 // hex64 is a run with large frames (4096 cells, 16 KiB each): a client
 // that does not read fills its socket buffers within a second or two.
-const hex64 = `title = "test: hexagonal bump, n = 64"
-[grid]
-kind = "hex"
-n = 64
-length = 1.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = 86400.0
-[initial]
-case = "gaussian-bump"
-`
+var hex64 = fPlaneScenario("test: hexagonal bump, n = 64", "hex", 64, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
+`)
 
 const (
 	// slowReaderSteps is how far the run must step while a client is
@@ -464,12 +411,7 @@ func TestBadCommands(t *testing.T) {
 		t.Errorf("the run changed under refused commands:\nbefore %+v\nafter  %+v", before, after)
 	}
 	// The connection still works.
-	var conf msg
-	cl.mustAck("set-dt", 60, func(m msg) {
-		if m.Type == "config" {
-			conf = m
-		}
-	})
+	conf := cl.mustAckConfig("set-dt", 60)
 	if conf.Dt != 60 {
 		t.Errorf("after the refused commands, set-dt 60 gave Δt = %g", conf.Dt)
 	}

@@ -10,7 +10,6 @@ import (
 	"time"
 
 	"gyrebench/server"
-	"gyrebench/sim/timeline"
 )
 
 // sphere3 is Williamson et al. (1992) case 2 on icosahedral level 3.
@@ -136,16 +135,8 @@ func TestCubedAndHodgeLive(t *testing.T) {
 		t.Errorf("markers %q, want %q in order", got, want)
 	}
 
-	data := get(t, base+"/run/1/timeline.toml")
-	live := get(t, base+"/run/1/final.nc")
-	tl, err := timeline.Parse(data, "saved.toml")
-	if err != nil {
-		t.Fatalf("the saved timeline does not parse: %v\n%s", err, data)
-	}
-	var cmds []string
-	for _, e := range tl.Events {
-		cmds = append(cmds, string(e.Cmd))
-	}
+	data, live, tl := savedRun(t, base)
+	cmds := eventCmds(tl)
 	if got := strings.Join(cmds, " "); got != "play pause set-grid play pause set-hodge play pause set-grid play pause" {
 		t.Errorf("recorded events %q", got)
 	}

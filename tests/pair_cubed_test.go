@@ -23,17 +23,7 @@ func TestPairCubedAndHodge(t *testing.T) {
 
 	id := startPair(t, base, url.Values{"base": {"run:1"}, "a.grid": {"cubed"}, "a.n": {"12"}, "b.grid": {"cubed"}, "b.n": {"12"}, "b.hodge": {"diagonal"}})
 	pc := dialPair(t, base, id)
-	var st pairStatus
-	var first pmsg
-	pc.until("the first A − B frame", func(p pmsg) bool {
-		if p.m.Type == "pair" {
-			st = p.pair
-		}
-		if p.side == "diff" && p.m.Type == "frame" {
-			first = p
-		}
-		return first.vals != nil
-	})
+	st, first := pc.firstDiff()
 	if !st.SameGrid {
 		t.Fatal("consistent against diagonal H on one cubed sphere: the pair says its grids differ")
 	}

@@ -51,22 +51,45 @@ type pairConn struct {
 	nextID int64
 }
 
+// pairSides names the sides of a pair in the order of pairConfigs.
+var pairSides = [2]string{"a", "b"}
+
+// pairConfigs returns the configurations the sides of a pair started from
+// the scenario text should run: both the scenario's, side b changed by
+// setB.
+func pairConfigs(t testing.TB, text string, setB func(*sim.Config)) [2]sim.Config {
+	t.Helper()
+	sc, err := scenario.Parse([]byte(text), "scenario")
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfgs := [2]sim.Config{sc.Config, sc.Config}
+	setB(&cfgs[1])
+	return cfgs
+}
+
+// firstDiff waits for the first A − B frame and returns the last pair
+// status before it, and the frame.
+func (pc *pairConn) firstDiff() (pairStatus, pmsg) {
+	pc.t.Helper()
+	var st pairStatus
+	var first pmsg
+	pc.until("the first A − B frame", func(p pmsg) bool {
+		if p.m.Type == "pair" {
+			st = p.pair
+		}
+		if p.side == "diff" && p.m.Type == "frame" {
+			first = p
+		}
+		return first.vals != nil
+	})
+	return st, first
+}
+
 func dialPair(t testing.TB, base, id string) *pairConn {
 	t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), hang)
-	defer cancel()
-	u := "ws" + strings.TrimPrefix(base, "http") + "/pair/" + id + "/ws"
-	c, _, err := websocket.Dial(ctx, u, nil)
-	if err != nil {
-		t.Fatalf("dial %s: %v", u, err)
-	}
-	c.SetReadLimit(64 << 20)
+	c, rctx := dialWS(t, base, "/pair/"+id+"/ws")
 	pc := &pairConn{t: t, c: c, in: make(chan pmsg, 1<<14)}
-	rctx, stop := context.WithCancel(context.Background())
-	t.Cleanup(func() {
-		stop()
-		c.CloseNow()
-	})
 	go pc.read(rctx)
 	return pc
 }
@@ -243,17 +266,7 @@ func TestPairSchemeOnly(t *testing.T) {
 	id := startPair(t, base, url.Values{"base": {"run:1"}, "b.scheme": {"trisk-enstrophy"}})
 	pc := dialPair(t, base, id)
 
-	var zero pmsg
-	var st pairStatus
-	pc.until("the first A − B frame", func(p pmsg) bool {
-		if p.m.Type == "pair" {
-			st = p.pair
-		}
-		if p.side == "diff" && p.m.Type == "frame" {
-			zero = p
-		}
-		return zero.vals != nil
-	})
+	st, zero := pc.firstDiff()
 	if !st.SameGrid {
 		t.Fatal("the pair says its sides are on different grids")
 	}
@@ -293,15 +306,8 @@ func TestPairSchemeOnly(t *testing.T) {
 	}
 	t.Logf("after %d steps: A − B depth in [%.3g, %.3g] m", n, last.min, last.max)
 
-	sc, err := scenario.Parse([]byte(eddies), "eddies")
-	if err != nil {
-		t.Fatal(err)
-	}
-	for i, side := range []string{"a", "b"} {
-		cfg := sc.Config
-		if i == 1 {
-			cfg.Scheme.Name = "trisk-enstrophy"
-		}
+	for i, cfg := range pairConfigs(t, eddies, func(b *sim.Config) { b.Scheme.Name = "trisk-enstrophy" }) {
+		side := pairSides[i]
 		want, wantFile := soloState(t, cfg, n)
 		gotFile := get(t, base+"/pair/"+id+"/"+side+"/final.nc")
 		got := stateOf(t, gotFile)

@@ -26,24 +26,9 @@ import (
 // quadBump is a quad f-plane run at rest apart from a small bump, so that
 // the flow's depth and speed are those of the linearisation: the guide
 // equals the prediction.
-const quadBump = `title = "test: quad bump"
-[grid]
-kind = "quad"
-n = 32
-length = 1.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = 86400.0
-[initial]
-case = "gaussian-bump"
+var quadBump = fPlaneScenario("test: quad bump", "quad", 32, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
 amplitude = 1.0
-`
+`)
 
 // stability is the message "stability" (server/linear_panel.go).
 type stability struct {
@@ -198,19 +183,8 @@ type rawClient struct {
 // the linear panel's messages).
 func dialRawJSON(t *testing.T, base, id string) *rawClient {
 	t.Helper()
-	dctx, dcancel := context.WithTimeout(context.Background(), hang)
-	defer dcancel()
-	c, _, err := websocket.Dial(dctx, "ws"+strings.TrimPrefix(base, "http")+"/run/"+id+"/ws", nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	c.SetReadLimit(64 << 20)
+	c, ctx := dialWS(t, base, "/run/"+id+"/ws")
 	rc := &rawClient{in: make(chan []byte, 1<<12)}
-	ctx, cancel := context.WithCancel(context.Background())
-	t.Cleanup(func() {
-		cancel()
-		c.CloseNow()
-	})
 	go func() {
 		defer close(rc.in)
 		for {
@@ -288,16 +262,7 @@ func TestFigure(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "small-hex", smallHex)})
 	request := func(path string) (*http.Response, []byte) {
 		t.Helper()
-		resp, err := http.Get(base + path)
-		if err != nil {
-			t.Fatal(err)
-		}
-		defer resp.Body.Close()
-		b, err := io.ReadAll(resp.Body)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return resp, b
+		return httpGet(t, base+path)
 	}
 	check := func(what string) {
 		t.Helper()

@@ -24,23 +24,8 @@ import (
 // run's steps per second are compared with the same model stepped
 // headless, with the same number of workers.
 
-const hex128 = `title = "speed: shear layers on hex n = 128"
-[grid]
-kind = "hex"
-n = 128
-length = 2.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = 1728000.0
-[initial]
-case = "shear-layer"
-`
+var hex128 = fPlaneScenario("speed: shear layers on hex n = 128", "hex", 128, "2.0e6", "rk3", "60.0", "1728000.0", `case = "shear-layer"
+`)
 
 const speedSteps = 600
 const speedWorkers = 1

@@ -17,23 +17,8 @@ import (
 
 // smallHex is a small planar run to start from; the sphere is loaded into
 // it, as a user does from the scenario menu.
-const smallHex = `title = "test: small hexagonal bump"
-[grid]
-kind = "hex"
-n = 16
-length = 1.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = 86400.0
-[initial]
-case = "gaussian-bump"
-`
+var smallHex = fPlaneScenario("test: small hexagonal bump", "hex", 16, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
+`)
 
 // geometry is a decoded geometry message (layout in server/doc.go).
 type geometry struct {
@@ -71,16 +56,15 @@ func currentGeometry(t *testing.T, base, id string) geometry {
 		u32 := func(n int) []uint32 {
 			s := make([]uint32, n)
 			for i := range s {
-				s[i] = le.Uint32(b[o:])
-				o += 4
+				s[i] = le.Uint32(b[o+4*i:])
 			}
+			o += 4 * n
 			return s
 		}
 		f32 := func(n int) []float32 {
 			s := make([]float32, n)
-			for i := range s {
-				s[i] = math.Float32frombits(le.Uint32(b[o:]))
-				o += 4
+			for i, w := range u32(n) {
+				s[i] = math.Float32frombits(w)
 			}
 			return s
 		}
@@ -208,21 +192,7 @@ func TestSphereLive(t *testing.T) {
 
 	// Level 5 → 4 remaps conservatively: the mass is the same to round-off
 	// on either side of the switch.
-	var before, after msg
-	var newGeo *frameHdr
-	marked := false
-	cl.mustAck("set-grid", map[string]any{"kind": "icosahedral", "n": 4}, func(m msg) {
-		switch {
-		case m.Type == "geometry":
-			newGeo = m.bin
-		case m.Type == "marker":
-			marked = m.Kind == "grid"
-		case m.Type == "point" && !marked:
-			before = m
-		case m.Type == "point" && marked && after.Type == "":
-			after = m
-		}
-	})
+	newGeo, before, after := cl.switchGrid(map[string]any{"kind": "icosahedral", "n": 4})
 	if newGeo == nil || newGeo.Count != 10*256+2 {
 		t.Fatalf("geometry after the switch to level 4: %+v, want 2562 cells", newGeo)
 	}
@@ -316,12 +286,7 @@ func TestSphereOptimizeSwitch(t *testing.T) {
 		cl.mustAck("step", nil, nil)
 	}
 
-	data := get(t, base+"/run/1/timeline.toml")
-	live := get(t, base+"/run/1/final.nc")
-	tl, err := timeline.Parse(data, "saved.toml")
-	if err != nil {
-		t.Fatalf("the saved timeline does not parse: %v\n%s", err, data)
-	}
+	data, live, tl := savedRun(t, base)
 	var grids []string
 	for _, e := range tl.Events {
 		if e.Cmd == timeline.SetGrid {

@@ -66,15 +66,7 @@ func sweepPost(t *testing.T, u string, form url.Values) (int, string, string) {
 // fetch returns the status, the content type and the body of a GET.
 func fetch(t *testing.T, u string) (int, string, []byte) {
 	t.Helper()
-	resp, err := http.Get(u)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer resp.Body.Close()
-	b, err := io.ReadAll(resp.Body)
-	if err != nil {
-		t.Fatal(err)
-	}
+	resp, b := httpGet(t, u)
 	return resp.StatusCode, resp.Header.Get("Content-Type"), b
 }
 

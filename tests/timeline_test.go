@@ -15,6 +15,16 @@ import (
 // get fetches a URL and fails the test unless the answer is 200 OK.
 func get(t testing.TB, url string) []byte {
 	t.Helper()
+	resp, b := httpGet(t, url)
+	if resp.StatusCode != http.StatusOK {
+		t.Fatalf("GET %s: %s: %s", url, resp.Status, b)
+	}
+	return b
+}
+
+// httpGet GETs a URL and returns the response with its whole body (closed).
+func httpGet(t testing.TB, url string) (*http.Response, []byte) {
+	t.Helper()
 	resp, err := http.Get(url)
 	if err != nil {
 		t.Fatal(err)
@@ -24,10 +34,29 @@ func get(t testing.TB, url string) []byte {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if resp.StatusCode != http.StatusOK {
-		t.Fatalf("GET %s: %s: %s", url, resp.Status, b)
+	return resp, b
+}
+
+// savedRun fetches run 1's recorded timeline and its final.nc, and parses
+// the timeline.
+func savedRun(t testing.TB, base string) (data, live []byte, tl *timeline.Timeline) {
+	t.Helper()
+	data = get(t, base+"/run/1/timeline.toml")
+	live = get(t, base+"/run/1/final.nc")
+	tl, err := timeline.Parse(data, "saved.toml")
+	if err != nil {
+		t.Fatalf("the saved timeline does not parse: %v\n%s", err, data)
 	}
-	return b
+	return data, live, tl
+}
+
+// eventCmds returns the command of each event of tl, in order.
+func eventCmds(tl *timeline.Timeline) []string {
+	var cmds []string
+	for _, e := range tl.Events {
+		cmds = append(cmds, string(e.Cmd))
+	}
+	return cmds
 }
 
 // advance waits until the run's step count reaches at least n.
@@ -82,16 +111,8 @@ func TestTimelineReplaysLiveRun(t *testing.T) {
 	end := stepsNow(cl, srv, "1")
 	t.Logf("live run: paused at step %d, rewound and stepped to %d", paused, end)
 
-	data := get(t, base+"/run/1/timeline.toml")
-	live := get(t, base+"/run/1/final.nc")
-	tl, err := timeline.Parse(data, "saved.toml")
-	if err != nil {
-		t.Fatalf("the saved timeline does not parse: %v\n%s", err, data)
-	}
-	var cmds []string
-	for _, e := range tl.Events {
-		cmds = append(cmds, string(e.Cmd))
-	}
+	data, live, tl := savedRun(t, base)
+	cmds := eventCmds(tl)
 	want := "play set-scheme set-dissipation set-grid pause rewind set-dt mark"
 	if got := strings.Join(cmds, " "); got != want {
 		t.Errorf("recorded events %q, want %q", got, want)

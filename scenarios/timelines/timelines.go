@@ -6,33 +6,18 @@ package timelines
 
 import (
 	"embed"
-	"fmt"
-	"io/fs"
-	"sort"
-	"strings"
+
+	"gyrebench/scenarios/internal/builtin"
 )
 
 //go:embed *.toml
 var files embed.FS
 
+// builtins is the set of embedded files.
+func builtins() builtin.Set { return builtin.Set{FS: files, What: "timeline"} }
+
 // Names lists the built-in timelines, sorted.
-func Names() []string {
-	entries, _ := fs.ReadDir(files, ".")
-	var s []string
-	for _, e := range entries {
-		if n, ok := strings.CutSuffix(e.Name(), ".toml"); ok {
-			s = append(s, n)
-		}
-	}
-	sort.Strings(s)
-	return s
-}
+func Names() []string { return builtins().Names() }
 
 // Source returns the text of a built-in timeline.
-func Source(name string) ([]byte, error) {
-	b, err := files.ReadFile(name + ".toml")
-	if err != nil {
-		return nil, fmt.Errorf("timeline %q: not a built-in; built-ins: %s", name, strings.Join(Names(), ", "))
-	}
-	return b, nil
-}
+func Source(name string) ([]byte, error) { return builtins().Source(name) }

@@ -2,14 +2,13 @@ package batch
 
 import (
 	"context"
-	"encoding/csv"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"testing"
 
 	"gyrebench/sim"
+	"gyrebench/sim/internal/testcheck"
 )
 
 // The circulation drift in series.csv and summary.json is absolute
@@ -43,15 +42,7 @@ func TestCirculationDrift(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			f, err := os.Open(filepath.Join(dir, "series.csv"))
-			if err != nil {
-				t.Fatal(err)
-			}
-			defer f.Close()
-			recs, err := csv.NewReader(f).ReadAll()
-			if err != nil {
-				t.Fatal(err)
-			}
+			recs := testcheck.ReadCSV(t, filepath.Join(dir, "series.csv"))
 			col := map[string]int{}
 			for i, h := range recs[0] {
 				col[h] = i

@@ -127,8 +127,7 @@ func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
 }
 
 func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) int {
-	fs := flag.NewFlagSet("run", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs, fail := newCommand("run", stderr)
 	var sets multi
 	fs.Var(&sets, "set", "override a scenario key, e.g. --set time.dt=30 (repeatable)")
 	out := fs.String("out", "", "output folder (default: run-<scenario>)")
@@ -138,17 +137,14 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return ExitBadInput
 	}
 	if len(pos) != 1 {
-		fmt.Fprintln(stderr, "gyrebench run: want exactly one scenario file or built-in name; see 'gyrebench scenarios'")
-		return ExitBadInput
+		return fail("want exactly one scenario file or built-in name; see 'gyrebench scenarios'")
 	}
 	if *workers < 0 || *workers > 256 {
-		fmt.Fprintf(stderr, "gyrebench run: --workers = %d: must be between 0 (automatic) and 256\n", *workers)
-		return ExitBadInput
+		return fail("--workers = %d: must be between 0 (automatic) and 256", *workers)
 	}
 	sc, tl, err := loadRun(pos[0], sets) // a scenario, or a recorded timeline (timeline.go)
 	if err != nil {
-		fmt.Fprintf(stderr, "gyrebench run: %v\n", err)
-		return ExitBadInput
+		return fail("%v", err)
 	}
 	dir := *out
 	if dir == "" {

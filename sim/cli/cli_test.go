@@ -13,6 +13,7 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim/batch"
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/ncout"
 )
 
@@ -26,14 +27,8 @@ func gyre(t *testing.T, args ...string) (int, string, string) {
 
 func readSummary(t *testing.T, dir string) batch.Summary {
 	t.Helper()
-	b, err := os.ReadFile(filepath.Join(dir, "summary.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
 	var s batch.Summary
-	if err := json.Unmarshal(b, &s); err != nil {
-		t.Fatal(err)
-	}
+	testcheck.ReadJSON(t, filepath.Join(dir, "summary.json"), &s)
 	return s
 }
 

@@ -26,29 +26,14 @@ const verifyBelow, verifyAbove = 0.9, 1.1
 // cmdModes is `gyrebench modes`: the linear analysis of package linear,
 // written to modes.csv and summary.json in --out.
 func cmdModes(ctx context.Context, args []string, stdout, stderr io.Writer) int {
-	fs := flag.NewFlagSet("modes", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	var sets multi
-	fs.Var(&sets, "set", "override a scenario key, e.g. --set physics.f0=0 (repeatable)")
-	grid := fs.String("grid", "", "grid kind: quad, hex, tri, icosahedral, cubed (shorthand for --set grid.kind=)")
-	n := fs.String("n", "", "cells per side, the icosahedral level or cells per cube edge (shorthand for --set grid.n=)")
-	out := fs.String("out", "", "output folder (required)")
+	fs, fail := newCommand("modes", stderr)
+	var af analysisFlags
+	af.register(fs, "physics.f0=0")
 	verify := fs.Bool("verify-dt", false, "run short nonlinear checks at 0.9 and 1.1 times each predicted Δt limit")
 	extreme := fs.Bool("extreme", false, "only the largest |frequency| (Lanczos, any size) and the Δt limits")
-	pos, err := parseInterleaved(fs, args)
-	if err != nil {
-		return ExitBadInput
-	}
-	fail := func(format string, a ...any) int {
-		fmt.Fprintf(stderr, "gyrebench modes: "+format+"\n", a...)
-		return ExitBadInput
-	}
-	if *out == "" {
-		return fail("--out: an output folder is required, e.g. --out modes-hex16")
-	}
-	cfg, err := analysisConfig(pos, *grid, *n, sets)
-	if err != nil {
-		return fail("%v", err)
+	cfg, code, ok := af.parse(fs, args, fail)
+	if !ok {
+		return code
 	}
 	res, err := linear.Analyse(ctx, cfg, linear.Options{ExtremeOnly: *extreme})
 	var tooLarge *linear.TooLargeError
@@ -66,21 +51,16 @@ func cmdModes(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		}
 		sum.Verify, sum.VerifySteps, sum.VerifyBlowUpFactor = trials, linear.VerifySteps, linear.BlowUpFactor
 	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return fail("--out %s: %v", *out, err)
+	if err := os.MkdirAll(af.out, 0o755); err != nil {
+		return fail("--out %s: %v", af.out, err)
 	}
-	if err := atomicfile.WriteFile(filepath.Join(*out, "modes.csv"), res.WriteCSV); err != nil {
+	if err := atomicfile.WriteFile(filepath.Join(af.out, "modes.csv"), res.WriteCSV); err != nil {
 		return fail("%v", err)
 	}
-	if err := atomicfile.WriteFile(filepath.Join(*out, "summary.json"), func(w io.Writer) error {
-		enc := json.NewEncoder(w)
-		enc.SetEscapeHTML(false)
-		enc.SetIndent("", "  ")
-		return enc.Encode(sum)
-	}); err != nil {
+	if err := writeJSON(filepath.Join(af.out, "summary.json"), sum); err != nil {
 		return fail("%v", err)
 	}
-	reportModes(stdout, sum, *out)
+	reportModes(stdout, sum, af.out)
 	return ExitOK
 }
 
@@ -109,6 +89,64 @@ func reportModes(w io.Writer, s linear.Summary, dir string) {
 			t.Integrator, t.Factor, t.Dt, state, t.Steps, t.Growth)
 	}
 	fmt.Fprintf(w, "files in %s\n", dir)
+}
+
+// newCommand returns the flag set of sub-command name, which reports to
+// stderr, and fail, which prints a message prefixed with the command's
+// name and returns ExitBadInput.
+func newCommand(name string, stderr io.Writer) (*flag.FlagSet, func(format string, a ...any) int) {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	return fs, func(format string, a ...any) int {
+		fmt.Fprintf(stderr, "gyrebench "+name+": "+format+"\n", a...)
+		return ExitBadInput
+	}
+}
+
+// analysisFlags are the flags of the analysis commands (modes,
+// structure): scenario overrides, the grid shorthands and the output
+// folder.
+type analysisFlags struct {
+	sets         multi
+	grid, n, out string
+}
+
+// register adds the flags to fs; setExample is a --set example for the
+// help text.
+func (a *analysisFlags) register(fs *flag.FlagSet, setExample string) {
+	fs.Var(&a.sets, "set", "override a scenario key, e.g. --set "+setExample+" (repeatable)")
+	fs.StringVar(&a.grid, "grid", "", "grid kind: quad, hex, tri, icosahedral, cubed (shorthand for --set grid.kind=)")
+	fs.StringVar(&a.n, "n", "", "cells per side, the icosahedral level or cells per cube edge (shorthand for --set grid.n=)")
+	fs.StringVar(&a.out, "out", "", "output folder (required)")
+}
+
+// parse parses args with fs and resolves the scenario (analysisConfig).
+// On a refusal it returns the exit code and ok false, fail having said
+// why.
+func (a *analysisFlags) parse(fs *flag.FlagSet, args []string, fail func(string, ...any) int) (cfg sim.Config, code int, ok bool) {
+	pos, err := parseInterleaved(fs, args)
+	if err != nil {
+		return cfg, ExitBadInput, false
+	}
+	if a.out == "" {
+		return cfg, fail("--out: an output folder is required, e.g. --out %s-hex16", fs.Name()), false
+	}
+	cfg, err = analysisConfig(pos, a.grid, a.n, a.sets)
+	if err != nil {
+		return cfg, fail("%v", err), false
+	}
+	return cfg, ExitOK, true
+}
+
+// writeJSON writes v as indented JSON to path, atomically, without HTML
+// escapes.
+func writeJSON(path string, v any) error {
+	return atomicfile.WriteFile(path, func(w io.Writer) error {
+		enc := json.NewEncoder(w)
+		enc.SetEscapeHTML(false)
+		enc.SetIndent("", "  ")
+		return enc.Encode(v)
+	})
 }
 
 // analysisConfig resolves the scenario of the analysis commands (modes,

@@ -1,8 +1,6 @@
 package cli
 
 import (
-	"encoding/csv"
-	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
@@ -10,28 +8,15 @@ import (
 	"strings"
 	"testing"
 
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/linear"
 )
 
 func readModes(t *testing.T, dir string) ([][]string, linear.Summary) {
 	t.Helper()
-	f, err := os.Open(filepath.Join(dir, "modes.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, err := os.ReadFile(filepath.Join(dir, "summary.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	rows := testcheck.ReadCSV(t, filepath.Join(dir, "modes.csv"))
 	var s linear.Summary
-	if err := json.Unmarshal(b, &s); err != nil {
-		t.Fatal(err)
-	}
+	testcheck.ReadJSON(t, filepath.Join(dir, "summary.json"), &s)
 	if tmp, _ := filepath.Glob(filepath.Join(dir, ".*.tmp")); len(tmp) > 0 {
 		t.Errorf("temporary files left: %v", tmp)
 	}
@@ -40,11 +25,7 @@ func readModes(t *testing.T, dir string) ([][]string, linear.Summary) {
 
 func TestModesQuadWithVerify(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "out")
-	code, stdout, stderr := gyre(t, "modes", "--grid", "quad", "--n", "8", "--out", dir, "--verify-dt")
-	if code != ExitOK {
-		t.Fatalf("exit %d: %s", code, stderr)
-	}
-	rows, s := readModes(t, dir)
+	rows, s, stdout := modesOK(t, dir, "--grid", "quad", "--n", "8", "--out", dir, "--verify-dt")
 	if got := strings.Join(rows[0], ","); got != "growth_rate_per_s,frequency_per_s,class,kx,ky,omega_continuous,omega_discrete_theory" {
 		t.Fatalf("header %q", got)
 	}
@@ -86,11 +67,7 @@ func TestModesScenarioWithOverrides(t *testing.T) {
 	dir := t.TempDir()
 	// bump-adjustment is hex n = 64; --n makes it small, --set turns off
 	// rotation, which adds the two uniform flows to the steady modes.
-	code, _, stderr := gyre(t, "modes", "bump-adjustment", "--n", "8", "--set", "physics.f0=0", "--out", dir)
-	if code != ExitOK {
-		t.Fatalf("exit %d: %s", code, stderr)
-	}
-	rows, s := readModes(t, dir)
+	rows, s, _ := modesOK(t, dir, "bump-adjustment", "--n", "8", "--set", "physics.f0=0", "--out", dir)
 	if s.Grid != "hex" || s.F0 != 0 || s.Counts.Geostrophic+s.Counts.Spurious != s.Vertices+2 {
 		t.Errorf("grid %s, f0 %g, counts %+v (vertices %d)", s.Grid, s.F0, s.Counts, s.Vertices)
 	}
@@ -104,11 +81,7 @@ func TestModesScenarioWithOverrides(t *testing.T) {
 
 func TestModesExtremeOnLargeGrid(t *testing.T) {
 	dir := t.TempDir()
-	code, _, stderr := gyre(t, "modes", "--grid", "hex", "--n", "32", "--extreme", "--out", dir)
-	if code != ExitOK {
-		t.Fatalf("exit %d: %s", code, stderr)
-	}
-	rows, s := readModes(t, dir)
+	rows, s, _ := modesOK(t, dir, "--grid", "hex", "--n", "32", "--extreme", "--out", dir)
 	if s.Method != "lanczos" || len(rows) != 3 || s.Unknowns != 4096 || s.Limits[0].MaxDt <= 0 {
 		t.Errorf("method %s, %d rows, %d unknowns, limits %+v", s.Method, len(rows)-1, s.Unknowns, s.Limits)
 	}
@@ -144,4 +117,16 @@ func TestModesBadInput(t *testing.T) {
 	if code != ExitBadInput || !strings.Contains(stderr, "--out") {
 		t.Errorf("without --out: exit %d, %q", code, stderr)
 	}
+}
+
+// modesOK runs gyrebench modes with args, fails the test unless it exits
+// with ExitOK, and returns what it wrote to dir and its stdout.
+func modesOK(t *testing.T, dir string, args ...string) ([][]string, linear.Summary, string) {
+	t.Helper()
+	code, stdout, stderr := gyre(t, append([]string{"modes"}, args...)...)
+	if code != ExitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	rows, s := readModes(t, dir)
+	return rows, s, stdout
 }

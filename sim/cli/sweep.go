@@ -3,7 +3,6 @@ package cli
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"runtime"
@@ -23,8 +22,7 @@ const sweepUsage = `usage:
 // file, sweep.csv included, is written; blew_up says which); 130
 // interrupted, run folders so far written, no sweep.csv.
 func cmdSweep(ctx context.Context, args []string, stdout, stderr io.Writer) int {
-	fs := flag.NewFlagSet("sweep", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs, fail := newCommand("sweep", stderr)
 	fs.Usage = func() { fmt.Fprintln(stderr, sweepUsage); fs.PrintDefaults() }
 	var sets, varies multi
 	fs.Var(&varies, "vary", "a scenario key and its values, e.g. --vary grid.n=16,32,64 (repeatable; the product is run)")
@@ -36,10 +34,6 @@ func cmdSweep(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	collect := fs.String("collect", "", "assemble sweep.csv and the plots from the run folders in this sweep folder")
 	pos, err := parseInterleaved(fs, args)
 	if err != nil {
-		return ExitBadInput
-	}
-	fail := func(format string, a ...any) int {
-		fmt.Fprintf(stderr, "gyrebench sweep: "+format+"\n", a...)
 		return ExitBadInput
 	}
 	if *collect != "" {

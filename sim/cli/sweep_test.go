@@ -14,6 +14,7 @@ import (
 	"strings"
 	"testing"
 
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/sweep"
 )
 
@@ -118,14 +119,7 @@ func splitLine(t *testing.T, line string) []string {
 // the one column that depends on the machine.
 func reproducible(t *testing.T, path string) string {
 	t.Helper()
-	b, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	recs, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	recs := testcheck.ReadCSV(t, path)
 	if h := recs[0]; h[len(h)-1] != "wall_seconds" {
 		t.Fatalf("%s: last column %q, want wall_seconds", path, h[len(h)-1])
 	}

@@ -5,13 +5,13 @@
 //
 // Face fields (one value per cell, such as depth) fill the cells; node
 // fields (one value per vertex, such as vorticity) fill the dual cells,
-// the polygons joining the centres of the cells around each vertex. On
-// the doubly periodic plane every polygon is unwrapped round its own
-// centre and drawn again, shifted by a period, where it crosses the edge,
-// so the rectangle [0, Lx] × [0, Ly] is covered exactly; on the sphere the
-// map is the longitude–latitude (equirectangular) projection, polygons are
-// unwrapped across the date line the same way, and the cells round a pole
-// become bands closed along the pole's latitude.
+// the polygons joining the centres of the cells around each vertex. The
+// polygons are package display's map polygons: on the doubly periodic
+// plane every polygon is unwrapped round its own centre, on the sphere the
+// map is the longitude–latitude (equirectangular) projection with the
+// polygons unwrapped across the date line and the cells round a pole
+// closed into bands. A polygon that crosses the edge of the domain is
+// drawn again, shifted by a period, so the map is covered exactly.
 //
 // Colour maps are this package's own: SequentialMap (navy to pale sand,
 // lightness rising) for positive fields over [min, max], and DivergingMap

@@ -7,6 +7,7 @@ import (
 	"math"
 	"strings"
 
+	"gyrebench/sim/display"
 	"gyrebench/sim/mesh"
 )
 
@@ -140,14 +141,20 @@ var (
 
 // draw lays the whole figure out on p.
 func draw(p painter, l *Layout, m *mesh.Mesh, field []float64, loc Location, opt Options, cmap *ColorMap, lo, hi float64) {
-	g := newGeometry(m, loc)
-	var buf, pix []pt
-	period := [2]float64{g.px, g.py}
+	g := display.Of(m)
+	elems := &g.Cells
+	if loc == Node {
+		elems = &g.Duals
+	}
+	polys := g.Map(elems)
+	var pix []pt
+	period := [2]float64{g.PeriodX, g.PeriodY}
 	for i, v := range field {
-		buf = g.polygon(i, buf[:0])
 		pix = pix[:0]
 		bx0, by0, bx1, by1 := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
-		for _, q := range buf {
+		corners := polys.Corners(i)
+		for k := 0; k < len(corners); k += 2 {
+			q := pt{corners[k], corners[k+1]}
 			bx0, bx1 = math.Min(bx0, q.x), math.Max(bx1, q.x)
 			by0, by1 = math.Min(by0, q.y), math.Max(by1, q.y)
 			x, y := l.Pixel(q.x, q.y)
@@ -246,125 +253,4 @@ func draw(p painter, l *Layout, m *mesh.Mesh, field []float64, loc Location, opt
 		}
 		p.text(pad, l.TitleY+pad+size, string(title), size, -1, ink)
 	}
-}
-
-// geometry builds the polygon of each element in display coordinates
-// (plane: metres; sphere: longitude, latitude in degrees), unwrapped
-// around the element's own centre.
-type geometry struct {
-	m      *mesh.Mesh
-	loc    Location
-	px, py float64 // periods in x and y; 0 where not periodic
-}
-
-func newGeometry(m *mesh.Mesh, loc Location) *geometry {
-	g := &geometry{m: m, loc: loc}
-	if m.Surface.Sphere {
-		g.px = 360
-	} else {
-		g.px, g.py = m.Surface.Lx, m.Surface.Ly
-	}
-	return g
-}
-
-// ring returns the centre of element i and appends its corners, in
-// order, to buf: cell vertices for a face, the centres of the cells
-// around a vertex for a node.
-func (g *geometry) ring(i int, buf []pt) (pt, []pt) {
-	m := g.m
-	var cx, cy, cz float64
-	var lo, hi int
-	var ids []int32
-	var xs, ys, zs []float64
-	if g.loc == Face {
-		cx, cy = m.CellX[i], m.CellY[i]
-		if m.CellZ != nil {
-			cz = m.CellZ[i]
-		}
-		lo, hi = m.EdgesOfCell(i)
-		ids, xs, ys, zs = m.CellVertices, m.VertexX, m.VertexY, m.VertexZ
-	} else {
-		cx, cy = m.VertexX[i], m.VertexY[i]
-		if m.VertexZ != nil {
-			cz = m.VertexZ[i]
-		}
-		lo, hi = m.EdgesOfVertex(i)
-		ids, xs, ys, zs = m.VertexCells, m.CellX, m.CellY, m.CellZ
-	}
-	if !m.Surface.Sphere {
-		for _, k := range ids[lo:hi] {
-			buf = append(buf, pt{xs[k], ys[k]})
-		}
-		return pt{cx, cy}, buf
-	}
-	for _, k := range ids[lo:hi] {
-		lon, lat := lonLat(xs[k], ys[k], zs[k])
-		buf = append(buf, pt{lon, lat})
-	}
-	lon, lat := lonLat(cx, cy, cz)
-	return pt{lon, lat}, buf
-}
-
-func lonLat(x, y, z float64) (float64, float64) {
-	return math.Atan2(y, x) * 180 / math.Pi, math.Atan2(z, math.Hypot(x, y)) * 180 / math.Pi
-}
-
-// polygon appends the display polygon of element i to buf.
-func (g *geometry) polygon(i int, buf []pt) []pt {
-	c, ring := g.ring(i, buf)
-	if !g.m.Surface.Sphere {
-		for k := range ring {
-			ring[k].x -= g.px * math.Round((ring[k].x-c.x)/g.px)
-			ring[k].y -= g.py * math.Round((ring[k].y-c.y)/g.py)
-		}
-		return ring
-	}
-	// Sphere: longitudes unwrapped step by step from the first corner,
-	// which is taken nearest the centre's. A ring that winds once round a
-	// pole ends 360° from where it began; it is closed along the pole's
-	// latitude into a band. A corner at a pole itself (where longitude
-	// means nothing) becomes the stretch of the pole's latitude between
-	// its neighbours' longitudes.
-	n := len(ring)
-	polar := func(k int) bool { return math.Abs(ring[k].y) > 90-1e-6 }
-	first, prev, started, anyPolar := 0.0, 0.0, false, false
-	for k := range n {
-		if polar(k) {
-			anyPolar = true
-			continue
-		}
-		x := ring[k].x
-		if !started {
-			x -= 360 * math.Round((x-c.x)/360)
-			first, started = x, true
-		} else {
-			x -= 360 * math.Round((x-prev)/360)
-		}
-		ring[k].x, prev = x, x
-	}
-	if !started {
-		return ring
-	}
-	if anyPolar {
-		out := ring[n:] // build after the ring, in the same buffer
-		for k := range n {
-			if !polar(k) {
-				out = append(out, ring[k])
-				continue
-			}
-			pole := math.Copysign(90, ring[k].y)
-			before, after := ring[(k+n-1)%n], ring[(k+1)%n]
-			out = append(out, pt{before.x, pole}, pt{after.x, pole})
-		}
-		return append(ring[:0], out...)
-	}
-	end := first - 360*math.Round((first-prev)/360)
-	if math.Abs(end-first) > 180 {
-		pole := 90.0
-		if c.y < 0 {
-			pole = -90
-		}
-		ring = append(ring, pt{end, ring[0].y}, pt{end, pole}, pt{first, pole})
-	}
-	return ring
 }

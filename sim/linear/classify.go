@@ -166,13 +166,10 @@ func rotateZero(op *Operator, pr *rangeProj, zero []*mode) error {
 		pr.field(op, u, md.a)
 		zw.SetCol(j, u)
 	}
-	var s1 mat.SVD
-	if !s1.Factorize(zw, mat.SVDFullV) {
+	sv, v1, ok := svdV(zw)
+	if !ok {
 		return fmt.Errorf("linear: SVD of the balanced modes' vorticity did not converge")
 	}
-	sv := s1.Values(nil)
-	var v1 mat.Dense
-	s1.VTo(&v1)
 	r := 0
 	for r < len(sv) && sv[r] > 1e-8*sv[0] {
 		r++
@@ -196,15 +193,12 @@ func rotateZero(op *Operator, pr *rangeProj, zero []*mode) error {
 			pr.residual(res, col)
 			e.SetCol(j, res)
 		}
-		var s2 mat.SVD
-		if !s2.Factorize(e, mat.SVDFullV) {
+		s2v, c, ok := svdV(e)
+		if !ok {
 			return fmt.Errorf("linear: SVD of the balanced modes' residual did not converge")
 		}
-		s2v := s2.Values(nil)
-		var c mat.Dense
-		s2.VTo(&c)
 		var y mat.Dense
-		y.Mul(vr, &c)
+		y.Mul(vr, c)
 		for j := 0; j < r; j++ {
 			coef.SetCol(j, mat.Col(nil, j, &y))
 			if j < len(s2v) {
@@ -213,7 +207,7 @@ func rotateZero(op *Operator, pr *rangeProj, zero []*mode) error {
 		}
 	}
 	for j := r; j < k; j++ {
-		coef.SetCol(j, mat.Col(nil, j, &v1))
+		coef.SetCol(j, mat.Col(nil, j, v1))
 	}
 	var nv mat.Dense
 	nv.Mul(vk, coef)
@@ -258,14 +252,11 @@ func rotatePairs(op *Operator, pr *rangeProj, cl []*mode) {
 			md.score = pr.score(op, md)
 		}
 	}
-	var s1 mat.SVD
-	if !s1.Factorize(r1, mat.SVDFullV) {
+	sv, v1, ok := svdV(r1)
+	if !ok {
 		fallback()
 		return
 	}
-	sv := s1.Values(nil)
-	var v1 mat.Dense
-	s1.VTo(&v1)
 	r := 0
 	for r < len(sv) && sv[r] > 1e-8*sv[0] {
 		r++
@@ -329,17 +320,14 @@ func rotatePairs(op *Operator, pr *rangeProj, cl []*mode) {
 				}
 			}
 		}
-		var s2 mat.SVD
-		if !s2.Factorize(e, mat.SVDFullV) {
+		s2v, c, ok := svdV(e)
+		if !ok {
 			fallback()
 			return
 		}
-		s2v := s2.Values(nil)
-		var c mat.Dense
-		s2.VTo(&c)
 		var x, yc mat.Dense
-		x.Mul(vr, &c)
-		yc.Mul(&y, &c)
+		x.Mul(vr, c)
+		yc.Mul(&y, c)
 		for t := 0; t < r && len(kept) < m; t++ {
 			f := make([]complex128, nf)
 			for i := range f {
@@ -358,7 +346,7 @@ func rotatePairs(op *Operator, pr *rangeProj, cl []*mode) {
 	}
 	var nullKept [][]complex128
 	for t := r; t < 2*m && len(kept) < m; t++ {
-		c := toC(mat.Col(nil, t, &v1))
+		c := toC(mat.Col(nil, t, v1))
 		if !gs(c, nullKept) {
 			continue
 		}
@@ -411,4 +399,16 @@ func clusters(ms []*mode, tol float64) [][]*mode {
 		i = j
 	}
 	return out
+}
+
+// svdV returns the singular values of a, decreasing, and the matrix V of
+// its right singular vectors; ok is false when the SVD did not converge.
+func svdV(a mat.Matrix) (values []float64, v *mat.Dense, ok bool) {
+	var s mat.SVD
+	if !s.Factorize(a, mat.SVDFullV) {
+		return nil, nil, false
+	}
+	v = new(mat.Dense)
+	s.VTo(v)
+	return s.Values(nil), v, true
 }

@@ -51,23 +51,8 @@ func skewEigen(b []float64, n int, zeroTol float64) (*skewSpectrum, error) {
 	if n == 0 {
 		return &skewSpectrum{}, nil
 	}
-	nn := n + n%2
-	a := make([]float64, nn*nn)
-	for r := 0; r < n; r++ {
-		for c := 0; c < n; c++ {
-			a[r*nn+c] = 0.5 * (b[r*n+c] - b[c*n+r])
-		}
-	}
 	var impl gonum.Implementation
-	tau := make([]float64, max(nn-1, 1))
-	work := []float64{0}
-	impl.Dgehrd(nn, 0, nn-1, a, nn, tau, work, -1)
-	work = make([]float64, int(work[0]))
-	impl.Dgehrd(nn, 0, nn-1, a, nn, tau, work, len(work))
-	alpha := make([]float64, nn-1)
-	for k := range alpha {
-		alpha[k] = 0.5 * (a[k*nn+k+1] - a[(k+1)*nn+k])
-	}
+	nn, a, tau, work, alpha := skewHessenberg(b, n)
 	impl.Dorghr(nn, 0, nn-1, a, nn, tau, work, -1)
 	if int(work[0]) > len(work) {
 		work = make([]float64, int(work[0]))
@@ -258,24 +243,34 @@ func generalEigen(b []float64, n int) (*generalSpectrum, error) {
 // eigenvalues being ±iσ_j, without vectors (steps 1–3 of skewEigen with a
 // tridiagonal eigenvalue solver instead of the SVD).
 func skewValues(b []float64, n int) []float64 {
-	nn := n + n%2
-	a := make([]float64, nn*nn)
+	_, _, _, _, off := skewHessenberg(b, n)
+	return tridiagMagnitudes(off)
+}
+
+// skewHessenberg is step 1 of skewEigen: the antisymmetric part of the
+// n × n matrix b, padded to even order nn, reduced to Hessenberg form a
+// by dgehrd (reflectors in a and tau, work the workspace it used), and
+// the superdiagonal α_k of its tridiagonal form, averaged with the
+// negated subdiagonal.
+func skewHessenberg(b []float64, n int) (nn int, a, tau, work, alpha []float64) {
+	nn = n + n%2
+	a = make([]float64, nn*nn)
 	for r := 0; r < n; r++ {
 		for c := 0; c < n; c++ {
 			a[r*nn+c] = 0.5 * (b[r*n+c] - b[c*n+r])
 		}
 	}
 	var impl gonum.Implementation
-	tau := make([]float64, max(nn-1, 1))
-	work := []float64{0}
+	tau = make([]float64, max(nn-1, 1))
+	work = []float64{0}
 	impl.Dgehrd(nn, 0, nn-1, a, nn, tau, work, -1)
 	work = make([]float64, int(work[0]))
 	impl.Dgehrd(nn, 0, nn-1, a, nn, tau, work, len(work))
-	off := make([]float64, nn-1)
-	for k := range off {
-		off[k] = 0.5 * (a[k*nn+k+1] - a[(k+1)*nn+k])
+	alpha = make([]float64, nn-1)
+	for k := range alpha {
+		alpha[k] = 0.5 * (a[k*nn+k+1] - a[(k+1)*nn+k])
 	}
-	return tridiagMagnitudes(off)
+	return nn, a, tau, work, alpha
 }
 
 // tridiagMagnitudes returns |λ| for the eigenvalues λ of the symmetric

@@ -30,7 +30,7 @@ func wrap(d, l float64) float64 {
 // unwrapped to the periodic image nearest the cell centre, which is valid
 // while cells are small against the domain (n ≥ 4).
 func (p *planeCells) build(kind Kind, n int) *Mesh {
-	nc, nv := len(p.cx), len(p.vx)
+	nv := len(p.vx)
 	m := &Mesh{Kind: kind, N: n, Surface: Surface{Lx: p.lx, Ly: p.ly}, Orthogonal: true}
 	t := &m.Topology
 	vertexEdges := polygonTopology(t, nv, p.deg, p.cellVerts)
@@ -41,10 +41,7 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 	c := &m.Coords
 	c.CellX, c.CellY = p.cx, p.cy
 	c.VertexX, c.VertexY = p.vx, p.vy
-	g.EdgeLength = make([]float64, ne)
-	g.DualLength = make([]float64, ne)
-	c.EdgeX, c.EdgeY = make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY = make([]float64, ne), make([]float64, ne)
+	m.allocPlaneEdges()
 	for e := 0; e < ne; e++ {
 		c0, c1 := t.EdgeCells[2*e], t.EdgeCells[2*e+1]
 		v0, v1 := t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]
@@ -59,27 +56,45 @@ func (p *planeCells) build(kind Kind, n int) *Mesh {
 	}
 
 	// Cell areas and kites, with positions relative to the cell centre.
-	g.CellArea = make([]float64, nc)
-	g.CellKiteArea = make([]float64, len(t.CellEdges))
-	for i := 0; i < nc; i++ {
-		lo, hi := t.EdgesOfCell(i)
-		k := hi - lo
-		for j := 0; j < k; j++ {
-			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
-			v := t.CellVertices[lo+j]
-			px, py := p.rel(i, c.EdgeX[e], c.EdgeY[e])
-			vx, vy := p.rel(i, p.vx[v], p.vy[v])
-			qx, qy := p.rel(i, c.EdgeX[en], c.EdgeY[en])
-			a := (px*vy-py*vx)/2 + (vx*qy-vy*qx)/2
-			g.CellKiteArea[lo+j] = a
-			g.CellArea[i] += a
-		}
-	}
+	m.cellKites(func(i int, e, v, en int32) float64 {
+		px, py := p.rel(i, c.EdgeX[e], c.EdgeY[e])
+		vx, vy := p.rel(i, p.vx[v], p.vy[v])
+		qx, qy := p.rel(i, c.EdgeX[en], c.EdgeY[en])
+		return (px*vy-py*vx)/2 + (vx*qy-vy*qx)/2
+	})
 	m.finishVertices(vertexEdges, func(v int, e int32) float64 {
 		x, y := wrap(c.EdgeX[e]-p.vx[v], p.lx), wrap(c.EdgeY[e]-p.vy[v], p.ly)
 		return math.Atan2(y, x)
 	})
 	return m
+}
+
+// allocPlaneEdges allocates the per-edge metric and coordinates of a
+// planar mesh: lengths, dual lengths, edge points and normals.
+func (m *Mesh) allocPlaneEdges() {
+	ne := m.NumEdges
+	m.EdgeLength, m.DualLength = make([]float64, ne), make([]float64, ne)
+	m.EdgeX, m.EdgeY = make([]float64, ne), make([]float64, ne)
+	m.NormalX, m.NormalY = make([]float64, ne), make([]float64, ne)
+}
+
+// cellKites fills CellKiteArea and CellArea, the sum of a cell's kites,
+// from kite(i, e, v, en): the area of the kite of cell i at vertex v,
+// between its edges e and en (anticlockwise). Each kite is computed and
+// added in the same order whatever the generator.
+func (m *Mesh) cellKites(kite func(i int, e, v, en int32) float64) {
+	t, g := &m.Topology, &m.Metric
+	g.CellArea = make([]float64, t.NumCells)
+	g.CellKiteArea = make([]float64, len(t.CellEdges))
+	for i := 0; i < t.NumCells; i++ {
+		lo, hi := t.EdgesOfCell(i)
+		k := hi - lo
+		for j := 0; j < k; j++ {
+			a := kite(i, t.CellEdges[lo+j], t.CellVertices[lo+j], t.CellEdges[lo+(j+1)%k])
+			g.CellKiteArea[lo+j] = a
+			g.CellArea[i] += a
+		}
+	}
 }
 
 // polygonTopology fills the edge and cell arrays of t from polygons of deg

@@ -3,6 +3,8 @@ package mesh
 import (
 	"fmt"
 	"math"
+
+	"gyrebench/sim/internal/r3"
 )
 
 // MaxCubedN is the largest cubed-sphere resolution: 6n² ≤ MaxCells.
@@ -71,7 +73,7 @@ func newCubed(n int, radius float64) (*Mesh, error) {
 		}
 		v := int32(len(pts))
 		index[key] = v
-		pts = append(pts, vec3{tanI[q[0]+n], tanI[q[1]+n], tanI[q[2]+n]}.unit())
+		pts = append(pts, vec3{tanI[q[0]+n], tanI[q[1]+n], tanI[q[2]+n]}.Unit())
 		return v
 	}
 	for p := range cubePanels {
@@ -98,21 +100,21 @@ func newCubed(n int, radius float64) (*Mesh, error) {
 	x := make([]vec3, t.NumCells)
 	for i := range x {
 		vs := t.CellVertices[4*i : 4*i+4]
-		x[i] = pts[vs[0]].add(pts[vs[1]]).add(pts[vs[2]]).add(pts[vs[3]]).unit()
+		x[i] = pts[vs[0]].Add(pts[vs[1]]).Add(pts[vs[2]]).Add(pts[vs[3]]).Unit()
 	}
 	// Order the edges about each vertex by the direction of the far
 	// vertex in the tangent plane.
 	basis := make([][2]vec3, nv)
 	for v := range basis {
-		basis[v][0], basis[v][1] = tangentBasis(pts[v])
+		basis[v][0], basis[v][1] = r3.TangentBasis(pts[v])
 	}
 	m.sortVertexEdges(vertexEdges, func(v int, e int32) float64 {
 		w := t.EdgeVertices[2*e]
 		if int(w) == v {
 			w = t.EdgeVertices[2*e+1]
 		}
-		d := pts[w].sub(pts[v])
-		return math.Atan2(d.dot(basis[v][1]), d.dot(basis[v][0]))
+		d := pts[w].Sub(pts[v])
+		return math.Atan2(d.Dot(basis[v][1]), d.Dot(basis[v][0]))
 	})
 	if err := m.sphereGeometryFrom(x, pts); err != nil {
 		return nil, fmt.Errorf("mesh: cubed sphere n = %d: %w", n, err)

@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
+
+	"gyrebench/sim/internal/r3"
 )
 
 func cubed(t testing.TB, n int) *Mesh {
@@ -65,7 +67,7 @@ func TestCubedSphere(t *testing.T) {
 			checkExactSequence(t, m, rng)
 
 			r2 := earthRadius * earthRadius
-			unit := func(x, y, z float64) vec3 { return vec3{x, y, z}.unit() }
+			unit := func(x, y, z float64) vec3 { return vec3{x, y, z}.Unit() }
 			amin, amax := math.Inf(1), 0.0
 			for i := 0; i < m.NumCells; i++ {
 				lo, _ := m.EdgesOfCell(i)
@@ -74,7 +76,7 @@ func TestCubedSphere(t *testing.T) {
 					v := m.CellVertices[lo+k]
 					p[k] = unit(m.VertexX[v], m.VertexY[v], m.VertexZ[v])
 				}
-				quad := r2 * (sphTriArea(p[0], p[1], p[2]) + sphTriArea(p[0], p[2], p[3]))
+				quad := r2 * (r3.TriArea(p[0], p[1], p[2]) + r3.TriArea(p[0], p[2], p[3]))
 				if math.Abs(m.CellArea[i]-quad) > 1e-12*quad {
 					t.Fatalf("cell %d: Σ kites %.15g, quadrilateral %.15g", i, m.CellArea[i], quad)
 				}
@@ -86,7 +88,7 @@ func TestCubedSphere(t *testing.T) {
 				a := 0.0
 				for k := lo; k < hi; k++ {
 					c, d := m.VertexCells[k], m.VertexCells[lo+(k+1-lo)%(hi-lo)]
-					a += sphTriArea(o, unit(m.CellX[c], m.CellY[c], m.CellZ[c]), unit(m.CellX[d], m.CellY[d], m.CellZ[d]))
+					a += r3.TriArea(o, unit(m.CellX[c], m.CellY[c], m.CellZ[c]), unit(m.CellX[d], m.CellY[d], m.CellZ[d]))
 				}
 				if a *= r2; math.Abs(m.VertexArea[v]-a) > 1e-12*a {
 					t.Fatalf("vertex %d: Σ kites %.15g, polygon of centres %.15g", v, m.VertexArea[v], a)
@@ -120,34 +122,34 @@ func TestCubedGeometry(t *testing.T) {
 		a := earthRadius
 		for i := 0; i < m.NumCells; i++ {
 			x := cellPos(m, int32(i))
-			if math.Abs(x.norm()-a) > 1e-9*a {
+			if math.Abs(x.Norm()-a) > 1e-9*a {
 				t.Fatalf("n=%d cell %d off the sphere", n, i)
 			}
 			lo, hi := m.EdgesOfCell(i)
 			var mean vec3
 			turn := 0.0
 			for k := lo; k < hi; k++ {
-				mean = mean.add(vertPos(m, m.CellVertices[k]).unit())
+				mean = mean.Add(vertPos(m, m.CellVertices[k]).Unit())
 				p, q := vertPos(m, m.CellVertices[k]), vertPos(m, m.CellVertices[lo+(k+1-lo)%(hi-lo)])
-				p, q = p.sub(x.scale(p.dot(x)/x.dot(x))), q.sub(x.scale(q.dot(x)/x.dot(x)))
-				turn += math.Atan2(p.cross(q).dot(x.unit()), p.dot(q))
+				p, q = p.Sub(x.Scale(p.Dot(x)/x.Dot(x))), q.Sub(x.Scale(q.Dot(x)/x.Dot(x)))
+				turn += math.Atan2(p.Cross(q).Dot(x.Unit()), p.Dot(q))
 			}
 			if math.Abs(turn-2*math.Pi) > 1e-9 {
 				t.Fatalf("n=%d cell %d: corners turn by %g about the centre, want +2π", n, i, turn)
 			}
-			if d := arc(mean.unit(), x.unit()); d > 1e-14 {
+			if d := arc(mean.Unit(), x.Unit()); d > 1e-14 {
 				t.Fatalf("n=%d cell %d: centre %.3g rad from the normalised corner mean", n, i, d)
 			}
 		}
 		for e := 0; e < m.NumEdges; e++ {
-			c0, c1 := cellPos(m, m.EdgeCells[2*e]).unit(), cellPos(m, m.EdgeCells[2*e+1]).unit()
-			v0, v1 := vertPos(m, m.EdgeVertices[2*e]).unit(), vertPos(m, m.EdgeVertices[2*e+1]).unit()
-			x := edgePos(m, e).unit()
+			c0, c1 := cellPos(m, m.EdgeCells[2*e]).Unit(), cellPos(m, m.EdgeCells[2*e+1]).Unit()
+			v0, v1 := vertPos(m, m.EdgeVertices[2*e]).Unit(), vertPos(m, m.EdgeVertices[2*e+1]).Unit()
+			x := edgePos(m, e).Unit()
 			nrm := vec3{m.NormalX[e], m.NormalY[e], m.NormalZ[e]}
-			if s := triple(c0, c1, x); math.Abs(s) > 1e-14 {
+			if s := r3.Triple(c0, c1, x); math.Abs(s) > 1e-14 {
 				t.Fatalf("n=%d edge %d: X_e off the arc c0–c1 by %g", n, e, s)
 			}
-			if s := triple(v0, v1, x); math.Abs(s) > 1e-14 {
+			if s := r3.Triple(v0, v1, x); math.Abs(s) > 1e-14 {
 				t.Fatalf("n=%d edge %d: X_e off the arc v0–v1 by %g", n, e, s)
 			}
 			if d := arc(c0, x) + arc(x, c1) - arc(c0, c1); math.Abs(d) > 1e-12 {
@@ -156,10 +158,10 @@ func TestCubedGeometry(t *testing.T) {
 			if d := arc(v0, x) + arc(x, v1) - arc(v0, v1); math.Abs(d) > 1e-12 {
 				t.Fatalf("n=%d edge %d: X_e not between v0 and v1", n, e)
 			}
-			if math.Abs(nrm.norm()-1) > 1e-14 || math.Abs(nrm.dot(x)) > 1e-14 || math.Abs(nrm.dot(c0.cross(c1).unit())) > 1e-14 {
+			if math.Abs(nrm.Norm()-1) > 1e-14 || math.Abs(nrm.Dot(x)) > 1e-14 || math.Abs(nrm.Dot(c0.Cross(c1).Unit())) > 1e-14 {
 				t.Fatalf("n=%d edge %d: n_e is not the unit tangent of the dual arc", n, e)
 			}
-			if nrm.dot(c1.sub(c0)) <= 0 || x.cross(nrm).dot(v1.sub(v0)) <= 0 {
+			if nrm.Dot(c1.Sub(c0)) <= 0 || x.Cross(nrm).Dot(v1.Sub(v0)) <= 0 {
 				t.Fatalf("n=%d edge %d: n_e must point from c0 to c1 and k × n_e from v0 to v1", n, e)
 			}
 			if math.Abs(m.DualLength[e]-a*arc(c0, c1)) > 1e-12*m.DualLength[e] || math.Abs(m.EdgeLength[e]-a*arc(v0, v1)) > 1e-12*m.EdgeLength[e] {

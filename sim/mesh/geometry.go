@@ -3,6 +3,8 @@ package mesh
 import (
 	"fmt"
 	"math"
+
+	"gyrebench/sim/internal/r3"
 )
 
 // This file holds the geometry of C-grids whose dual need not be
@@ -30,10 +32,7 @@ func (m *Mesh) planeGeometry() error {
 	lx, ly := m.Surface.Lx, m.Surface.Ly
 	ne, nc := t.NumEdges, t.NumCells
 	ulp := math.Nextafter(max(lx, ly), math.Inf(1)) - max(lx, ly)
-	g.EdgeLength = make([]float64, ne)
-	g.DualLength = make([]float64, ne)
-	c.EdgeX, c.EdgeY = make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY = make([]float64, ne), make([]float64, ne)
+	m.allocPlaneEdges()
 	for e := 0; e < ne; e++ {
 		c0, c1 := t.EdgeCells[2*e], t.EdgeCells[2*e+1]
 		v0, v1 := t.EdgeVertices[2*e], t.EdgeVertices[2*e+1]
@@ -72,20 +71,18 @@ func (m *Mesh) planeGeometry() error {
 	rel := func(i int, x, y float64) (float64, float64) {
 		return wrap(x-c.CellX[i], lx), wrap(y-c.CellY[i], ly)
 	}
-	g.CellArea = make([]float64, nc)
-	g.CellKiteArea = make([]float64, len(t.CellEdges))
+	m.cellKites(func(i int, e, v, en int32) float64 {
+		px, py := rel(i, c.EdgeX[e], c.EdgeY[e])
+		vx, vy := rel(i, c.VertexX[v], c.VertexY[v])
+		qx, qy := rel(i, c.EdgeX[en], c.EdgeY[en])
+		return (px*vy-py*vx)/2 + (vx*qy-vy*qx)/2
+	})
 	for i := 0; i < nc; i++ {
 		lo, hi := t.EdgesOfCell(i)
 		k := hi - lo
 		for j := 0; j < k; j++ {
-			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
 			v := t.CellVertices[lo+j]
-			px, py := rel(i, c.EdgeX[e], c.EdgeY[e])
 			vx, vy := rel(i, c.VertexX[v], c.VertexY[v])
-			qx, qy := rel(i, c.EdgeX[en], c.EdgeY[en])
-			a := (px*vy-py*vx)/2 + (vx*qy-vy*qx)/2
-			g.CellKiteArea[lo+j] = a
-			g.CellArea[i] += a
 			// Convexity: the corner at v turns left.
 			w := t.CellVertices[lo+(j+1)%k]
 			u := t.CellVertices[lo+(j+k-1)%k]
@@ -100,6 +97,25 @@ func (m *Mesh) planeGeometry() error {
 	return nil
 }
 
+// allocSphereCoords sets the cell centres and vertices of a spherical mesh
+// from their unit vectors x and p, scaled by the radius, and allocates the
+// per-edge coordinates and metric.
+func (m *Mesh) allocSphereCoords(x, p []vec3) {
+	c, r := &m.Coords, m.Surface.Radius
+	nc, ne, nv := m.NumCells, m.NumEdges, m.NumVertices
+	c.CellX, c.CellY, c.CellZ = make([]float64, nc), make([]float64, nc), make([]float64, nc)
+	for i, q := range x {
+		c.CellX[i], c.CellY[i], c.CellZ[i] = r*q[0], r*q[1], r*q[2]
+	}
+	c.VertexX, c.VertexY, c.VertexZ = make([]float64, nv), make([]float64, nv), make([]float64, nv)
+	for v, q := range p {
+		c.VertexX[v], c.VertexY[v], c.VertexZ[v] = r*q[0], r*q[1], r*q[2]
+	}
+	c.EdgeX, c.EdgeY, c.EdgeZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
+	c.NormalX, c.NormalY, c.NormalZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
+	m.EdgeLength, m.DualLength = make([]float64, ne), make([]float64, ne)
+}
+
 // sphereGeometryFrom fills the metric and the coordinates of a spherical mesh
 // from its topology (complete, vertex arrays included) and the unit
 // vectors of its cell centres x and vertices p. X_e is the crossing of the
@@ -110,50 +126,40 @@ func (m *Mesh) sphereGeometryFrom(x, p []vec3) error {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	r := m.Surface.Radius
 	r2 := r * r
-	nc, ne, nv := t.NumCells, t.NumEdges, t.NumVertices
-	c.CellX, c.CellY, c.CellZ = make([]float64, nc), make([]float64, nc), make([]float64, nc)
-	for i, q := range x {
-		c.CellX[i], c.CellY[i], c.CellZ[i] = r*q[0], r*q[1], r*q[2]
-	}
-	c.VertexX, c.VertexY, c.VertexZ = make([]float64, nv), make([]float64, nv), make([]float64, nv)
-	for v, q := range p {
-		c.VertexX[v], c.VertexY[v], c.VertexZ[v] = r*q[0], r*q[1], r*q[2]
-	}
+	ne := t.NumEdges
+	m.allocSphereCoords(x, p)
 	mid := make([]vec3, ne)
-	c.EdgeX, c.EdgeY, c.EdgeZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY, c.NormalZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	g.EdgeLength, g.DualLength = make([]float64, ne), make([]float64, ne)
 	for e := 0; e < ne; e++ {
 		a, b := x[t.EdgeCells[2*e]], x[t.EdgeCells[2*e+1]]
 		v0, v1 := p[t.EdgeVertices[2*e]], p[t.EdgeVertices[2*e+1]]
 		// The midpoint of the arc a–b, made exactly perpendicular to the
 		// chord (as on the Voronoi sphere), and the unit tangent there.
-		d := b.sub(a)
-		mp := a.add(b)
-		mp = mp.sub(d.scale(mp.dot(d) / d.dot(d))).unit()
-		n0 := d.sub(mp.scale(d.dot(mp))).unit()
+		d := b.Sub(a)
+		mp := a.Add(b)
+		mp = mp.Sub(d.Scale(mp.Dot(d) / d.Dot(d))).Unit()
+		n0 := d.Sub(mp.Scale(d.Dot(mp))).Unit()
 		// X_e = mp cos θ + n0 sin θ lies on the great circle of v0–v1, of
 		// pole pv (from differences, so that short arcs keep full relative
 		// precision): tan θ = −(mp·pv)/(n0·pv). |θ| ≤ midpointSnap·2⁻⁵²
 		// is rounding, and X_e is then the midpoint, as on the Voronoi
 		// sphere.
-		pv := v0.cross(v1.sub(v0))
-		th := math.Atan(-mp.dot(pv) / n0.dot(pv))
+		pv := v0.Cross(v1.Sub(v0))
+		th := math.Atan(-mp.Dot(pv) / n0.Dot(pv))
 		if math.Abs(th) <= midpointSnap*0x1p-52 {
 			th = 0
 		}
 		xe := mp
 		if th != 0 {
-			xe = mp.scale(math.Cos(th)).add(n0.scale(math.Sin(th)))
+			xe = mp.Scale(math.Cos(th)).Add(n0.Scale(math.Sin(th)))
 		}
 		// Inside both arcs: |θ| below half the arc a–b, and X_e turned from
 		// each end of the primal arc towards the other about its pole.
-		if !(math.Abs(th) < arc(a, b)/2 && v0.cross(xe.sub(v0)).dot(pv) > 0 && xe.cross(v1.sub(xe)).dot(pv) > 0) {
+		if !(math.Abs(th) < arc(a, b)/2 && v0.Cross(xe.Sub(v0)).Dot(pv) > 0 && xe.Cross(v1.Sub(xe)).Dot(pv) > 0) {
 			return fmt.Errorf("edge %d: the arc between the centres of cells %d and %d does not cross its primal edge inside both arcs",
 				e, t.EdgeCells[2*e], t.EdgeCells[2*e+1])
 		}
 		mid[e] = xe
-		n := d.sub(xe.scale(d.dot(xe))).unit() // tangent at X_e, towards b
+		n := d.Sub(xe.Scale(d.Dot(xe))).Unit() // tangent at X_e, towards b
 		c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e] = r*xe[0], r*xe[1], r*xe[2]
 		c.NormalX[e], c.NormalY[e], c.NormalZ[e] = n[0], n[1], n[2]
 		g.DualLength[e] = r * arc(a, b)
@@ -161,19 +167,9 @@ func (m *Mesh) sphereGeometryFrom(x, p []vec3) error {
 	}
 	// Kite (cell i, vertex v between edges e and e′): the spherical
 	// quadrilateral centre, X_e, v, X_e′, as two triangles.
-	g.CellArea = make([]float64, nc)
-	g.CellKiteArea = make([]float64, len(t.CellEdges))
-	for i := 0; i < nc; i++ {
-		lo, hi := t.EdgesOfCell(i)
-		k := hi - lo
-		for j := 0; j < k; j++ {
-			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
-			v := p[t.CellVertices[lo+j]]
-			a := r2 * (sphTriArea(x[i], mid[e], v) + sphTriArea(x[i], v, mid[en]))
-			g.CellKiteArea[lo+j] = a
-			g.CellArea[i] += a
-		}
-	}
+	m.cellKites(func(i int, e, v, en int32) float64 {
+		return r2 * (r3.TriArea(x[i], mid[e], p[v]) + r3.TriArea(x[i], p[v], mid[en]))
+	})
 	m.vertexKites()
 	return nil
 }
@@ -190,15 +186,15 @@ func (m *Mesh) NonOrthogonality() float64 {
 		var l vec3
 		if m.Surface.Sphere {
 			n[2] = c.NormalZ[e]
-			p0 := vec3{c.VertexX[v0], c.VertexY[v0], c.VertexZ[v0]}.unit()
-			p1 := vec3{c.VertexX[v1], c.VertexY[v1], c.VertexZ[v1]}.unit()
-			xe := vec3{c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e]}.unit()
-			l = p0.cross(p1.sub(p0)).cross(xe) // tangent of the primal arc at X_e
+			p0 := vec3{c.VertexX[v0], c.VertexY[v0], c.VertexZ[v0]}.Unit()
+			p1 := vec3{c.VertexX[v1], c.VertexY[v1], c.VertexZ[v1]}.Unit()
+			xe := vec3{c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e]}.Unit()
+			l = p0.Cross(p1.Sub(p0)).Cross(xe) // tangent of the primal arc at X_e
 		} else {
 			l = vec3{wrap(c.VertexX[v1]-c.VertexX[v0], m.Surface.Lx), wrap(c.VertexY[v1]-c.VertexY[v0], m.Surface.Ly), 0}
 		}
 		// n · l̂ = sin(deviation).
-		worst = max(worst, math.Abs(math.Asin(min(1, math.Abs(n.dot(l.unit()))))))
+		worst = max(worst, math.Abs(math.Asin(min(1, math.Abs(n.Dot(l.Unit()))))))
 	}
 	return worst
 }

@@ -3,6 +3,8 @@ package mesh
 import (
 	"fmt"
 	"math"
+
+	"gyrebench/sim/internal/r3"
 )
 
 // Hodge is a general edge Hodge star H in compressed sparse rows: it maps
@@ -65,7 +67,7 @@ func EnsureHodge(m *Mesh) error {
 // the chord on the sphere.
 func (m *Mesh) delta(a, b int, aCell, bCell bool) vec3 {
 	pa, pb := m.point(a, aCell), m.point(b, bCell)
-	d := pb.sub(pa)
+	d := pb.Sub(pa)
 	if !m.Surface.Sphere {
 		d[0] = wrap(d[0], m.Surface.Lx)
 		d[1] = wrap(d[1], m.Surface.Ly)
@@ -244,12 +246,12 @@ func (m *Mesh) tangentProjector(v int) func(i int) [2]float64 {
 		}
 	}
 	xv := m.point(v, false)
-	r := xv.norm()
-	up := xv.scale(1 / r)
-	e1, e2 := tangentBasis(up)
+	r := xv.Norm()
+	up := xv.Scale(1 / r)
+	e1, e2 := r3.TangentBasis(up)
 	return func(i int) [2]float64 {
 		x := m.point(i, true)
-		g := x.scale(r / x.dot(up)).sub(xv)
-		return [2]float64{g.dot(e1), g.dot(e2)}
+		g := x.Scale(r / x.Dot(up)).Sub(xv)
+		return [2]float64{g.Dot(e1), g.Dot(e2)}
 	}
 }

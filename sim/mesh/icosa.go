@@ -3,6 +3,8 @@ package mesh
 import (
 	"fmt"
 	"math"
+
+	"gyrebench/sim/internal/r3"
 )
 
 // Icosahedral mesh optimisations (Spec.Optimize).
@@ -31,30 +33,10 @@ const (
 )
 
 // vec3 is a point or direction in R³.
-type vec3 [3]float64
+type vec3 = r3.Vec
 
-func (a vec3) add(b vec3) vec3      { return vec3{a[0] + b[0], a[1] + b[1], a[2] + b[2]} }
-func (a vec3) sub(b vec3) vec3      { return vec3{a[0] - b[0], a[1] - b[1], a[2] - b[2]} }
-func (a vec3) scale(s float64) vec3 { return vec3{s * a[0], s * a[1], s * a[2]} }
-func (a vec3) dot(b vec3) float64   { return a[0]*b[0] + a[1]*b[1] + a[2]*b[2] }
-func (a vec3) norm() float64        { return math.Sqrt(a.dot(a)) }
-func (a vec3) unit() vec3           { return a.scale(1 / a.norm()) }
-func (a vec3) cross(b vec3) vec3 {
-	return vec3{a[1]*b[2] - a[2]*b[1], a[2]*b[0] - a[0]*b[2], a[0]*b[1] - a[1]*b[0]}
-}
-func arc(a, b vec3) float64          { return math.Atan2(a.cross(b).norm(), a.dot(b)) }
-func triple(a, b, c vec3) float64    { return a.dot(b.sub(a).cross(c.sub(a))) } // a·(b×c), from differences
-func circumcentre(a, b, c vec3) vec3 { return b.sub(a).cross(c.sub(a)).unit() }
-
-// sphTriArea returns the signed area of the spherical triangle abc on the
-// unit sphere, positive when abc is anticlockwise seen from outside
-// (Eriksson 1990, Math. Mag. 63, 184–187: tan(E/2) = a·(b×c) /
-// (1 + a·b + b·c + c·a)). The triple product is formed from the
-// differences b − a and c − a, so small triangles keep full relative
-// precision.
-func sphTriArea(a, b, c vec3) float64 {
-	return 2 * math.Atan2(triple(a, b, c), 1+a.dot(b)+b.dot(c)+c.dot(a))
-}
+func arc(a, b vec3) float64          { return math.Atan2(a.Cross(b).Norm(), a.Dot(b)) }
+func circumcentre(a, b, c vec3) vec3 { return b.Sub(a).Cross(c.Sub(a)).Unit() }
 
 // triangulation is a triangulated unit sphere. Edge e joins
 // pt[edge[2e]] and pt[edge[2e+1]]; triangle t has corners tri[3t:3t+3]
@@ -94,7 +76,7 @@ func icosahedron() *triangulation {
 	}
 	for t := 0; t < len(tr.tri)/3; t++ {
 		a, b, c := tr.tri[3*t], tr.tri[3*t+1], tr.tri[3*t+2]
-		if triple(tr.pt[a], tr.pt[b], tr.pt[c]) < 0 {
+		if r3.Triple(tr.pt[a], tr.pt[b], tr.pt[c]) < 0 {
 			tr.tri[3*t+1], tr.tri[3*t+2] = c, b
 		}
 	}
@@ -136,7 +118,7 @@ func (tr *triangulation) bisect() *triangulation {
 	for e := 0; e < ne; e++ {
 		p, q := tr.edge[2*e], tr.edge[2*e+1]
 		m := int32(np + e)
-		out.pt[m] = tr.pt[p].add(tr.pt[q]).unit()
+		out.pt[m] = tr.pt[p].Add(tr.pt[q]).Unit()
 		out.edge[4*e], out.edge[4*e+1] = p, m
 		out.edge[4*e+2], out.edge[4*e+3] = m, q
 	}
@@ -293,17 +275,17 @@ func cellCentroid(cc []vec3, vs []int32) vec3 {
 	var s vec3
 	n := len(vs)
 	for k := 0; k < n; k++ {
-		s = s.add(sideMoment(cc[vs[k]], cc[vs[(k+1)%n]]))
+		s = s.Add(sideMoment(cc[vs[k]], cc[vs[(k+1)%n]]))
 	}
-	return s.unit()
+	return s.Unit()
 }
 
 // sideMoment returns θ ν for the great-circle arc from a to b: twice its
 // contribution to the first moment of a polygon it bounds on the left.
 func sideMoment(a, b vec3) vec3 {
-	c := a.cross(b)
-	s := c.norm()
-	return c.scale(math.Atan2(s, a.dot(b)) / s)
+	c := a.Cross(b)
+	s := c.Norm()
+	return c.Scale(math.Atan2(s, a.Dot(b)) / s)
 }
 
 // lloyd relaxes the generators x in place towards a centroidal Voronoi
@@ -325,12 +307,12 @@ func lloyd(t *Topology, tr *triangulation, x []vec3) {
 			lo, hi := t.EdgesOfCell(i)
 			for k := lo; k < hi; k++ {
 				if t.CellEdgeSign[k] > 0 {
-					s = s.add(side[t.CellEdges[k]])
+					s = s.Add(side[t.CellEdges[k]])
 				} else {
-					s = s.sub(side[t.CellEdges[k]])
+					s = s.Sub(side[t.CellEdges[k]])
 				}
 			}
-			c := s.unit()
+			c := s.Unit()
 			move = max(move, arc(c, x[i]))
 			x[i] = c
 		}
@@ -352,12 +334,12 @@ func (m *Mesh) CentroidOffset() float64 {
 	r := m.Surface.Radius
 	cc := make([]vec3, m.NumVertices)
 	for v := range cc {
-		cc[v] = vec3{c.VertexX[v], c.VertexY[v], c.VertexZ[v]}.unit()
+		cc[v] = vec3{c.VertexX[v], c.VertexY[v], c.VertexZ[v]}.Unit()
 	}
 	worst := 0.0
 	for i := 0; i < m.NumCells; i++ {
 		lo, hi := m.EdgesOfCell(i)
-		g := vec3{c.CellX[i], c.CellY[i], c.CellZ[i]}.unit()
+		g := vec3{c.CellX[i], c.CellY[i], c.CellZ[i]}.Unit()
 		worst = max(worst, arc(cellCentroid(cc, m.CellVertices[lo:hi]), g))
 	}
 	return worst * r
@@ -369,23 +351,13 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 	t, g, c := &m.Topology, &m.Metric, &m.Coords
 	r := m.Surface.Radius
 	r2 := r * r
-	nc, ne, nv := t.NumCells, t.NumEdges, t.NumVertices
+	ne, nv := t.NumEdges, t.NumVertices
 
 	cc := make([]vec3, nv)
 	circumcentres(tr, x, cc)
 	mid := make([]vec3, ne)
 
-	c.CellX, c.CellY, c.CellZ = make([]float64, nc), make([]float64, nc), make([]float64, nc)
-	for i, p := range x {
-		c.CellX[i], c.CellY[i], c.CellZ[i] = r*p[0], r*p[1], r*p[2]
-	}
-	c.VertexX, c.VertexY, c.VertexZ = make([]float64, nv), make([]float64, nv), make([]float64, nv)
-	for v, p := range cc {
-		c.VertexX[v], c.VertexY[v], c.VertexZ[v] = r*p[0], r*p[1], r*p[2]
-	}
-	c.EdgeX, c.EdgeY, c.EdgeZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	c.NormalX, c.NormalY, c.NormalZ = make([]float64, ne), make([]float64, ne), make([]float64, ne)
-	g.EdgeLength, g.DualLength = make([]float64, ne), make([]float64, ne)
+	m.allocSphereCoords(x, cc)
 	for e := 0; e < ne; e++ {
 		p, q := x[t.EdgeCells[2*e]], x[t.EdgeCells[2*e+1]]
 		// The midpoint of the c0–c1 arc, made exactly perpendicular to the
@@ -393,11 +365,11 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 		// without this the edge point drifts off the great circle through
 		// the Voronoi corners by ~1e-14, which shows as 1e-12 mismatches
 		// between cell areas and their corner polygons.
-		d := q.sub(p)
-		mp := p.add(q)
-		mp = mp.sub(d.scale(mp.dot(d) / d.dot(d))).unit()
+		d := q.Sub(p)
+		mp := p.Add(q)
+		mp = mp.Sub(d.Scale(mp.Dot(d) / d.Dot(d))).Unit()
 		mid[e] = mp
-		n := d.sub(mp.scale(d.dot(mp))).unit() // tangent at mp, towards q
+		n := d.Sub(mp.Scale(d.Dot(mp))).Unit() // tangent at mp, towards q
 		c.EdgeX[e], c.EdgeY[e], c.EdgeZ[e] = r*mp[0], r*mp[1], r*mp[2]
 		c.NormalX[e], c.NormalY[e], c.NormalZ[e] = n[0], n[1], n[2]
 		g.DualLength[e] = r * arc(p, q)
@@ -406,19 +378,9 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 
 	// Kite (cell i, vertex v between edges e and e′): the spherical
 	// quadrilateral centre, mid(e), v, mid(e′), as two triangles.
-	g.CellArea = make([]float64, nc)
-	g.CellKiteArea = make([]float64, len(t.CellEdges))
-	for i := 0; i < nc; i++ {
-		lo, hi := t.EdgesOfCell(i)
-		k := hi - lo
-		for j := 0; j < k; j++ {
-			e, en := t.CellEdges[lo+j], t.CellEdges[lo+(j+1)%k]
-			v := cc[t.CellVertices[lo+j]]
-			a := r2 * (sphTriArea(x[i], mid[e], v) + sphTriArea(x[i], v, mid[en]))
-			g.CellKiteArea[lo+j] = a
-			g.CellArea[i] += a
-		}
-	}
+	m.cellKites(func(i int, e, v, en int32) float64 {
+		return r2 * (r3.TriArea(x[i], mid[e], cc[v]) + r3.TriArea(x[i], cc[v], mid[en]))
+	})
 	// Around a Voronoi vertex the edges are dual to its triangle's edges,
 	// whose midpoints are anticlockwise about the circumcentre in the
 	// triangle's own order (the kite test catches a centre outside).
@@ -429,16 +391,4 @@ func (m *Mesh) sphereGeometry(tr *triangulation, x []vec3) {
 		}
 		return float64(j)
 	})
-}
-
-// tangentBasis returns unit vectors e1, e2 spanning the tangent plane at
-// the unit vector p, with (e1, e2, p) right-handed, so that angles measured
-// from e1 towards e2 run anticlockwise seen from outside.
-func tangentBasis(p vec3) (e1, e2 vec3) {
-	ref := vec3{0, 0, 1}
-	if math.Abs(p[2]) > 0.9 {
-		ref = vec3{1, 0, 0}
-	}
-	e1 = ref.cross(p).unit()
-	return e1, p.cross(e1)
 }

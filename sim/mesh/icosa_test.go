@@ -5,6 +5,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"gyrebench/sim/internal/r3"
 )
 
 const earthRadius = 6.37122e6 // Williamson et al. (1992, J. Comput. Phys. 102, 211–224), from memory
@@ -134,11 +136,11 @@ func TestIcosahedralGeometry(t *testing.T) {
 			m := icosa(t, n, opt)
 			a := earthRadius
 			onSphere := func(what string, i int, p vec3) {
-				if math.Abs(p.norm()-a) > 1e-9*a {
-					t.Fatalf("%s level %d: %s %d at radius %.10g, want %.10g", opt, n, what, i, p.norm(), a)
+				if math.Abs(p.Norm()-a) > 1e-9*a {
+					t.Fatalf("%s level %d: %s %d at radius %.10g, want %.10g", opt, n, what, i, p.Norm(), a)
 				}
 			}
-			chord := func(p, q vec3) float64 { return 2 * a * math.Asin(q.sub(p).norm()/(2*a)) }
+			chord := func(p, q vec3) float64 { return 2 * a * math.Asin(q.Sub(p).Norm()/(2*a)) }
 			for i := 0; i < m.NumCells; i++ {
 				x := cellPos(m, int32(i))
 				onSphere("cell", i, x)
@@ -148,8 +150,8 @@ func TestIcosahedralGeometry(t *testing.T) {
 					e1, e2 := int(m.CellEdges[k]), int(m.CellEdges[lo+(k+1-lo)%(hi-lo)])
 					// Directions to the edge points in the tangent plane at x.
 					p, q := edgePos(m, e1), edgePos(m, e2)
-					p, q = p.sub(x.scale(p.dot(x)/x.dot(x))), q.sub(x.scale(q.dot(x)/x.dot(x)))
-					turn += math.Atan2(p.cross(q).dot(x.unit()), p.dot(q))
+					p, q = p.Sub(x.Scale(p.Dot(x)/x.Dot(x))), q.Sub(x.Scale(q.Dot(x)/x.Dot(x)))
+					turn += math.Atan2(p.Cross(q).Dot(x.Unit()), p.Dot(q))
 				}
 				if math.Abs(turn-2*math.Pi) > 1e-9 {
 					t.Fatalf("%s level %d cell %d: edges turn by %g about the centre, want +2π (anticlockwise)", opt, n, i, turn)
@@ -178,14 +180,14 @@ func TestIcosahedralGeometry(t *testing.T) {
 				if l := chord(v0, v1); math.Abs(l-m.EdgeLength[e]) > 1e-9*l {
 					t.Fatalf("%s level %d edge %d: l_e = %g, chord formula %g", opt, n, e, m.EdgeLength[e], l)
 				}
-				if s := triple(v0.unit(), v1.unit(), x.unit()); math.Abs(s) > 1e-12 {
+				if s := r3.Triple(v0.Unit(), v1.Unit(), x.Unit()); math.Abs(s) > 1e-12 {
 					t.Fatalf("%s level %d edge %d: edge point off the great circle v0–v1 by %g", opt, n, e, s)
 				}
-				if math.Abs(nrm.norm()-1) > 1e-14 || math.Abs(nrm.dot(x.unit())) > 1e-14 {
+				if math.Abs(nrm.Norm()-1) > 1e-14 || math.Abs(nrm.Dot(x.Unit())) > 1e-14 {
 					t.Fatalf("%s level %d edge %d: n_e = %v is not a unit tangent", opt, n, e, nrm)
 				}
-				tan := x.unit().cross(nrm)
-				if nrm.dot(c1.sub(c0)) <= 0 || tan.dot(v1.sub(v0)) <= 0 {
+				tan := x.Unit().Cross(nrm)
+				if nrm.Dot(c1.Sub(c0)) <= 0 || tan.Dot(v1.Sub(v0)) <= 0 {
 					t.Fatalf("%s level %d edge %d: n_e must point from c0 to c1 and k × n_e from v0 to v1", opt, n, e)
 				}
 				// Local Delaunay: the far generator of each side's triangle
@@ -251,22 +253,22 @@ func bruteOffset(m *Mesh) float64 {
 	var sub func(a, b, c vec3, depth int) vec3
 	sub = func(a, b, c vec3, depth int) vec3 {
 		if depth == 0 {
-			return a.add(b).add(c).unit().scale(sphTriArea(a, b, c))
+			return a.Add(b).Add(c).Unit().Scale(r3.TriArea(a, b, c))
 		}
-		ab, bc, ca := a.add(b).unit(), b.add(c).unit(), c.add(a).unit()
-		return sub(a, ab, ca, depth-1).add(sub(ab, b, bc, depth-1)).add(sub(ca, bc, c, depth-1)).add(sub(ab, bc, ca, depth-1))
+		ab, bc, ca := a.Add(b).Unit(), b.Add(c).Unit(), c.Add(a).Unit()
+		return sub(a, ab, ca, depth-1).Add(sub(ab, b, bc, depth-1)).Add(sub(ca, bc, c, depth-1)).Add(sub(ab, bc, ca, depth-1))
 	}
 	worst := 0.0
 	for i := 0; i < m.NumCells; i++ {
-		x := cellPos(m, int32(i)).unit()
+		x := cellPos(m, int32(i)).Unit()
 		lo, hi := m.EdgesOfCell(i)
 		var s vec3
 		for k := lo; k < hi; k++ {
-			p := vertPos(m, m.CellVertices[k]).unit()
-			q := vertPos(m, m.CellVertices[lo+(k+1-lo)%(hi-lo)]).unit()
-			s = s.add(sub(x, p, q, 4))
+			p := vertPos(m, m.CellVertices[k]).Unit()
+			q := vertPos(m, m.CellVertices[lo+(k+1-lo)%(hi-lo)]).Unit()
+			s = s.Add(sub(x, p, q, 4))
 		}
-		worst = max(worst, arc(s.unit(), x))
+		worst = max(worst, arc(s.Unit(), x))
 	}
 	return worst * m.Surface.Radius
 }

@@ -172,26 +172,26 @@ func checkExactSequence(t *testing.T, m *Mesh, rng *rand.Rand) {
 			skew[e] = psi[m.EdgeVertices[2*e+1]] - psi[m.EdgeVertices[2*e]]
 		}
 		for v := 0; v < m.NumVertices; v++ {
-			lo, hi := m.EdgesOfVertex(v)
-			var c int64
-			for k := lo; k < hi; k++ {
-				c += int64(m.VertexEdgeSign[k]) * grad[m.VertexEdges[k]]
-			}
-			if c != 0 {
+			if c := signedRow(m.VertexEdgeStart, m.VertexEdges, m.VertexEdgeSign, grad, v); c != 0 {
 				t.Fatalf("%s n=%d: curl·grad = %d at vertex %d", m.Kind, m.N, c, v)
 			}
 		}
 		for i := 0; i < m.NumCells; i++ {
-			lo, hi := m.EdgesOfCell(i)
-			var d int64
-			for k := lo; k < hi; k++ {
-				d += int64(m.CellEdgeSign[k]) * skew[m.CellEdges[k]]
-			}
-			if d != 0 {
+			if d := signedRow(m.CellEdgeStart, m.CellEdges, m.CellEdgeSign, skew, i); d != 0 {
 				t.Fatalf("%s n=%d: div·curlᵀ = %d at cell %d", m.Kind, m.N, d, i)
 			}
 		}
 	}
+}
+
+// signedRow returns Σ_k sign[k]·f[edges[k]] over row i of an incidence in
+// CSR layout (start, edges, sign), in integers.
+func signedRow(start, edges []int32, sign []int8, f []int64, i int) int64 {
+	var s int64
+	for k := start[i]; k < start[i+1]; k++ {
+		s += int64(sign[k]) * f[edges[k]]
+	}
+	return s
 }
 
 // Thuburn et al. (2009, J. Comput. Phys. 228, §3–4): W antisymmetric, and

@@ -60,38 +60,29 @@ func Read(r io.Reader) (*File, error) {
 				return nil, fmt.Errorf("ncout: variable %q: %d value(s) from byte %d lie beyond the end of the %d-byte file", v.Name, count*n, h.begin[i], size)
 			}
 		}
-		total := count * n
 		switch v.Type {
 		case Int:
-			d := make([]int32, 0, total)
-			for k := int64(0); k < count; k++ {
-				b := chunk(k)
-				for j := int64(0); j < n; j++ {
-					d = append(d, int32(binary.BigEndian.Uint32(b[4*j:])))
-				}
-			}
-			v.Data = d
+			v.Data = decodeRuns(count, n, w, chunk, func(b []byte) int32 { return int32(binary.BigEndian.Uint32(b)) })
 		case Float:
-			d := make([]float32, 0, total)
-			for k := int64(0); k < count; k++ {
-				b := chunk(k)
-				for j := int64(0); j < n; j++ {
-					d = append(d, math.Float32frombits(binary.BigEndian.Uint32(b[4*j:])))
-				}
-			}
-			v.Data = d
+			v.Data = decodeRuns(count, n, w, chunk, func(b []byte) float32 { return math.Float32frombits(binary.BigEndian.Uint32(b)) })
 		case Double:
-			d := make([]float64, 0, total)
-			for k := int64(0); k < count; k++ {
-				b := chunk(k)
-				for j := int64(0); j < n; j++ {
-					d = append(d, math.Float64frombits(binary.BigEndian.Uint64(b[8*j:])))
-				}
-			}
-			v.Data = d
+			v.Data = decodeRuns(count, n, w, chunk, func(b []byte) float64 { return math.Float64frombits(binary.BigEndian.Uint64(b)) })
 		}
 	}
 	return f, nil
+}
+
+// decodeRuns decodes count runs of n values of w bytes each, run k being
+// chunk(k), with decode.
+func decodeRuns[T any](count, n, w int64, chunk func(k int64) []byte, decode func([]byte) T) []T {
+	d := make([]T, 0, count*n)
+	for k := int64(0); k < count; k++ {
+		b := chunk(k)
+		for j := int64(0); j < n; j++ {
+			d = append(d, decode(b[w*j:]))
+		}
+	}
+	return d
 }
 
 // header is what decodeHeader learns beyond the File: the stored sizes

@@ -359,20 +359,23 @@ func newMeshBuilder(m *mesh.Mesh, meta Meta, fields []Field, time bool) (*meshBu
 	conn("mesh_edge_faces", "edge_face_connectivity", "faces of each edge: n_e points from face 0 to face 1", []string{EdgeDim, TwoDim}, t.EdgeCells, true)
 
 	// Metric and edge normals.
-	f.AddVar(FaceAreaVar, Double, []string{FaceDim}, m.CellArea).
-		SetAttr("standard_name", "cell_area").
-		SetAttr("long_name", "area of each face (primal cell)").
-		SetAttr("units", "m2").
-		SetAttr("mesh", MeshVar).
-		SetAttr("location", string(Face)).
-		SetAttr("coordinates", b.coords[Face])
-	f.AddVar(NodeAreaVar, Double, []string{NodeDim}, m.VertexArea).
-		SetAttr("standard_name", "cell_area").
-		SetAttr("long_name", "area of the dual cell around each node (vertex)").
-		SetAttr("units", "m2").
-		SetAttr("mesh", MeshVar).
-		SetAttr("location", string(Node)).
-		SetAttr("coordinates", b.coords[Node])
+	for _, a := range []struct {
+		name, dim string
+		loc       Location
+		long      string
+		area      []float64
+	}{
+		{FaceAreaVar, FaceDim, Face, "area of each face (primal cell)", m.CellArea},
+		{NodeAreaVar, NodeDim, Node, "area of the dual cell around each node (vertex)", m.VertexArea},
+	} {
+		f.AddVar(a.name, Double, []string{a.dim}, a.area).
+			SetAttr("standard_name", "cell_area").
+			SetAttr("long_name", a.long).
+			SetAttr("units", "m2").
+			SetAttr("mesh", MeshVar).
+			SetAttr("location", string(a.loc)).
+			SetAttr("coordinates", b.coords[a.loc])
+	}
 	comps := []struct {
 		c string
 		d []float64

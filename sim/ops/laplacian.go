@@ -137,26 +137,25 @@ func (L *VectorLaplacian) lapFlux(lo, hi int) { L.star.Flux(L.flux, L.circ, lo, 
 // lapCells sets δ_i = (1/A_i) Σ n_{e,i} F_e.
 func (L *VectorLaplacian) lapCells(lo, hi int) {
 	g := L.g
-	start, edges, sign, area, F := g.CellEdgeStart, g.CellEdges, g.CellEdgeSign, g.CellArea, L.flux
-	for i := lo; i < hi; i++ {
-		var s float64
-		for k := start[i]; k < start[i+1]; k++ {
-			s += float64(sign[k]) * F[edges[k]]
-		}
-		L.Div[i] = s / area[i]
-	}
+	signedMeans(L.Div, L.flux, g.CellEdgeStart, g.CellEdges, g.CellEdgeSign, g.CellArea, lo, hi)
 }
 
 // lapVertices sets ζ_v = (1/A_v) Σ t_{e,v} c_e.
 func (L *VectorLaplacian) lapVertices(lo, hi int) {
 	g := L.g
-	start, edges, sign, area, c := g.VertexEdgeStart, g.VertexEdges, g.VertexEdgeSign, g.VertexArea, L.circ
-	for v := lo; v < hi; v++ {
+	signedMeans(L.Zeta, L.circ, g.VertexEdgeStart, g.VertexEdges, g.VertexEdgeSign, g.VertexArea, lo, hi)
+}
+
+// signedMeans sets out[i] = (1/area[i]) Σ_k sign[k] f[edges[k]] over k in
+// [start[i], start[i+1]), for i in [lo, hi): the divergence of an edge
+// flux on the cells, or the curl of an edge circulation on the vertices.
+func signedMeans(out, f []float64, start, edges []int32, sign []int8, area []float64, lo, hi int) {
+	for i := lo; i < hi; i++ {
 		var s float64
-		for k := start[v]; k < start[v+1]; k++ {
-			s += float64(sign[k]) * c[edges[k]]
+		for k := start[i]; k < start[i+1]; k++ {
+			s += float64(sign[k]) * f[edges[k]]
 		}
-		L.Zeta[v] = s / area[v]
+		out[i] = s / area[i]
 	}
 }
 

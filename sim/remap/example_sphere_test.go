@@ -35,13 +35,6 @@ func Example_sphere() {
 	y := make([]float64, dst.NumCells+dst.NumEdges)
 	r.Apply(y, x)
 
-	mass := func(m *mesh.Mesh, h []float64) float64 {
-		s := 0.0
-		for i, v := range h {
-			s += m.CellArea[i] * v
-		}
-		return s
-	}
 	m0, m1 := mass(src, x[:src.NumCells]), mass(dst, y[:dst.NumCells])
 	fmt.Println("mass kept to 1e-13:", math.Abs(m1-m0) <= 1e-13*m0)
 	worst := 0.0

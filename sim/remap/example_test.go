@@ -8,6 +8,16 @@ import (
 	"gyrebench/sim/remap"
 )
 
+// mass returns Σ_i A_i h_i, the integral of the cell field h over mesh m
+// (the volume of fluid when h is the depth).
+func mass(m *mesh.Mesh, h []float64) float64 {
+	s := 0.0
+	for i, v := range h {
+		s += m.CellArea[i] * v
+	}
+	return s
+}
+
 // Switch a run from a hexagonal to a finer triangular mesh of the same
 // domain: depth and bottom height are remapped conservatively, the normal
 // velocities by a least-squares reconstruction.
@@ -38,13 +48,6 @@ func Example() {
 	newBottom := make([]float64, dst.NumCells)
 	r.Cells(newBottom, bottom)
 
-	mass := func(m *mesh.Mesh, h []float64) float64 {
-		s := 0.0
-		for i, v := range h {
-			s += m.CellArea[i] * v
-		}
-		return s
-	}
 	m0, m1 := mass(src, x[:src.NumCells]), mass(dst, y[:dst.NumCells])
 	fmt.Println("mass kept to 1e-13:", math.Abs(m1-m0) <= 1e-13*m0)
 	fmt.Println("bottom volume kept to 1e-13:", math.Abs(mass(dst, newBottom)-mass(src, bottom)) <= 1e-13*mass(src, bottom))

@@ -188,13 +188,7 @@ func (r *Remapper) Cells(dst, src []float64) {
 	if len(dst) != r.dstCells || len(src) != r.srcCells {
 		panic(fmt.Sprintf("remap: Cells needs %d → %d values, got %d → %d", r.srcCells, r.dstCells, len(src), len(dst)))
 	}
-	for j := range dst {
-		s := 0.0
-		for k := r.cellStart[j]; k < r.cellStart[j+1]; k++ {
-			s += r.cellW[k] * src[r.cellFrom[k]]
-		}
-		dst[j] = s
-	}
+	sparseApply(dst, src, r.cellStart, r.cellFrom, r.cellW)
 }
 
 // Velocity remaps normal velocities on the source edges to normal
@@ -207,12 +201,19 @@ func (r *Remapper) Velocity(dst, src []float64) {
 		copy(dst, src)
 		return
 	}
-	for e := range dst {
+	sparseApply(dst, src, r.edgeStart, r.edgeFrom, r.edgeW)
+}
+
+// sparseApply sets dst[j] = Σ_k w[k] src[from[k]] over k in
+// [start[j], start[j+1]), in order: a product by a sparse matrix in CSR
+// layout.
+func sparseApply(dst, src []float64, start, from []int32, w []float64) {
+	for j := range dst {
 		s := 0.0
-		for k := r.edgeStart[e]; k < r.edgeStart[e+1]; k++ {
-			s += r.edgeW[k] * src[r.edgeFrom[k]]
+		for k := start[j]; k < start[j+1]; k++ {
+			s += w[k] * src[from[k]]
 		}
-		dst[e] = s
+		dst[j] = s
 	}
 }
 
@@ -372,14 +373,7 @@ func span(a, b, w float64, n int) (int, int) {
 // pair of old and new cells.
 func (r *Remapper) cellWeights(src, dst *mesh.Mesh, sp, dp *polys, grid *buckets) error {
 	nd := dst.NumCells
-	r.cellStart = make([]int32, nd+1)
-	r.cellFrom = make([]int32, 0, 2*(src.NumCells+nd))
-	r.cellW = make([]float64, 0, 2*(src.NumCells+nd))
-	stamp := make([]int32, src.NumCells)
-	for i := range stamp {
-		stamp[i] = -1
-	}
-	srcCover := make([]float64, src.NumCells)
+	stamp, srcCover := r.startCells(src.NumCells, nd)
 	var cand []int32
 	var sc scratch
 	var qx, qy []float64
@@ -411,25 +405,61 @@ func (r *Remapper) cellWeights(src, dst *mesh.Mesh, sp, dp *polys, grid *buckets
 			if !(a > 0) {
 				continue
 			}
-			r.cellFrom = append(r.cellFrom, i)
-			r.cellW = append(r.cellW, a)
-			srcCover[i] += a
-			cover += a
+			cover += r.addPiece(i, a, srcCover)
 		}
-		if math.Abs(cover-dp.area[j]) > coverTol*dp.area[j] {
-			return fmt.Errorf("remap: old cells cover %.12g of the %.12g m² of new cell %d (%s n=%d → %s n=%d): the meshes do not tile the same domain",
-				cover, dp.area[j], j, src.Kind, src.N, dst.Kind, dst.N)
+		if err := r.closeCell(j, cover, dp.area[j], src, dst, "domain"); err != nil {
+			return err
 		}
-		inv := 1 / dp.area[j]
-		for k := r.cellStart[j]; k < int32(len(r.cellW)); k++ {
-			r.cellW[k] *= inv
-		}
-		r.cellStart[j+1] = int32(len(r.cellW))
 	}
+	return checkSourceCover(srcCover, sp.area, src, dst, "domain")
+}
+
+// startCells allocates the conservative cell map from ns old cells to nd
+// new ones, and returns a stamp per old cell (all −1: visited for no new
+// cell yet) and the sum of the pieces of each old cell (zero).
+func (r *Remapper) startCells(ns, nd int) (stamp []int32, srcCover []float64) {
+	r.cellStart = make([]int32, nd+1)
+	r.cellFrom = make([]int32, 0, 2*(ns+nd))
+	r.cellW = make([]float64, 0, 2*(ns+nd))
+	stamp = make([]int32, ns)
+	for i := range stamp {
+		stamp[i] = -1
+	}
+	return stamp, make([]float64, ns)
+}
+
+// addPiece adds the piece of area a of old cell i to the new cell being
+// built and returns a.
+func (r *Remapper) addPiece(i int32, a float64, srcCover []float64) float64 {
+	r.cellFrom = append(r.cellFrom, i)
+	r.cellW = append(r.cellW, a)
+	srcCover[i] += a
+	return a
+}
+
+// closeCell ends new cell j, whose pieces sum to cover: it checks that
+// they cover its area, and turns them into weights (fractions of it).
+// surface names what the meshes must both tile, for the message.
+func (r *Remapper) closeCell(j int, cover, area float64, src, dst *mesh.Mesh, surface string) error {
+	if math.Abs(cover-area) > coverTol*area {
+		return fmt.Errorf("remap: old cells cover %.12g of the %.12g m² of new cell %d (%s n=%d → %s n=%d): the meshes do not tile the same %s",
+			cover, area, j, src.Kind, src.N, dst.Kind, dst.N, surface)
+	}
+	inv := 1 / area
+	for k := r.cellStart[j]; k < int32(len(r.cellW)); k++ {
+		r.cellW[k] *= inv
+	}
+	r.cellStart[j+1] = int32(len(r.cellW))
+	return nil
+}
+
+// checkSourceCover checks that the pieces of each old cell, summed in
+// srcCover, cover its area.
+func checkSourceCover(srcCover, area []float64, src, dst *mesh.Mesh, surface string) error {
 	for i, c := range srcCover {
-		if math.Abs(c-sp.area[i]) > coverTol*sp.area[i] {
-			return fmt.Errorf("remap: new cells cover %.12g of the %.12g m² of old cell %d (%s n=%d → %s n=%d): the meshes do not tile the same domain",
-				c, sp.area[i], i, src.Kind, src.N, dst.Kind, dst.N)
+		if math.Abs(c-area[i]) > coverTol*area[i] {
+			return fmt.Errorf("remap: new cells cover %.12g of the %.12g m² of old cell %d (%s n=%d → %s n=%d): the meshes do not tile the same %s",
+				c, area[i], i, src.Kind, src.N, dst.Kind, dst.N, surface)
 		}
 	}
 	return nil
@@ -503,33 +533,22 @@ func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) er
 				src.Kind, src.N, e, dst.EdgeX[e], dst.EdgeY[e], dst.Kind, dst.N)
 		}
 		host[e] = int32(i)
-		r.edgeStart[e+1] = r.edgeStart[e] + st.start[i+1] - st.start[i]
 	}
-	r.edgeFrom = make([]int32, r.edgeStart[ne])
-	r.edgeW = make([]float64, r.edgeStart[ne])
-	first, byHost := groupByHost(host, nc)
-	var phi [][6]float64
+	first, byHost := r.startEdges(host, st, nc)
+	var fit edgeFit
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {
 			continue
 		}
 		es := st.edge[st.start[i]:st.start[i+1]]
 		s := sp.size[i]
-		phi = phi[:0]
-		var a [6][6]float64
+		fit.reset()
 		for _, e := range es {
 			rx, ry := wrap(src.EdgeX[e]-sp.cx[i], sp.lx)/s, wrap(src.EdgeY[e]-sp.cy[i], sp.ly)/s
 			nx, ny := src.NormalX[e], src.NormalY[e]
-			f := [6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry}
-			for p := 0; p < 6; p++ {
-				for q := 0; q <= p; q++ {
-					a[p][q] += f[p] * f[q]
-				}
-			}
-			phi = append(phi, f)
+			fit.add([6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry})
 		}
-		var l chol6
-		if !l.factor(&a) {
+		if !fit.factor() {
 			return fmt.Errorf("remap: the velocity fit of %s n=%d cell %d is degenerate (%d edges)", src.Kind, src.N, i, len(es))
 		}
 		for _, e := range byHost[first[i]:first[i+1]] {
@@ -537,20 +556,67 @@ func (r *Remapper) edgeWeights(src, dst *mesh.Mesh, sp *polys, grid *buckets) er
 			// ρ = (x_e − x_i)/√A_i; the weight of old edge k is φ_k·z.
 			rx, ry := wrap(dst.EdgeX[e]-sp.cx[i], sp.lx)/s, wrap(dst.EdgeY[e]-sp.cy[i], sp.ly)/s
 			nx, ny := dst.NormalX[e], dst.NormalY[e]
-			z := [6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry}
-			l.solve(&z)
-			k0 := r.edgeStart[e]
-			for k, f := range phi {
-				w := 0.0
-				for c := range f {
-					w += f[c] * z[c]
-				}
-				r.edgeFrom[k0+int32(k)] = es[k]
-				r.edgeW[k0+int32(k)] = w
-			}
+			fit.weights(r, e, [6]float64{nx, ny, nx * rx, nx * ry, ny * rx, ny * ry}, es)
 		}
 	}
 	return nil
+}
+
+// startEdges lays out the edge map: new edge e takes one weight per edge
+// of the stencil of its host old cell host[e] (r.edgeStart must have
+// len(host)+1 entries). It returns the new edges grouped by host, as
+// groupByHost does for nc old cells.
+func (r *Remapper) startEdges(host []int32, st *stencils, nc int) (first, byHost []int32) {
+	for e, i := range host {
+		r.edgeStart[e+1] = r.edgeStart[e] + st.start[i+1] - st.start[i]
+	}
+	ne := len(host)
+	r.edgeFrom = make([]int32, r.edgeStart[ne])
+	r.edgeW = make([]float64, r.edgeStart[ne])
+	return groupByHost(host, nc)
+}
+
+// edgeFit is the least-squares fit of six unknowns to the normal
+// velocities on the edges of one old cell: the rows φ_k, one per old
+// edge, and the Cholesky factor of the normal matrix M = Σ_k φ_k φ_kᵀ.
+type edgeFit struct {
+	a   [6][6]float64 // the lower triangle of M
+	phi [][6]float64
+	l   chol6
+}
+
+func (f *edgeFit) reset() {
+	f.a = [6][6]float64{}
+	f.phi = f.phi[:0]
+}
+
+// add adds the row of one old edge.
+func (f *edgeFit) add(row [6]float64) {
+	for p := 0; p < 6; p++ {
+		for q := 0; q <= p; q++ {
+			f.a[p][q] += row[p] * row[q]
+		}
+	}
+	f.phi = append(f.phi, row)
+}
+
+// factor factors M; it reports false when the fit is degenerate.
+func (f *edgeFit) factor() bool { return f.l.factor(&f.a) }
+
+// weights stores in r the weights of new edge e on the old edges es (in
+// the order of add): with z = M⁻¹ψ, ψ the row of the new edge, the
+// weight of old edge k is φ_k·z.
+func (f *edgeFit) weights(r *Remapper, e int32, psi [6]float64, es []int32) {
+	f.l.solve(&psi)
+	k0 := r.edgeStart[e]
+	for k, row := range f.phi {
+		w := 0.0
+		for q := range row {
+			w += row[q] * psi[q]
+		}
+		r.edgeFrom[k0+int32(k)] = es[k]
+		r.edgeW[k0+int32(k)] = w
+	}
 }
 
 // locate returns the old cell containing (x, y): of the candidates in the

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"gyrebench/sim/internal/r3"
 	"gyrebench/sim/mesh"
 )
 
@@ -19,37 +20,7 @@ const radiusTol = 1e-12
 const insideTol = 1e-12
 
 // vec3 is a point or direction in R³; on the unit sphere for positions.
-type vec3 [3]float64
-
-func (a vec3) add(b vec3) vec3      { return vec3{a[0] + b[0], a[1] + b[1], a[2] + b[2]} }
-func (a vec3) sub(b vec3) vec3      { return vec3{a[0] - b[0], a[1] - b[1], a[2] - b[2]} }
-func (a vec3) scale(s float64) vec3 { return vec3{s * a[0], s * a[1], s * a[2]} }
-func (a vec3) dot(b vec3) float64   { return a[0]*b[0] + a[1]*b[1] + a[2]*b[2] }
-func (a vec3) norm() float64        { return math.Sqrt(a.dot(a)) }
-func (a vec3) unit() vec3           { return a.scale(1 / a.norm()) }
-func (a vec3) cross(b vec3) vec3 {
-	return vec3{a[1]*b[2] - a[2]*b[1], a[2]*b[0] - a[0]*b[2], a[0]*b[1] - a[1]*b[0]}
-}
-
-// sphTriArea returns the signed area of the spherical triangle abc on the
-// unit sphere, positive when abc is anticlockwise seen from outside
-// (Eriksson 1990, Math. Mag. 63, 184–187: tan(E/2) = a·(b×c) /
-// (1 + a·b + b·c + c·a)); the triple product is formed from differences so
-// that small triangles keep their relative precision (as package mesh does).
-func sphTriArea(a, b, c vec3) float64 {
-	return 2 * math.Atan2(a.dot(b.sub(a).cross(c.sub(a))), 1+a.dot(b)+b.dot(c)+c.dot(a))
-}
-
-// tangentBasis returns unit vectors e1, e2 spanning the tangent plane at
-// the unit vector p, with (e1, e2, p) right-handed.
-func tangentBasis(p vec3) (e1, e2 vec3) {
-	ref := vec3{0, 0, 1}
-	if math.Abs(p[2]) > 0.9 {
-		ref = vec3{1, 0, 0}
-	}
-	e1 = ref.cross(p).unit()
-	return e1, p.cross(e1)
-}
+type vec3 = r3.Vec
 
 // sphPolys holds the cells of a sphere mesh as geodesic polygons on the
 // unit sphere, in the cell CSR layout of the mesh: corner k of cell i
@@ -80,21 +51,21 @@ func newSphPolys(m *mesh.Mesh) (*sphPolys, error) {
 		area:   m.CellArea,
 	}
 	for i := 0; i < nc; i++ {
-		c := vec3{m.CellX[i] * inv, m.CellY[i] * inv, m.CellZ[i] * inv}.unit()
+		c := vec3{m.CellX[i] * inv, m.CellY[i] * inv, m.CellZ[i] * inv}.Unit()
 		p.centre[i] = c
 		lo, hi := m.EdgesOfCell(i)
 		for k := lo; k < hi; k++ {
 			v := m.CellVertices[k]
-			p.corner[k] = vec3{m.VertexX[v] * inv, m.VertexY[v] * inv, m.VertexZ[v] * inv}.unit()
-			p.reach[i] = max(p.reach[i], p.corner[k].sub(c).norm())
+			p.corner[k] = vec3{m.VertexX[v] * inv, m.VertexY[v] * inv, m.VertexZ[v] * inv}.Unit()
+			p.reach[i] = max(p.reach[i], p.corner[k].Sub(c).Norm())
 		}
 		for k := lo; k < hi; k++ {
 			a, b := p.corner[prev(k, lo, hi)], p.corner[k]
-			n := a.cross(b.sub(a)) // a × b, from the difference
-			if !(n.dot(c) > 0) {
+			n := a.Cross(b.Sub(a)) // a × b, from the difference
+			if !(n.Dot(c) > 0) {
 				return nil, fmt.Errorf("remap: cell %d of %s n=%d is not a convex polygon listed anticlockwise about its centre", i, m.Kind, m.N)
 			}
-			p.plane[k] = n.unit()
+			p.plane[k] = n.Unit()
 		}
 	}
 	return p, nil
@@ -123,7 +94,7 @@ func (p *sphPolys) depth(i int32, x vec3) (float64, int) {
 	lo, hi := p.m.EdgesOfCell(int(i))
 	d, side := math.Inf(1), lo
 	for k := lo; k < hi; k++ {
-		if s := p.plane[k].dot(x); s < d {
+		if s := p.plane[k].Dot(x); s < d {
 			d, side = s, k
 		}
 	}
@@ -139,13 +110,13 @@ func (p *sphPolys) depth(i int32, x vec3) (float64, int) {
 // side x is farthest outside of, and as a last resort every cell is tried,
 // so the answer is always the cell that x is deepest in.
 func (p *sphPolys) locate(x vec3, from int32) (int32, int) {
-	i, best, steps := from, x.dot(p.centre[from]), 0
+	i, best, steps := from, x.Dot(p.centre[from]), 0
 	for {
 		next := int32(-1)
 		lo, hi := p.m.EdgesOfCell(int(i))
 		for k := lo; k < hi; k++ {
 			nb := p.across(i, k)
-			if d := x.dot(p.centre[nb]); d > best {
+			if d := x.Dot(p.centre[nb]); d > best {
 				best, next = d, nb
 			}
 		}
@@ -199,16 +170,16 @@ func (s *sphClip) overlap(pc []vec3, planes []vec3) (float64, int) {
 		}
 		out = out[:0]
 		pv := in[len(in)-1]
-		dp := n.dot(pv)
+		dp := n.Dot(pv)
 		for _, cv := range in {
-			dc := n.dot(cv)
+			dc := n.Dot(cv)
 			if dc >= 0 {
 				if dp < 0 { // entering
-					out = append(out, pv.add(cv.sub(pv).scale(dp/(dp-dc))).unit())
+					out = append(out, pv.Add(cv.Sub(pv).Scale(dp/(dp-dc))).Unit())
 				}
 				out = append(out, cv)
 			} else if dp >= 0 { // leaving
-				out = append(out, pv.add(cv.sub(pv).scale(dp/(dp-dc))).unit())
+				out = append(out, pv.Add(cv.Sub(pv).Scale(dp/(dp-dc))).Unit())
 			}
 			pv, dp = cv, dc
 		}
@@ -217,7 +188,7 @@ func (s *sphClip) overlap(pc []vec3, planes []vec3) (float64, int) {
 	s.a, s.b = in, out
 	a := 0.0
 	for k := 2; k < len(in); k++ {
-		a += sphTriArea(in[0], in[k-1], in[k])
+		a += r3.TriArea(in[0], in[k-1], in[k])
 	}
 	return a, len(in)
 }
@@ -330,14 +301,7 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 	src, dst := sp.m, dp.m
 	nd := dst.NumCells
 	r2 := dst.Surface.Radius * dst.Surface.Radius
-	r.cellStart = make([]int32, nd+1)
-	r.cellFrom = make([]int32, 0, 2*(src.NumCells+nd))
-	r.cellW = make([]float64, 0, 2*(src.NumCells+nd))
-	stamp := make([]int32, src.NumCells)
-	for i := range stamp {
-		stamp[i] = -1
-	}
-	srcCover := make([]float64, src.NumCells)
+	stamp, srcCover := r.startCells(src.NumCells, nd)
 	var queue []int32
 	var sc sphClip
 	for j := 0; j < nd; j++ {
@@ -349,7 +313,7 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 		cover := 0.0
 		for q := 0; q < len(queue); q++ {
 			i := queue[q]
-			if sp.centre[i].sub(cj).norm() > sp.reach[i]+reach {
+			if sp.centre[i].Sub(cj).Norm() > sp.reach[i]+reach {
 				continue // no common point: the chords obey the triangle inequality
 			}
 			r.clipped++
@@ -359,11 +323,7 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 				continue
 			}
 			if a > 0 {
-				a *= r2
-				r.cellFrom = append(r.cellFrom, i)
-				r.cellW = append(r.cellW, a)
-				srcCover[i] += a
-				cover += a
+				cover += r.addPiece(i, a*r2, srcCover)
 			}
 			for k := lo; k < hi; k++ {
 				if nb := sp.across(i, k); stamp[nb] != int32(j) {
@@ -372,21 +332,14 @@ func (r *Remapper) sphCellWeights(sp, dp *sphPolys, host []int32) error {
 				}
 			}
 		}
-		if math.Abs(cover-dp.area[j]) > coverTol*dp.area[j] {
-			return fmt.Errorf("remap: old cells cover %.12g of the %.12g m² of new cell %d (%s n=%d → %s n=%d): the meshes do not tile the same sphere",
-				cover, dp.area[j], j, src.Kind, src.N, dst.Kind, dst.N)
+		if err := r.closeCell(j, cover, dp.area[j], src, dst, "sphere"); err != nil {
+			return err
 		}
-		inv := 1 / dp.area[j]
-		for k := r.cellStart[j]; k < int32(len(r.cellW)); k++ {
-			r.cellW[k] *= inv
-		}
-		r.cellStart[j+1] = int32(len(r.cellW))
+	}
+	if err := checkSourceCover(srcCover, sp.area, src, dst, "sphere"); err != nil {
+		return err
 	}
 	for i, c := range srcCover {
-		if math.Abs(c-sp.area[i]) > coverTol*sp.area[i] {
-			return fmt.Errorf("remap: new cells cover %.12g of the %.12g m² of old cell %d (%s n=%d → %s n=%d): the meshes do not tile the same sphere",
-				c, sp.area[i], i, src.Kind, src.N, dst.Kind, dst.N)
-		}
 		srcCover[i] = sp.area[i] / c
 	}
 	// The pieces of old cell i now sum to the mesh's A_i exactly, so that
@@ -408,12 +361,12 @@ type sphFrame struct {
 // row returns φ(x, n), the normal component along n at the unit vector x
 // of the six fields of the fit (see sphEdgeWeights).
 func (f *sphFrame) row(x, n vec3) [6]float64 {
-	w := x.cross(n) // n·(Ω × x) = Ω·(x × n)
-	ne1, ne2 := n.dot(f.e1), n.dot(f.e2)
-	xe1, xe2 := x.dot(f.e1), x.dot(f.e2)
+	w := x.Cross(n) // n·(Ω × x) = Ω·(x × n)
+	ne1, ne2 := n.Dot(f.e1), n.Dot(f.e2)
+	xe1, xe2 := x.Dot(f.e1), x.Dot(f.e2)
 	return [6]float64{
-		w.dot(f.e1), w.dot(f.e2), w.dot(f.c) * f.inv,
-		n.dot(f.c) * f.inv,
+		w.Dot(f.e1), w.Dot(f.e2), w.Dot(f.c) * f.inv,
+		n.Dot(f.c) * f.inv,
 		(ne1*xe1 - ne2*xe2) * f.inv, (ne1*xe2 + ne2*xe1) * f.inv,
 	}
 }
@@ -443,56 +396,35 @@ func (r *Remapper) sphEdgeWeights(sp *sphPolys, dst *mesh.Mesh, host []int32) er
 	edgeHost := make([]int32, ne)
 	r.edgeStart = make([]int32, ne+1)
 	for e := 0; e < ne; e++ {
-		x := vec3{dst.EdgeX[e] * rd, dst.EdgeY[e] * rd, dst.EdgeZ[e] * rd}.unit()
+		x := vec3{dst.EdgeX[e] * rd, dst.EdgeY[e] * rd, dst.EdgeZ[e] * rd}.Unit()
 		i, steps := sp.locate(x, host[dst.EdgeCells[2*e]])
 		r.walked += steps
 		edgeHost[e] = i
-		r.edgeStart[e+1] = r.edgeStart[e] + st.start[i+1] - st.start[i]
 	}
-	r.edgeFrom = make([]int32, r.edgeStart[ne])
-	r.edgeW = make([]float64, r.edgeStart[ne])
-	first, byHost := groupByHost(edgeHost, nc)
-	var phi [][6]float64
+	first, byHost := r.startEdges(edgeHost, st, nc)
+	var fit edgeFit
 	for i := 0; i < nc; i++ {
 		if first[i] == first[i+1] {
 			continue
 		}
 		c := sp.centre[i]
-		e1, e2 := tangentBasis(c)
+		e1, e2 := r3.TangentBasis(c)
 		f := sphFrame{c: c, e1: e1, e2: e2, inv: src.Surface.Radius / math.Sqrt(sp.area[i])}
 		es := st.edge[st.start[i]:st.start[i+1]]
-		phi = phi[:0]
-		var a [6][6]float64
+		fit.reset()
 		for _, e := range es {
 			x := vec3{src.EdgeX[e] * rs, src.EdgeY[e] * rs, src.EdgeZ[e] * rs}
 			n := vec3{src.NormalX[e], src.NormalY[e], src.NormalZ[e]}
-			row := f.row(x, n)
-			for p := 0; p < 6; p++ {
-				for q := 0; q <= p; q++ {
-					a[p][q] += row[p] * row[q]
-				}
-			}
-			phi = append(phi, row)
+			fit.add(f.row(x, n))
 		}
-		var l chol6
-		if !l.factor(&a) {
+		if !fit.factor() {
 			return fmt.Errorf("remap: the velocity fit of %s n=%d cell %d is degenerate (%d edges)", src.Kind, src.N, i, len(es))
 		}
 		for _, e := range byHost[first[i]:first[i+1]] {
 			// z = M⁻¹ψ with ψ = φ(x_e', n_e'); the weight of old edge k is φ_k·z.
 			x := vec3{dst.EdgeX[e] * rd, dst.EdgeY[e] * rd, dst.EdgeZ[e] * rd}
 			n := vec3{dst.NormalX[e], dst.NormalY[e], dst.NormalZ[e]}
-			z := f.row(x, n)
-			l.solve(&z)
-			k0 := r.edgeStart[e]
-			for k, row := range phi {
-				w := 0.0
-				for q := range row {
-					w += row[q] * z[q]
-				}
-				r.edgeFrom[k0+int32(k)] = es[k]
-				r.edgeW[k0+int32(k)] = w
-			}
+			fit.weights(r, e, f.row(x, n), es)
 		}
 	}
 	return nil

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/mesh"
 )
 
@@ -50,14 +51,14 @@ var spherePairs = []spherePair{
 	{0, 1, "none", "none"}, {1, 0, "none", "none"},
 }
 
-func unitPos(x, y, z float64) vec3 { return vec3{x, y, z}.unit() }
+func unitPos(x, y, z float64) vec3 { return vec3{x, y, z}.Unit() }
 
 // sphereFlow sets u_e = v(x_e)·n_e for a tangent field given on the unit
 // sphere.
 func sphereFlow(m *mesh.Mesh, u []float64, v func(x vec3) vec3) {
 	for e := range u {
 		x := unitPos(m.EdgeX[e], m.EdgeY[e], m.EdgeZ[e])
-		u[e] = v(x).dot(vec3{m.NormalX[e], m.NormalY[e], m.NormalZ[e]})
+		u[e] = v(x).Dot(vec3{m.NormalX[e], m.NormalY[e], m.NormalZ[e]})
 	}
 }
 
@@ -136,31 +137,7 @@ func TestSphereIdentity(t *testing.T) {
 		opt string
 	}{{2, "none"}, {4, "none"}, {3, "lloyd"}} {
 		a, b := ico(t, c.n, c.opt), ico(t, c.n, c.opt)
-		r, err := New(a, b)
-		if err != nil {
-			t.Fatal(err)
-		}
-		x := make([]float64, a.NumCells+a.NumEdges)
-		for k := range x {
-			x[k] = rng.NormFloat64()
-		}
-		for i := 0; i < a.NumCells; i++ {
-			x[i] += 1000
-		}
-		y := make([]float64, len(x))
-		r.Apply(y, x)
-		for i := 0; i < a.NumCells; i++ {
-			if math.Abs(y[i]-x[i]) > 1e-13*x[i] {
-				t.Errorf("%s: identity changes h[%d] from %.17g to %.17g", icoName(a, c.opt), i, x[i], y[i])
-				break
-			}
-		}
-		for e := a.NumCells; e < len(x); e++ {
-			if y[e] != x[e] {
-				t.Errorf("%s: identity changes u[%d] from %g to %g", icoName(a, c.opt), e-a.NumCells, x[e], y[e])
-				break
-			}
-		}
+		checkIdentity(t, icoName(a, c.opt), a, b, rng)
 	}
 }
 
@@ -172,7 +149,7 @@ func TestSphereIdentity(t *testing.T) {
 // arbitrary.
 func TestSphereSolidBodyExact(t *testing.T) {
 	u0 := 2 * math.Pi * earthRadius / (12 * 86400)
-	axes := []vec3{{0, 0, 1}, {-math.Sin(math.Pi / 4), 0, math.Cos(math.Pi / 4)}, vec3{0.3, -0.5, 0.8}.unit()}
+	axes := []vec3{{0, 0, 1}, {-math.Sin(math.Pi / 4), 0, math.Cos(math.Pi / 4)}, vec3{0.3, -0.5, 0.8}.Unit()}
 	pairs := append([]spherePair{{5, 6, "none", "none"}, {6, 5, "none", "none"}}, spherePairs...)
 	for _, p := range pairs {
 		src, dst := p.build(t)
@@ -182,7 +159,7 @@ func TestSphereSolidBodyExact(t *testing.T) {
 		}
 		worst := 0.0
 		for _, ax := range axes {
-			rot := func(x vec3) vec3 { return ax.cross(x).scale(u0) }
+			rot := func(x vec3) vec3 { return ax.Cross(x).Scale(u0) }
 			u, want, got := make([]float64, src.NumEdges), make([]float64, dst.NumEdges), make([]float64, dst.NumEdges)
 			sphereFlow(src, u, rot)
 			sphereFlow(dst, want, rot)
@@ -202,7 +179,7 @@ func TestSphereSolidBodyExact(t *testing.T) {
 // sphere of a smooth field of R³.
 func smoothFlow(x vec3) vec3 {
 	g := vec3{math.Sin(2*x[1]) + x[2], math.Cos(3 * x[0]), x[0]*x[1] - 0.5*x[2]*x[2]}
-	return g.sub(x.scale(g.dot(x)))
+	return g.Sub(x.Scale(g.Dot(x)))
 }
 
 // centroid returns the spherical centroid of cell i, by the first moment
@@ -216,10 +193,10 @@ func centroid(m *mesh.Mesh, i int) vec3 {
 		a, b := m.CellVertices[prev(k, lo, hi)], m.CellVertices[k]
 		va := unitPos(m.VertexX[a], m.VertexY[a], m.VertexZ[a])
 		vb := unitPos(m.VertexX[b], m.VertexY[b], m.VertexZ[b])
-		c := va.cross(vb)
-		s = s.add(c.scale(math.Atan2(c.norm(), va.dot(vb)) / c.norm()))
+		c := va.Cross(vb)
+		s = s.Add(c.Scale(math.Atan2(c.Norm(), va.Dot(vb)) / c.Norm()))
 	}
-	return s.unit()
+	return s.Unit()
 }
 
 // smoothDepth is H + A·Y₂¹-like: sin θ cos θ cos λ = x z on the unit
@@ -271,26 +248,9 @@ func TestSphereSmoothFieldsConverge(t *testing.T) {
 		var eu, eh []float64
 		for _, l := range c.levels {
 			src, dst := c.pair(l).build(t)
-			r, err := New(src, dst)
-			if err != nil {
-				t.Fatal(err)
-			}
-			x := make([]float64, src.NumCells+src.NumEdges)
-			for i := 0; i < src.NumCells; i++ {
-				x[i] = smoothDepth(centroid(src, i))
-			}
-			sphereFlow(src, x[src.NumCells:], smoothFlow)
-			y := make([]float64, dst.NumCells+dst.NumEdges)
-			r.Apply(y, x)
-			want := make([]float64, dst.NumEdges)
-			sphereFlow(dst, want, smoothFlow)
-			du, dh := 0.0, 0.0
-			for e, w := range want {
-				du = max(du, math.Abs(y[dst.NumCells+e]-w))
-			}
-			for j := 0; j < dst.NumCells; j++ {
-				dh = max(dh, math.Abs(y[j]-smoothDepth(centroid(dst, j))))
-			}
+			du, dh := remapErrors(t, src, dst,
+				func(m *mesh.Mesh, i int) float64 { return smoothDepth(centroid(m, i)) },
+				func(m *mesh.Mesh, u []float64) { sphereFlow(m, u, smoothFlow) })
 			if bound := grad * (diameter(src) + diameter(dst)); !(dh <= bound) {
 				t.Errorf("%s, %v: depth error %.3g m above the first-order bound %.3g m", c.name, c.pair(l), dh, bound)
 			}
@@ -326,15 +286,7 @@ func TestSphereErrors(t *testing.T) {
 		{"no cells", a, &mesh.Mesh{Kind: mesh.Icosahedral, Surface: mesh.Surface{Sphere: true, Radius: earthRadius}}, []string{"incomplete"}},
 	} {
 		_, err := New(c.src, c.dst)
-		if err == nil {
-			t.Errorf("%s: no error", c.name)
-			continue
-		}
-		for _, w := range c.want {
-			if !strings.Contains(err.Error(), w) {
-				t.Errorf("%s: error %q does not say %q", c.name, err, w)
-			}
-		}
+		testcheck.ErrorSays(t, c.name, err, c.want...)
 	}
 	// A cell listed clockwise is refused, not clipped to nonsense.
 	bad := ico(t, 2, "none")

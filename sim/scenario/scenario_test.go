@@ -6,6 +6,7 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
+	"gyrebench/sim/internal/testcheck"
 )
 
 func TestBuiltinsParseAndValidate(t *testing.T) {
@@ -75,13 +76,7 @@ func TestParseErrorsNameKeyAndLine(t *testing.T) {
 	}
 	for _, c := range cases {
 		_, err := Parse([]byte(c.src), "f.toml")
-		if err == nil {
-			t.Errorf("%s: accepted", c.name)
-			continue
-		}
-		if !strings.Contains(err.Error(), c.want) {
-			t.Errorf("%s: error %q does not contain %q", c.name, err, c.want)
-		}
+		testcheck.ErrorSays(t, c.name, err, c.want)
 	}
 }
 

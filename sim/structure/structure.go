@@ -227,9 +227,23 @@ func Measure(msh *mesh.Mesh, cfg sim.Config) (Report, error) {
 // (D2 F)_i = Σ_e n_{e,i} F_e, (D̄1 φ)_e = φ_{c1} − φ_{c0} and
 // (D̄2 x)_v = Σ_e t_{e,v} x_e, in integer arithmetic.
 func incidenceDefect(g ops.Grid) int {
+	return max(productDefect(g.CellEdgeStart, g.CellEdges, g.CellEdgeSign, g.EdgeVertices),
+		productDefect(g.VertexEdgeStart, g.VertexEdges, g.VertexEdgeSign, g.EdgeCells))
+}
+
+// productDefect returns the largest |entry| of the product of two
+// incidence matrices, in integers: the signed edges of each row (start,
+// edges, sign in CSR layout) times the edges' ends (2 per edge, −1 at the
+// first, +1 at the second).
+func productDefect(start, edges []int32, sign []int8, end []int32) int {
 	worst := 0
 	acc := map[int32]int{}
-	flush := func() {
+	for i := 0; i+1 < len(start); i++ {
+		for k := start[i]; k < start[i+1]; k++ {
+			e, s := edges[k], int(sign[k])
+			acc[end[2*e+1]] += s
+			acc[end[2*e]] -= s
+		}
 		for k, v := range acc {
 			if v < 0 {
 				v = -v
@@ -237,24 +251,6 @@ func incidenceDefect(g ops.Grid) int {
 			worst = max(worst, v)
 			delete(acc, k)
 		}
-	}
-	for i := 0; i < g.NumCells; i++ {
-		lo, hi := g.EdgesOfCell(i)
-		for k := lo; k < hi; k++ {
-			e, s := g.CellEdges[k], int(g.CellEdgeSign[k])
-			acc[g.EdgeVertices[2*e+1]] += s
-			acc[g.EdgeVertices[2*e]] -= s
-		}
-		flush()
-	}
-	for v := 0; v < g.NumVertices; v++ {
-		lo, hi := g.EdgesOfVertex(v)
-		for k := lo; k < hi; k++ {
-			e, s := g.VertexEdges[k], int(g.VertexEdgeSign[k])
-			acc[g.EdgeCells[2*e+1]] += s
-			acc[g.EdgeCells[2*e]] -= s
-		}
-		flush()
 	}
 	return worst
 }

@@ -3,7 +3,6 @@ package sweep
 import (
 	"bytes"
 	"context"
-	"encoding/csv"
 	"encoding/json"
 	"encoding/xml"
 	"errors"
@@ -24,6 +23,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/internal/testcheck"
 )
 
 // geostrophic returns the steady geostrophic jet, whose exact solution is
@@ -120,15 +120,7 @@ func TestNewPlanRejects(t *testing.T) {
 			axes = append(axes, a)
 		}
 		_, err := NewPlan(geostrophic(), "test", "", nil, axes)
-		if err == nil {
-			t.Errorf("%s: no error", tc.name)
-			continue
-		}
-		for _, s := range tc.wantErr {
-			if !strings.Contains(err.Error(), s) {
-				t.Errorf("%s: message %q lacks %q", tc.name, err, s)
-			}
-		}
+		testcheck.ErrorSays(t, tc.name, err, tc.wantErr...)
 	}
 }
 
@@ -194,18 +186,7 @@ func TestFitOrderMatchesLinearRegression(t *testing.T) {
 	}
 }
 
-func readCSV(t *testing.T, path string) [][]string {
-	t.Helper()
-	b, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	recs, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	return recs
-}
+func readCSV(t *testing.T, path string) [][]string { return testcheck.ReadCSV(t, path) }
 
 func column(t *testing.T, recs [][]string, name string) []string {
 	t.Helper()
