@@ -11,8 +11,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/dissip"
 	"gyrebench/sim/linear"
-	"gyrebench/sim/mesh"
-	"gyrebench/sim/step"
+	"gyrebench/sim/session"
 )
 
 // The linear panel: what the linearised scheme predicts for the run's
@@ -44,19 +43,8 @@ import (
 // a client asks with the command "linear"; from then on every change of
 // choice updates both, and every watcher receives them.
 
-// Dispersion copies: the largest resolution analysed densely, per family.
-// Each is 576–768 unknowns, about half a second (linear.Analyse's cost note).
-var dispersionN = map[string]int{
-	string(mesh.Quad): 16, string(mesh.Hex): 12, string(mesh.Tri): 12, string(mesh.Icosahedral): 2,
-	string(mesh.Cubed): 6, // 216 cells, 648 unknowns
-}
-
 // maxLinCache bounds each cache; past it the cache starts afresh.
 const maxLinCache = 32
-
-// guideSlack: the guide departs from the prediction only when it is lower
-// by more than this fraction.
-const guideSlack = 0.05
 
 // Job states in the messages.
 const (
@@ -77,7 +65,7 @@ type linKey struct {
 }
 
 func keyOf(cfg sim.Config) linKey {
-	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: hodgeName(cfg.Scheme.Hodge), apvm: cfg.Scheme.APVMFactor, dissip: cfg.Scheme.Dissipation()}
+	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: session.HodgeName(cfg.Scheme.Hodge), apvm: cfg.Scheme.APVMFactor, dissip: cfg.Scheme.Dissipation()}
 	if cfg.Scheme.Name == "apvm" {
 		k.dt = cfg.Time.Dt
 	}
@@ -105,7 +93,6 @@ type linJob struct {
 
 // linPanel is the run's linear analysis state, owned by the run's goroutine.
 type linPanel struct {
-	ctx    context.Context
 	active bool
 	stable map[linKey]*stableResult
 	disp   map[linKey]*dispResult
@@ -115,43 +102,42 @@ type linPanel struct {
 	sentDisp []byte
 }
 
-func (p *linPanel) init(ctx context.Context) {
-	p.ctx = ctx
+func (p *linPanel) init() {
 	p.stable = map[linKey]*stableResult{}
 	p.disp = map[linKey]*dispResult{}
 }
 
 // linearOn is the command "linear": start the analysis for this run.
-func (r *Run) linearOn(raw json.RawMessage) error {
+func (v *view) linearOn(raw json.RawMessage) error {
 	if len(raw) > 0 && string(raw) != "true" && string(raw) != "null" {
 		return refuse("linear", shown(raw), "linear = %s: the command takes no value (or true); it turns the run's linear analysis on", shown(raw))
 	}
-	if !r.lin.active {
-		r.lin.active = true
-		r.linearChanged()
+	if !v.lin.active {
+		v.lin.active = true
+		v.linearChanged()
 	}
 	return nil
 }
 
 // linearJoin brings a new watcher up to date.
-func (r *Run) linearJoin(s *subscriber) {
-	if !r.lin.active {
+func (v *view) linearJoin(s *subscriber) {
+	if !v.lin.active {
 		return
 	}
-	s.send(r.stabilityMsg())
-	if d := r.dispersionMsg(); d != nil {
+	s.send(v.stabilityMsg())
+	if d := v.dispersionMsg(); d != nil {
 		s.send(outMsg{typ: textMsg, data: d})
 	}
 }
 
 // linearChanged starts what the current choices still need and tells
 // every watcher. It is called after every change of choice.
-func (r *Run) linearChanged() {
-	p := &r.lin
+func (v *view) linearChanged() {
+	p := &v.lin
 	if !p.active {
 		return
 	}
-	cfg := r.m.Config()
+	cfg := v.s.Model().Config()
 	cfg.Initial.Params = nil // the job goroutine gets no shared map
 	key := keyOf(cfg)
 	_, haveStable := p.stable[key]
@@ -164,22 +150,22 @@ func (r *Run) linearChanged() {
 	if p.job == nil {
 		switch {
 		case !haveStable:
-			p.start(r, key, false, func(ctx context.Context) func(*Run) { return stableJob(ctx, key, cfg) })
+			p.start(v, key, false, func(ctx context.Context) func(*view) { return stableJob(ctx, key, cfg) })
 		case !haveDisp:
-			p.start(r, key, true, func(ctx context.Context) func(*Run) { return dispersionJob(ctx, key, cfg) })
+			p.start(v, key, true, func(ctx context.Context) func(*view) { return dispersionJob(ctx, key, cfg) })
 		}
 	}
-	r.broadcast(r.stabilityMsg())
-	if d := r.dispersionMsg(); d != nil && string(d) != string(p.sentDisp) {
+	v.broadcast(v.stabilityMsg())
+	if d := v.dispersionMsg(); d != nil && string(d) != string(p.sentDisp) {
 		p.sentDisp = d
-		r.broadcast(outMsg{typ: textMsg, data: d})
+		v.broadcast(outMsg{typ: textMsg, data: d})
 	}
 }
 
 // start runs work on its own goroutine; the closure it returns is applied
 // on the run's goroutine, unless the job was cancelled first.
-func (p *linPanel) start(r *Run, key linKey, disp bool, work func(context.Context) func(*Run)) {
-	ctx, cancel := context.WithCancel(p.ctx)
+func (p *linPanel) start(v *view, key linKey, disp bool, work func(context.Context) func(*view)) {
+	ctx, cancel := context.WithCancel(v.ctx)
 	j := &linJob{key: key, disp: disp, cancel: cancel}
 	p.job = j
 	go func() {
@@ -189,18 +175,18 @@ func (p *linPanel) start(r *Run, key linKey, disp bool, work func(context.Contex
 			cancel()
 			return
 		}
-		done := func(r *Run) {
+		done := func() {
 			cancel()
-			if r.lin.job == j {
-				r.lin.job = nil
+			if v.lin.job == j {
+				v.lin.job = nil
 			}
 			if j.cancelled { // while waiting to be applied
 				return
 			}
-			apply(r)
-			r.linearChanged()
+			apply(v)
+			v.linearChanged()
 		}
-		if !r.submit(ctx, command{kind: cmdFunc, fn: done}) {
+		if !v.post(done) {
 			cancel()
 		}
 	}()
@@ -208,7 +194,7 @@ func (p *linPanel) start(r *Run, key linKey, disp bool, work func(context.Contex
 
 // stableJob computes max|λ| on the run's grid (linear.MaxFrequency, as
 // linear.StableDt does).
-func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
+func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) {
 	t0 := time.Now()
 	an, err := linear.Analyse(ctx, cfg, linear.Options{ExtremeOnly: true})
 	res := &stableResult{seconds: time.Since(t0).Seconds(), err: err}
@@ -218,59 +204,32 @@ func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
 			res.limits[l.Integrator] = l.MaxDt
 		}
 	}
-	return func(r *Run) {
-		if len(r.lin.stable) >= maxLinCache {
-			clear(r.lin.stable)
+	return func(v *view) {
+		if len(v.lin.stable) >= maxLinCache {
+			clear(v.lin.stable)
 		}
-		r.lin.stable[key] = res
+		v.lin.stable[key] = res
 	}
-}
-
-// prediction is the stability of the current choices, when known.
-type prediction struct {
-	rho      float64            // max|λ|, s⁻¹
-	limits   map[string]float64 // largest stable Δt per integrator (0: none)
-	dtStable float64            // of the current integrator
-	guide    float64            // dtStable corrected for the state's depth and speed
-	scale    float64            // guide / dtStable
-	inv      float64            // √(g h_max) + |u|_max of the state, m/s
 }
 
 // predict returns the prediction for the current choices; ok is false
 // while it is being computed or when it failed (res says which).
-func (r *Run) predict() (pred prediction, res *stableResult, ok bool) {
-	cfg := r.m.Config()
-	res = r.lin.stable[keyOf(cfg)]
+func (v *view) predict() (pred linear.Guide, res *stableResult, ok bool) {
+	m := v.s.Model()
+	cfg := m.Config()
+	res = v.lin.stable[keyOf(cfg)]
 	if res == nil || res.err != nil || !(res.rho > 0) {
 		return pred, res, false
 	}
-	pred.rho = res.rho
-	pred.limits = map[string]float64{}
-	for _, name := range step.Names {
-		pred.limits[name] = step.ImaginaryAxisLimit(name, step.Options{Asselin: cfg.Time.Asselin}) / res.rho
-		if l, ok := res.limits[name]; ok {
-			pred.limits[name] = l // the analysis's own, with the dissipation's real parts
-		}
-	}
-	pred.dtStable = pred.limits[cfg.Time.Integrator]
-	inv := r.m.Invariants()
-	pred.inv = math.Sqrt(cfg.Physics.G*math.Max(inv.HMax, 0)) + inv.MaxSpeed
-	pred.scale = 1
-	if c := math.Sqrt(cfg.Physics.G * cfg.Physics.Depth); pred.inv > c && !math.IsInf(pred.inv, 0) {
-		pred.scale = c / pred.inv
-	}
-	if pred.scale > 1-guideSlack {
-		pred.scale = 1 // within the slack the prediction stands, so one number is shown
-	}
-	pred.guide = pred.dtStable * pred.scale
-	return pred, res, true
+	inv := m.Invariants()
+	return linear.NewGuide(cfg, res.rho, res.limits, inv.HMax, inv.MaxSpeed), res, true
 }
 
 // stabilityMsg is the message "stability": the predicted limits for the
 // current choices, the state's correction and the live Courant number.
-func (r *Run) stabilityMsg() outMsg {
-	cfg := r.m.Config()
-	pred, res, ok := r.predict()
+func (v *view) stabilityMsg() outMsg {
+	cfg := v.s.Model().Config()
+	pred, res, ok := v.predict()
 	state, message := linComputing, "computing the largest stable Δt of this grid and scheme…"
 	var seconds float64
 	switch {
@@ -283,13 +242,17 @@ func (r *Run) stabilityMsg() outMsg {
 		state, message = linFailed, "linear analysis found no non-zero frequency on this grid"
 	}
 	limits := map[string]num{}
-	for k, v := range pred.limits {
-		limits[k] = num(v)
+	for k, l := range pred.Limits {
+		limits[k] = num(l)
 	}
-	courant := r.m.Invariants().CourantGravity
+	rho := 0.0
+	if ok {
+		rho = res.rho
+	}
+	courant := v.s.Model().Invariants().CourantGravity
 	atLimit := math.NaN()
 	if ok && cfg.Time.Dt > 0 {
-		atLimit = courant * pred.dtStable / cfg.Time.Dt
+		atLimit = courant * pred.DtStable / cfg.Time.Dt
 	}
 	return outMsg{typ: textMsg, data: mustJSON(struct {
 		Type           string         `json:"type"`
@@ -310,38 +273,39 @@ func (r *Run) stabilityMsg() outMsg {
 		Seconds        num            `json:"seconds"`
 		Message        string         `json:"message"`
 	}{
-		"stability", state, gridName(cfg.Grid.Kind, cfg.Grid.N), cfg.Scheme.Name, cfg.Time.Integrator,
-		num(cfg.Time.Dt), num(pred.dtStable), num(pred.guide), num(pred.scale), limits, num(pred.rho),
-		num(cfg.Physics.Depth), num(pred.inv), num(courant), num(atLimit), num(seconds), message,
+		"stability", state, session.GridName(cfg.Grid.Kind, cfg.Grid.N), cfg.Scheme.Name, cfg.Time.Integrator,
+		num(cfg.Time.Dt), num(pred.DtStable), num(pred.Guide), num(pred.Scale), limits, num(rho),
+		num(cfg.Physics.Depth), num(pred.WaveSpeed), num(courant), num(atLimit), num(seconds), message,
 	})}
 }
 
 // warning returns a warning for an accepted command that leaves Δt past
 // the predicted limit, or nil.
-func (r *Run) warning(m clientMsg) *outMsg {
+func (v *view) warning(m wireMsg) *outMsg {
 	if m.Cmd != "set-dt" && m.Cmd != "set-integrator" {
 		return nil
 	}
-	pred, _, ok := r.predict()
+	pred, _, ok := v.predict()
 	if !ok {
 		return nil
 	}
-	cfg := r.m.Config()
+	cfg := v.s.Model().Config()
 	dt, in := cfg.Time.Dt, cfg.Time.Integrator
 	var text string
 	switch {
-	case pred.dtStable == 0:
+	case pred.DtStable == 0:
 		text = fmt.Sprintf("time.integrator = %q is unstable for every Δt on oscillatory modes (its stability region misses the imaginary axis): expect the run to grow and blow up", in)
-	case dt > pred.guide:
-		text = fmt.Sprintf("Δt = %s s is above the largest stable Δt predicted for %s on this grid, %s s", fmtSeconds(dt), in, sig4(pred.guide))
-		if pred.scale < 1-guideSlack {
-			text += fmt.Sprintf(" (%s s about rest at depth %g m, scaled by %.2f for this flow's depth and speed)", sig4(pred.dtStable), cfg.Physics.Depth, pred.scale)
+	case dt > pred.Guide:
+		text = fmt.Sprintf("Δt = %s s is above the largest stable Δt predicted for %s on this grid, %s s", fmtSeconds(dt), in, sig4(pred.Guide))
+		if pred.Scale < 1-linear.GuideSlack {
+			text += fmt.Sprintf(" (%s s about rest at depth %g m, scaled by %.2f for this flow's depth and speed)", sig4(pred.DtStable), cfg.Physics.Depth, pred.Scale)
 		}
-		text += fmt.Sprintf(": expect the run to blow up. Allowed up to %s s.", sig4(r.dtMax()))
+		text += fmt.Sprintf(": expect the run to blow up. Allowed up to %s s.", sig4(v.s.DtMax()))
 	default:
 		return nil
 	}
-	return &outMsg{typ: textMsg, data: mustJSON(errorMsg{Type: "warning", ID: m.ID, Cmd: m.Cmd, Field: "time.dt", Value: fmtSeconds(dt), Message: text})}
+	w := textOut(errorMsg{Type: "warning", ID: m.ID, Cmd: m.Cmd, Field: "time.dt", Value: fmtSeconds(dt), Message: text})
+	return &w
 }
 
 func fmtSeconds(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
@@ -357,31 +321,13 @@ func sig4(x float64) string {
 	return strconv.FormatFloat(math.Round(x/p)*p, 'f', max(0, 3-e), 64)
 }
 
-// dispersionCopy is the config the dispersion diagram analyses: the run's
-// grid family at a resolution of at most dispersionN, with the run's cell
-// size on the plane. copied says whether it is smaller than the run's grid.
-func dispersionCopy(cfg sim.Config) (c sim.Config, copied bool) {
-	c = cfg
-	n := dispersionN[cfg.Grid.Kind]
-	if n == 0 || cfg.Grid.N <= n {
-		return c, false
-	}
-	c.Grid.N = n
-	if !isSphereKind(cfg.Grid.Kind) {
-		s := float64(n) / float64(cfg.Grid.N)
-		c.Grid.Length *= s
-		c.Grid.Height *= s // 0, the natural height, stays 0
-	}
-	return c, true
-}
-
 // classOrder indexes the classes in the dispersion message.
 var classOrder = []linear.Class{linear.InertiaGravity, linear.Geostrophic, linear.Rossby, linear.Spurious}
 
 // dispersionJob runs the dense analysis of the dispersion copy and encodes
 // the message "dispersion".
-func dispersionJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
-	c, copied := dispersionCopy(cfg)
+func dispersionJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) {
+	c, copied := linear.DispersionCopy(cfg)
 	res, err := linear.Analyse(ctx, c, linear.Options{})
 	var out dispResult
 	if err != nil {
@@ -389,22 +335,22 @@ func dispersionJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
 	} else {
 		out.msg = encodeDispersion(cfg, c, copied, res)
 	}
-	return func(r *Run) {
-		if len(r.lin.disp) >= maxLinCache {
-			clear(r.lin.disp)
+	return func(v *view) {
+		if len(v.lin.disp) >= maxLinCache {
+			clear(v.lin.disp)
 		}
-		r.lin.disp[key] = &out
+		v.lin.disp[key] = &out
 	}
 }
 
 // dispersionMsg returns the message for the current choices, or nil when
 // nothing is to be said (the panel is off).
-func (r *Run) dispersionMsg() []byte {
-	if !r.lin.active {
+func (v *view) dispersionMsg() []byte {
+	if !v.lin.active {
 		return nil
 	}
-	cfg := r.m.Config()
-	c, copied := dispersionCopy(cfg)
+	cfg := v.s.Model().Config()
+	c, copied := linear.DispersionCopy(cfg)
 	head := struct {
 		Type    string `json:"type"`
 		State   string `json:"state"`
@@ -412,8 +358,8 @@ func (r *Run) dispersionMsg() []byte {
 		Of      string `json:"of"`
 		Copy    bool   `json:"copy"`
 		Message string `json:"message"`
-	}{"dispersion", linComputing, gridName(c.Grid.Kind, c.Grid.N), gridName(cfg.Grid.Kind, cfg.Grid.N), copied, "computing the normal modes…"}
-	d := r.lin.disp[keyOf(cfg)]
+	}{"dispersion", linComputing, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, "computing the normal modes…"}
+	d := v.lin.disp[keyOf(cfg)]
 	switch {
 	case d == nil:
 	case d.err != nil:
@@ -482,7 +428,7 @@ func encodeDispersion(cfg, c sim.Config, copied bool, res *linear.Result) []byte
 		Class        []int         `json:"class"` // index into Classes
 		Message      string        `json:"message"`
 	}{
-		"dispersion", linReady, gridName(c.Grid.Kind, c.Grid.N), gridName(cfg.Grid.Kind, cfg.Grid.N), copied, sphere,
+		"dispersion", linReady, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, sphere,
 		res.Cells, res.Unknowns, num(dx), num(f), num(c.Physics.G), num(c.Physics.Depth), res.Counts, res.Growing,
 		num(res.MaxFrequency), res.Method, num(res.WallSeconds), names, k, w, cls, "",
 	})

@@ -18,26 +18,25 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim/scenario"
-	"gyrebench/sim/scheme"
-	"gyrebench/sim/step"
+	"gyrebench/sim/session"
 	"gyrebench/web"
 )
 
 // Labels for people; the wire names are the engine's.
 var (
 	schemeLabels = map[string]string{
-		scheme.TRiSKEnergy:       "TRiSK, energy-conserving",
-		scheme.TRiSKEnstrophy:    "TRiSK, enstrophy-conserving",
-		scheme.APVM:              "TRiSK with anticipated PV (APVM)",
-		scheme.AL81:              "Arakawa–Lamb 1981 (quad only)",
-		scheme.SadournyEnergy:    "Sadourny 1975, energy-conserving (quad only)",
-		scheme.SadournyEnstrophy: "Sadourny 1975, enstrophy-conserving (quad only)",
+		"trisk-energy":       "TRiSK, energy-conserving",
+		"trisk-enstrophy":    "TRiSK, enstrophy-conserving",
+		"apvm":               "TRiSK with anticipated PV (APVM)",
+		"al81":               "Arakawa–Lamb 1981 (quad only)",
+		"sadourny-energy":    "Sadourny 1975, energy-conserving (quad only)",
+		"sadourny-enstrophy": "Sadourny 1975, enstrophy-conserving (quad only)",
 	}
 	integratorLabels = map[string]string{
-		step.RK3:      "Runge–Kutta, 3rd order",
-		step.RK4:      "Runge–Kutta, classical 4th order",
-		step.Leapfrog: "leapfrog with Robert–Asselin filter",
-		step.Euler:    "forward Euler",
+		"rk3":      "Runge–Kutta, 3rd order",
+		"rk4":      "Runge–Kutta, classical 4th order",
+		"leapfrog": "leapfrog with Robert–Asselin filter",
+		"euler":    "forward Euler",
 	}
 	gridLabels = map[string]string{
 		"quad":        "quadrilateral",
@@ -113,9 +112,9 @@ func options(names []string, labels map[string]string, selected string) []web.Op
 // schemeOptions is the scheme menu; each entry carries the line saying
 // what the scheme conserves.
 func schemeOptions(selected string) []web.Option {
-	opts := options(scheme.Names, schemeLabels, selected)
+	opts := options(session.Schemes(), schemeLabels, selected)
 	for i := range opts {
-		opts[i].Note = scheme.Conserves(opts[i].Value)
+		opts[i].Note = session.Conserves(opts[i].Value)
 	}
 	return opts
 }
@@ -135,13 +134,13 @@ func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
 		ID: in.ID, Title: in.Title, Scenario: in.Scenario,
 		Scenarios:   s.scenarioOptions(in.Scenario),
 		Schemes:     schemeOptions(in.Scheme),
-		Integrators: options(step.Names, integratorLabels, in.Integrator),
-		Grids:       options(gridKinds, gridLabels, in.Grid),
+		Integrators: options(session.Integrators(), integratorLabels, in.Integrator),
+		Grids:       options(session.GridKinds(), gridLabels, in.Grid),
 		Fields:      fields,
 		Dt:          strconv.FormatFloat(in.Dt, 'g', -1, 64),
 		N:           strconv.Itoa(in.N),
 		State:       in.State,
-		Time:        fmtTime(in.Time),
+		Time:        session.FmtTime(in.Time),
 		RingSize:    s.opt.RingSize,
 	}
 	render(w, req, web.RunPage(v))
@@ -168,7 +167,7 @@ func (s *Server) renderRuns(w http.ResponseWriter, req *http.Request, msg string
 			ID: in.ID, Scenario: in.Scenario, Title: in.Title,
 			Grid:   in.Grid + " n = " + strconv.Itoa(in.N),
 			Scheme: in.Scheme, Integrator: in.Integrator, State: in.State,
-			Time: fmtTime(in.Time), Watchers: in.Subscribers,
+			Time: session.FmtTime(in.Time), Watchers: in.Subscribers,
 		})
 	}
 	w.WriteHeader(code)
@@ -309,5 +308,15 @@ func helloMsg(id string) []byte {
 		Grids       []string `json:"grids"`
 		Scenarios   []string `json:"scenarios"`
 		Commands    []string `json:"commands"`
-	}{"hello", 1, id, fs, scheme.Names, step.Names, gridKinds, scenarios.Names(), commands})
+	}{"hello", 1, id, fs, session.Schemes(), session.Integrators(), session.GridKinds(), scenarios.Names(), commands})
+}
+
+// serveWS connects a websocket client to a run.
+func (s *Server) serveWS(w http.ResponseWriter, req *http.Request) {
+	run := s.Run(chi.URLParam(req, "id"))
+	if run == nil {
+		http.Error(w, "no run "+chi.URLParam(req, "id"), http.StatusNotFound)
+		return
+	}
+	s.serveSocket(w, req, socket{a: run.actor, h: run, tags: []tag{{}}, what: "run"})
 }

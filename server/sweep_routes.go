@@ -23,6 +23,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
 	"gyrebench/sim/scenario"
+	"gyrebench/sim/session"
 	"gyrebench/sim/sweep"
 	"gyrebench/web"
 )
@@ -485,7 +486,7 @@ func (sw *sweeps) sweepBase(ctx context.Context, base string) (label, descriptio
 		if r == nil {
 			return "", "", cfg, fmt.Errorf("scenario = %q: no run %s is open; the open runs are listed at /runs", base, id)
 		}
-		if !r.await(ctx, func(r *Run) { cfg, label = r.m.Config(), r.scenario }) {
+		if cfg, label, ok = r.choices(ctx); !ok {
 			return "", "", cfg, fmt.Errorf("scenario = %q: run %s has stopped", base, id)
 		}
 		return "run" + id + "-" + label, "", cfg.Clone(), nil
@@ -579,9 +580,9 @@ func (sw *sweeps) plan(ctx context.Context, f sweepForm) (string, *sweep.Plan, i
 		if err != nil {
 			return "", nil, 0, refuseField("vary", "vary %s: %v", choicesText(r.Choices), err)
 		}
-		if cells > MaxLiveCells {
+		if cells > session.MaxLiveCells {
 			return "", nil, 0, refuseField("vary", "vary %s: grid.kind = %s, grid.n = %d gives %d cells, more than a sweep from the workbench allows in one run (%d); lower grid.n, or use gyrebench sweep on the command line",
-				choicesText(r.Choices), r.Config.Grid.Kind, r.Config.Grid.N, cells, MaxLiveCells)
+				choicesText(r.Choices), r.Config.Grid.Kind, r.Config.Grid.N, cells, session.MaxLiveCells)
 		}
 	}
 	return label, p, jobs, nil
@@ -630,7 +631,7 @@ func (sw *sweeps) serveNew(w http.ResponseWriter, req *http.Request) {
 func (sw *sweeps) renderNew(w http.ResponseWriter, req *http.Request, f sweepForm, ferr *formError, code int) {
 	v := web.SweepNewView{
 		Vary: f.Vary, Set: f.Set, Jobs: f.Jobs, JobsMax: sweepMaxJobs(),
-		MaxRuns: MaxSweepRuns, MaxCells: MaxLiveCells, MaxSweeps: MaxSweeps, Root: sw.rootShown(),
+		MaxRuns: MaxSweepRuns, MaxCells: session.MaxLiveCells, MaxSweeps: MaxSweeps, Root: sw.rootShown(),
 	}
 	if ferr != nil {
 		v.Message, v.Field = ferr.msg, ferr.field
