@@ -1,0 +1,42 @@
+package server
+
+import (
+	"go/parser"
+	"go/token"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// TestLayering: the server carries commands and messages and computes no
+// physics, so it imports none of the engine's grid, scheme and integrator
+// packages; it reaches them through sim, sim/session and sim/linear. The
+// display geometry (encodeGeometry in protocol.go) still reads the mesh
+// type and is the one file allowed sim/mesh until it takes flat arrays.
+func TestLayering(t *testing.T) {
+	files, err := filepath.Glob("*.go")
+	if err != nil || len(files) == 0 {
+		t.Fatalf("no Go files here (%v)", err)
+	}
+	forbidden := []string{"gyrebench/sim/mesh", "gyrebench/sim/scheme", "gyrebench/sim/step"}
+	allowed := map[string]string{"protocol.go": "gyrebench/sim/mesh"}
+	fset := token.NewFileSet()
+	for _, name := range files {
+		if strings.HasSuffix(name, "_test.go") {
+			continue
+		}
+		f, err := parser.ParseFile(fset, name, nil, parser.ImportsOnly)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, imp := range f.Imports {
+			p, _ := strconv.Unquote(imp.Path.Value)
+			for _, bad := range forbidden {
+				if p == bad && allowed[name] != bad {
+					t.Errorf("%s imports %s: the server goes through sim, sim/session or sim/linear", name, p)
+				}
+			}
+		}
+	}
+}
