@@ -251,8 +251,8 @@ func (v *view) stabilityMsg() outMsg {
 	}
 	courant := v.s.Model().Invariants().CourantGravity
 	atLimit := math.NaN()
-	if ok && cfg.Time.Dt > 0 {
-		atLimit = courant * pred.DtStable / cfg.Time.Dt
+	if ok {
+		atLimit = pred.CourantAtLimit(courant, cfg.Time.Dt)
 	}
 	return outMsg{typ: textMsg, data: mustJSON(struct {
 		Type           string         `json:"type"`
@@ -321,19 +321,22 @@ func sig4(x float64) string {
 	return strconv.FormatFloat(math.Round(x/p)*p, 'f', max(0, 3-e), 64)
 }
 
-// classOrder indexes the classes in the dispersion message.
-var classOrder = []linear.Class{linear.InertiaGravity, linear.Geostrophic, linear.Rossby, linear.Spurious}
-
 // dispersionJob runs the dense analysis of the dispersion copy and encodes
 // the message "dispersion".
 func dispersionJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) {
 	c, copied := linear.DispersionCopy(cfg)
 	res, err := linear.Analyse(ctx, c, linear.Options{})
 	var out dispResult
-	if err != nil {
-		out.err = err
-	} else {
-		out.msg = encodeDispersion(cfg, c, copied, res)
+	if out.err = err; err == nil {
+		out.msg, out.err = json.Marshal(struct {
+			Type  string `json:"type"`
+			State string `json:"state"`
+			Grid  string `json:"grid"`
+			Of    string `json:"of"`
+			Copy  bool   `json:"copy"`
+			linear.Diagram
+			Message string `json:"message"`
+		}{"dispersion", linReady, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, linear.NewDiagram(c, res), ""})
 	}
 	return func(v *view) {
 		if len(v.lin.disp) >= maxLinCache {
@@ -368,68 +371,4 @@ func (v *view) dispersionMsg() []byte {
 		return d.msg
 	}
 	return mustJSON(head)
-}
-
-// encodeDispersion writes the message "dispersion" for the analysis res of
-// the copy c of the run's config cfg. Modes come in pairs ±ω; only ω ≥ 0
-// is sent (and every zero-frequency mode once).
-func encodeDispersion(cfg, c sim.Config, copied bool, res *linear.Result) []byte {
-	sphere := res.Sphere
-	dx := 0.0
-	f := c.Physics.F0
-	if sphere {
-		f = 2 * c.Physics.Omega
-	} else {
-		dx = c.Grid.Length / float64(c.Grid.N)
-	}
-	var k, w []num
-	var cls []int
-	for _, m := range res.Modes {
-		if m.Frequency < 0 && m.Class != linear.Geostrophic {
-			continue
-		}
-		ci := 0
-		for i, c := range classOrder {
-			if m.Class == c {
-				ci = i
-			}
-		}
-		if !sphere {
-			k = append(k, num(math.Hypot(m.Kx, m.Ky)))
-		}
-		w = append(w, num(math.Abs(m.Frequency)))
-		cls = append(cls, ci)
-	}
-	names := make([]string, len(classOrder))
-	for i, c := range classOrder {
-		names[i] = string(c)
-	}
-	return mustJSON(struct {
-		Type         string        `json:"type"`
-		State        string        `json:"state"`
-		Grid         string        `json:"grid"`
-		Of           string        `json:"of"`
-		Copy         bool          `json:"copy"`
-		Sphere       bool          `json:"sphere"`
-		Cells        int           `json:"cells"`
-		Unknowns     int           `json:"unknowns"`
-		Dx           num           `json:"dx"`
-		F            num           `json:"f"` // f0 on the plane, 2Ω on the sphere
-		G            num           `json:"g"`
-		Depth        num           `json:"depth"`
-		Counts       linear.Counts `json:"counts"`
-		Growing      int           `json:"growing"`
-		MaxFrequency num           `json:"max_frequency"`
-		Method       string        `json:"method"`
-		Seconds      num           `json:"seconds"`
-		Classes      []string      `json:"classes"`
-		K            []num         `json:"k"`     // |k|, rad m⁻¹ (plane only)
-		W            []num         `json:"w"`     // |ω|, rad s⁻¹
-		Class        []int         `json:"class"` // index into Classes
-		Message      string        `json:"message"`
-	}{
-		"dispersion", linReady, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, sphere,
-		res.Cells, res.Unknowns, num(dx), num(f), num(c.Physics.G), num(c.Physics.Depth), res.Counts, res.Growing,
-		num(res.MaxFrequency), res.Method, num(res.WallSeconds), names, k, w, cls, "",
-	})
 }

@@ -88,3 +88,70 @@ func DispersionCopy(cfg sim.Config) (c sim.Config, copied bool) {
 	}
 	return c, true
 }
+
+// CourantAtLimit is the gravity-wave Courant number the state would have
+// at DtStable, from its Courant number courant at Δt dt.
+func (g Guide) CourantAtLimit(courant, dt float64) float64 {
+	if !(dt > 0) {
+		return math.NaN()
+	}
+	return courant * g.DtStable / dt
+}
+
+// DiagramClasses are the classes of a Diagram, in the order its Class
+// indices name them.
+func DiagramClasses() []Class { return []Class{InertiaGravity, Geostrophic, Rossby, Spurious} }
+
+// Diagram is the dispersion diagram of a dense analysis: one (|k|, |ω|,
+// class) per mode. Modes come in pairs ±ω; only ω ≥ 0 is kept, and every
+// zero-frequency (geostrophic) mode once.
+type Diagram struct {
+	Sphere       bool      `json:"sphere"`
+	Cells        int       `json:"cells"`
+	Unknowns     int       `json:"unknowns"`
+	Dx           float64   `json:"dx"` // cell size on the plane, m; 0 on the sphere
+	F            float64   `json:"f"`  // f0 on the plane, 2Ω on the sphere
+	G            float64   `json:"g"`
+	Depth        float64   `json:"depth"`
+	Counts       Counts    `json:"counts"`
+	Growing      int       `json:"growing"`
+	MaxFrequency float64   `json:"max_frequency"`
+	Method       string    `json:"method"`
+	Seconds      float64   `json:"seconds"`
+	Classes      []string  `json:"classes"`
+	K            []float64 `json:"k"`     // |k|, rad m⁻¹ (plane only)
+	W            []float64 `json:"w"`     // |ω|, rad s⁻¹
+	Class        []int     `json:"class"` // index into Classes
+}
+
+// NewDiagram makes the diagram of res, the dense analysis of config c.
+func NewDiagram(c sim.Config, res *Result) Diagram {
+	d := Diagram{Sphere: res.Sphere, Cells: res.Cells, Unknowns: res.Unknowns, F: c.Physics.F0, G: c.Physics.G, Depth: c.Physics.Depth,
+		Counts: res.Counts, Growing: res.Growing, MaxFrequency: res.MaxFrequency, Method: res.Method, Seconds: res.WallSeconds}
+	if d.Sphere {
+		d.F = 2 * c.Physics.Omega
+	} else {
+		d.Dx = c.Grid.Length / float64(c.Grid.N)
+	}
+	classes := DiagramClasses()
+	for _, cl := range classes {
+		d.Classes = append(d.Classes, string(cl))
+	}
+	for _, m := range res.Modes {
+		if m.Frequency < 0 && m.Class != Geostrophic {
+			continue
+		}
+		ci := 0
+		for i, cl := range classes {
+			if m.Class == cl {
+				ci = i
+			}
+		}
+		if !d.Sphere {
+			d.K = append(d.K, math.Hypot(m.Kx, m.Ky))
+		}
+		d.W = append(d.W, math.Abs(m.Frequency))
+		d.Class = append(d.Class, ci)
+	}
+	return d
+}
