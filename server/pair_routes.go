@@ -1,10 +1,8 @@
 package server
 
 import (
-	"context"
 	"encoding/json"
 	"fmt"
-	"math"
 	"net/http"
 	"strconv"
 	"strings"
@@ -73,74 +71,6 @@ func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 	return p, nil
 }
 
-// pairChoice is one side's form fields; empty means the base's choice.
-type pairChoice struct{ Scheme, Integrator, Dt, Grid, N, Hodge string }
-
-// pairBase resolves the form's base: "run:ID" (that run's current
-// choices, from its initial state) or a built-in scenario name.
-func (ps *pairs) pairBase(ctx context.Context, base string) (string, sim.Config, error) {
-	if id, ok := strings.CutPrefix(base, "run:"); ok {
-		r := ps.s.Run(id)
-		if r == nil {
-			return "", sim.Config{}, fmt.Errorf("base = %q: no run %s", base, id)
-		}
-		cfg, label, ok := r.choices(ctx)
-		if !ok {
-			return "", sim.Config{}, fmt.Errorf("base = %q: run %s has stopped", base, id)
-		}
-		return label, cfg, nil
-	}
-	if _, err := scenarios.Source(base); err != nil {
-		return "", sim.Config{}, fmt.Errorf("base = %q: neither a built-in scenario (%s) nor an open run", base, strings.Join(scenarios.Names(), ", "))
-	}
-	return loadScenario(base)
-}
-
-// applyChoice sets one side's choices on cfg; its errors name the side
-// and the field.
-func applyChoice(cfg *sim.Config, side string, c pairChoice) error {
-	if c.Scheme != "" {
-		cfg.Scheme.Name = c.Scheme
-	}
-	if c.Integrator != "" {
-		cfg.Time.Integrator = c.Integrator
-	}
-	if c.Dt != "" {
-		dt, err := strconv.ParseFloat(strings.TrimSpace(c.Dt), 64)
-		if err != nil || !(dt > 0) || math.IsInf(dt, 0) {
-			return fmt.Errorf("%s: time.dt = %q: must be a positive number of seconds", side, c.Dt)
-		}
-		cfg.Time.Dt = dt
-	}
-	if c.Grid != "" && c.Grid != cfg.Grid.Kind {
-		if !contains(session.GridKinds(), c.Grid) {
-			return fmt.Errorf("%s: grid.kind = %q: not a grid the workbench offers; allowed: %s", side, c.Grid, strings.Join(session.GridKinds(), ", "))
-		}
-		cfg.Grid.SetKind(c.Grid)
-		cfg.Grid.Height = 0
-	}
-	if c.Hodge != "" {
-		if !contains(session.HodgeStars(), c.Hodge) {
-			return fmt.Errorf("%s: scheme.hodge = %q: unknown Hodge star; allowed: %s", side, c.Hodge, strings.Join(session.HodgeStars(), ", "))
-		}
-		cfg.Scheme.Hodge = c.Hodge
-	}
-	if c.N != "" {
-		n, err := strconv.Atoi(strings.TrimSpace(c.N))
-		if err != nil {
-			return fmt.Errorf("%s: grid.n = %q: must be a whole number", side, c.N)
-		}
-		cfg.Grid.N = n
-	}
-	if err := cfg.Validate(); err != nil {
-		return fmt.Errorf("%s: %w", side, err)
-	}
-	if err := session.CheckLiveConfig(*cfg); err != nil {
-		return fmt.Errorf("%s: %w", side, err)
-	}
-	return nil
-}
-
 func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 	if !sameOrigin(req) {
 		http.Error(w, "cross-site request refused: pairs are started from the workbench's own pages", http.StatusForbidden)
@@ -152,18 +82,18 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 	}
 	f := req.PostForm
 	base := f.Get("base")
-	label, cfg, err := ps.pairBase(req.Context(), base)
+	_, label, _, cfg, err := ps.s.base(req.Context(), "base", base)
 	if err != nil {
 		ps.renderNew(w, req, base, err.Error(), http.StatusBadRequest)
 		return
 	}
 	var cfgs [2]sim.Config
 	for i, n := range sideNames {
-		c := pairChoice{f.Get(n + ".scheme"), f.Get(n + ".integrator"), f.Get(n + ".dt"), f.Get(n + ".grid"), f.Get(n + ".n"), f.Get(n + ".hodge")}
+		c := session.Choices{Scheme: f.Get(n + ".scheme"), Integrator: f.Get(n + ".integrator"), Dt: f.Get(n + ".dt"), Grid: f.Get(n + ".grid"), N: f.Get(n + ".n"), Hodge: f.Get(n + ".hodge")}
 		cfgs[i] = cfg
 		cfgs[i].Initial.Params = cfg.Initial.Params // shared, read-only
-		if err := applyChoice(&cfgs[i], strings.ToUpper(n), c); err != nil {
-			ps.renderNew(w, req, base, err.Error(), http.StatusBadRequest)
+		if err := c.Apply(&cfgs[i]); err != nil {
+			ps.renderNew(w, req, base, strings.ToUpper(n)+": "+err.Error(), http.StatusBadRequest)
 			return
 		}
 	}
@@ -186,16 +116,7 @@ func (ps *pairs) serveNew(w http.ResponseWriter, req *http.Request) {
 }
 
 func (ps *pairs) renderNew(w http.ResponseWriter, req *http.Request, base, msg string, code int) {
-	var bases []web.Option
-	for _, r := range ps.s.Runs() {
-		in := r.Info()
-		v := "run:" + in.ID
-		bases = append(bases, web.Option{Value: v, Label: fmt.Sprintf("run %s now: %s, %s n = %d, %s", in.ID, in.Scenario, in.Grid, in.N, in.Scheme), Title: "the run's current choices, from its initial state", Selected: v == base})
-	}
-	for _, o := range ps.s.scenarioOptions(base) {
-		o.Label = "scenario " + o.Label
-		bases = append(bases, o)
-	}
+	bases := ps.s.baseOptions(base, false)
 	same := web.Option{Value: "", Label: "as the base", Selected: true}
 	v := web.PairNewView{
 		Bases:       bases,

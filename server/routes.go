@@ -2,6 +2,7 @@ package server
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -17,6 +18,7 @@ import (
 	"github.com/go-chi/chi/v5/middleware"
 
 	"gyrebench/scenarios"
+	"gyrebench/sim"
 	"gyrebench/sim/scenario"
 	"gyrebench/sim/session"
 	"gyrebench/web"
@@ -319,4 +321,52 @@ func (s *Server) serveWS(w http.ResponseWriter, req *http.Request) {
 		return
 	}
 	s.serveSocket(w, req, socket{a: run.actor, h: run, tags: []tag{{}}, what: "run"})
+}
+
+// base resolves a form's base, in field: "run:ID" (that run's current
+// choices, from its initial state; run is the ID) or a built-in
+// scenario's name (with its description).
+func (s *Server) base(ctx context.Context, field, base string) (run, label, description string, cfg sim.Config, err error) {
+	if id, ok := strings.CutPrefix(base, "run:"); ok {
+		r := s.Run(id)
+		if r == nil {
+			return "", "", "", cfg, fmt.Errorf("%s = %q: no run %s is open; the open runs are listed at /runs", field, base, id)
+		}
+		if cfg, label, ok = r.choices(ctx); !ok {
+			return "", "", "", cfg, fmt.Errorf("%s = %q: run %s has stopped", field, base, id)
+		}
+		return id, label, "", cfg, nil
+	}
+	src, err := scenarios.Source(base)
+	if err != nil {
+		return "", "", "", cfg, fmt.Errorf("%s = %q: neither a built-in scenario (%s) nor an open run (run:ID)", field, base, strings.Join(scenarios.Names(), ", "))
+	}
+	sc, err := scenario.Parse(src, base+".toml")
+	if err == nil {
+		err = sc.Config.Validate()
+	}
+	if err != nil {
+		return "", "", "", cfg, fmt.Errorf("%s = %q: %w", field, base, err)
+	}
+	return "", base, sc.Description, sc.Config, nil
+}
+
+// baseOptions is the menu of a form's base: the open runs' current
+// choices (with Δt when withDt), then the built-in scenarios.
+func (s *Server) baseOptions(selected string, withDt bool) []web.Option {
+	var opts []web.Option
+	for _, r := range s.Runs() {
+		in := r.Info()
+		v := "run:" + in.ID
+		label := fmt.Sprintf("run %s now: %s, %s n = %d, %s", in.ID, in.Scenario, in.Grid, in.N, in.Scheme)
+		if withDt {
+			label += fmt.Sprintf(", Δt = %g s", in.Dt)
+		}
+		opts = append(opts, web.Option{Value: v, Label: label, Title: "the run's current choices, from its initial state", Selected: v == selected})
+	}
+	for _, o := range s.scenarioOptions(selected) {
+		o.Label = "scenario " + o.Label
+		opts = append(opts, o)
+	}
+	return opts
 }

@@ -11,7 +11,6 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
-	"gyrebench/sim/scenario"
 	"gyrebench/sim/session"
 	"gyrebench/sim/sweep"
 	"gyrebench/web"
@@ -22,29 +21,14 @@ type sweepForm struct {
 	Base, Vary, Set, Jobs string
 }
 
-// sweepBase resolves the form's scenario: "run:ID" (that run's current
-// choices, as the pair form takes them) or a built-in scenario name.
-// The config returned owns its parameter map.
+// sweepBase resolves the form's scenario (Server.base). The config
+// returned owns its parameter map.
 func (sw *sweeps) sweepBase(ctx context.Context, base string) (label, description string, cfg sim.Config, err error) {
-	if id, ok := strings.CutPrefix(base, "run:"); ok {
-		r := sw.s.Run(id)
-		if r == nil {
-			return "", "", cfg, fmt.Errorf("scenario = %q: no run %s is open; the open runs are listed at /runs", base, id)
-		}
-		if cfg, label, ok = r.choices(ctx); !ok {
-			return "", "", cfg, fmt.Errorf("scenario = %q: run %s has stopped", base, id)
-		}
-		return "run" + id + "-" + label, "", cfg.Clone(), nil
+	run, label, description, cfg, err := sw.s.base(ctx, "scenario", base)
+	if run != "" {
+		label = "run" + run + "-" + label
 	}
-	src, err := scenarios.Source(base)
-	if err != nil {
-		return "", "", cfg, fmt.Errorf("scenario = %q: neither a built-in scenario (%s) nor an open run (run:ID)", base, strings.Join(scenarios.Names(), ", "))
-	}
-	sc, err := scenario.Parse(src, base+".toml")
-	if err != nil {
-		return "", "", cfg, fmt.Errorf("scenario = %q: %w", base, err)
-	}
-	return base, sc.Description, sc.Config.Clone(), nil
+	return label, description, cfg.Clone(), err
 }
 
 // formMessage turns the command line's wording of package sweep's errors
@@ -181,16 +165,7 @@ func (sw *sweeps) renderNew(w http.ResponseWriter, req *http.Request, f sweepFor
 	if ferr != nil {
 		v.Message, v.Field = ferr.msg, ferr.field
 	}
-	for _, r := range sw.s.Runs() {
-		in := r.Info()
-		val := "run:" + in.ID
-		v.Bases = append(v.Bases, web.Option{Value: val, Label: fmt.Sprintf("run %s now: %s, %s n = %d, %s, Δt = %g s", in.ID, in.Scenario, in.Grid, in.N, in.Scheme, in.Dt),
-			Title: "the run's current choices, from its initial state", Selected: val == f.Base})
-	}
-	for _, o := range sw.s.scenarioOptions(f.Base) {
-		o.Label = "scenario " + o.Label
-		v.Bases = append(v.Bases, o)
-	}
+	v.Bases = sw.s.baseOptions(f.Base, true)
 	for _, j := range sw.list() {
 		in := j.Status()
 		v.Sweeps = append(v.Sweeps, web.SweepRow{ID: in.ID, Scenario: in.Scenario, Vary: varyText(in.Vary),
