@@ -119,32 +119,19 @@ func strict(raw json.RawMessage, v any) error {
 
 // decode turns a parsed message into the session command it names.
 func decode(m wireMsg) (session.Command, *session.Error) {
+	if c, ok := map[string]session.Command{"play": session.Play{}, "pause": session.Pause{}, "step": session.Step{},
+		"reset": session.Reset{}, "stop-replay": session.StopReplay{}}[m.Cmd]; ok {
+		return c, nil
+	}
 	switch m.Cmd {
-	case "play":
-		return session.Play{}, nil
-	case "pause":
-		return session.Pause{}, nil
-	case "step":
-		return session.Step{}, nil
-	case "reset":
-		return session.Reset{}, nil
-	case "stop-replay":
-		return session.StopReplay{}, nil
-	case "load":
-		s, ce := parseString(m.Value, "scenario")
-		return session.Load{Scenario: s}, ce
-	case "set-scheme":
-		s, ce := parseString(m.Value, "scheme.name")
-		return session.SetScheme{Name: s}, ce
-	case "set-hodge":
-		s, ce := parseString(m.Value, "scheme.hodge")
-		return session.SetHodge{Name: s}, ce
-	case "set-integrator":
-		s, ce := parseString(m.Value, "time.integrator")
-		return session.SetIntegrator{Name: s}, ce
-	case "mark":
-		s, ce := parseString(m.Value, "label")
-		return session.Mark{Label: s}, ce
+	case "load", "set-scheme", "set-hodge", "set-integrator", "mark":
+		fields := map[string]string{"load": "scenario", "set-scheme": "scheme.name", "set-hodge": "scheme.hodge", "set-integrator": "time.integrator", "mark": "label"}
+		s, ce := parseString(m.Value, fields[m.Cmd])
+		if ce != nil {
+			return nil, ce
+		}
+		return map[string]session.Command{"load": session.Load{Scenario: s}, "set-scheme": session.SetScheme{Name: s},
+			"set-hodge": session.SetHodge{Name: s}, "set-integrator": session.SetIntegrator{Name: s}, "mark": session.Mark{Label: s}}[m.Cmd], nil
 	case "set-dt":
 		dt, ce := parseNumber(m.Value, "time.dt", "a positive number of seconds")
 		return session.SetDt{Seconds: dt}, ce

@@ -280,10 +280,21 @@ func TestReplayBlowUp(t *testing.T) {
 // TestOptimizeEventsReplay: a replayed set-grid carries grid.optimize
 // when it is given and keeps the run's when it is not.
 func TestOptimizeEventsReplay(t *testing.T) {
-	tl, err := timeline.Parse([]byte(sphereGood), "sphere.toml")
-	if err != nil {
+	// From the Lloyd-relaxed level 3: the relaxation off, then level 2
+	// with the choice left out (kept).
+	cfg := sim.DefaultConfig()
+	cfg.Title = "t"
+	cfg.Grid = sim.GridConfig{Kind: "icosahedral", N: 3, Optimize: "lloyd"}
+	cfg.Initial = sim.InitialConfig{Case: "williamson-2", Params: map[string]float64{}}
+	cfg.Time.Dt, cfg.Time.Duration = 600, 86400
+	tl := &timeline.Timeline{Config: cfg, EndStep: 30, Events: []timeline.Event{
+		{Step: 10, Cmd: timeline.SetGrid, Kind: "icosahedral", N: 3, Optimize: "none"},
+		{Step: 20, Cmd: timeline.SetGrid, Kind: "icosahedral", N: 2},
+	}}
+	if err := tl.Validate(); err != nil {
 		t.Fatal(err)
 	}
+	var err error
 	// The replay: the grid after each event is the one named.
 	m := newModel(t, tl.Config, 1)
 	p := NewPlayer(tl)
@@ -311,35 +322,3 @@ func TestOptimizeEventsReplay(t *testing.T) {
 	}
 
 }
-
-// sphereGood is a timeline on the sphere that switches the Lloyd
-// relaxation off and on, and changes the level keeping it.
-const sphereGood = `title = "t"
-[grid]
-kind = "icosahedral"
-n = 3
-optimize = "lloyd"
-[time]
-integrator = "rk3"
-dt = 600.0
-duration = 86400.0
-[initial]
-case = "williamson-2"
-
-[timeline]
-version = 1
-end_step = 30
-
-[[event]]
-step = 10
-cmd = "set-grid"
-kind = "icosahedral"
-n = 3
-optimize = "none"
-
-[[event]]
-step = 20
-cmd = "set-grid"
-kind = "icosahedral"
-n = 2
-`
