@@ -46,6 +46,39 @@ import (
 // maxLinCache bounds each cache; past it the cache starts afresh.
 const maxLinCache = 32
 
+// remember caches res under key, starting afresh past maxLinCache.
+func remember[R any](cache map[linKey]R, key linKey, res R) {
+	if len(cache) >= maxLinCache {
+		clear(cache)
+	}
+	cache[key] = res
+}
+
+// panelOn is a panel's command: the value is empty or true, and it turns
+// the panel on for every watcher.
+func panelOn(raw json.RawMessage, name, what string, active *bool, changed func()) error {
+	if len(raw) > 0 && string(raw) != "true" && string(raw) != "null" {
+		return refuse(name, shown(raw), "%s = %s: the command takes no value (or true); it turns the run's %s on", name, shown(raw), what)
+	}
+	if !*active {
+		*active = true
+		changed()
+	}
+	return nil
+}
+
+// background runs work on its own goroutine at the lowest priority (the
+// run and its watchers come first) and applies the closure it returns on
+// the actor's goroutine, unless ctx ended first.
+func (v *view) background(ctx context.Context, work func(context.Context) func()) {
+	go func() {
+		lowPriority()
+		if apply := work(ctx); ctx.Err() == nil {
+			v.post(apply)
+		}
+	}()
+}
+
 // Job states in the messages.
 const (
 	linComputing = "computing"
@@ -109,14 +142,7 @@ func (p *linPanel) init() {
 
 // linearOn is the command "linear": start the analysis for this run.
 func (v *view) linearOn(raw json.RawMessage) error {
-	if len(raw) > 0 && string(raw) != "true" && string(raw) != "null" {
-		return refuse("linear", shown(raw), "linear = %s: the command takes no value (or true); it turns the run's linear analysis on", shown(raw))
-	}
-	if !v.lin.active {
-		v.lin.active = true
-		v.linearChanged()
-	}
-	return nil
+	return panelOn(raw, "linear", "linear analysis", &v.lin.active, v.linearChanged)
 }
 
 // linearJoin brings a new watcher up to date.
@@ -162,34 +188,25 @@ func (v *view) linearChanged() {
 	}
 }
 
-// start runs work on its own goroutine; the closure it returns is applied
-// on the run's goroutine, unless the job was cancelled first.
+// start runs work in the background; the closure it returns is applied
+// on the actor's goroutine, unless the job was cancelled first.
 func (p *linPanel) start(v *view, key linKey, disp bool, work func(context.Context) func(*view)) {
 	ctx, cancel := context.WithCancel(v.ctx)
 	j := &linJob{key: key, disp: disp, cancel: cancel}
 	p.job = j
-	go func() {
-		lowPriority() // the run and its watchers come first
+	v.background(ctx, func(ctx context.Context) func() {
 		apply := work(ctx)
-		if ctx.Err() != nil {
-			cancel()
-			return
-		}
-		done := func() {
+		return func() {
 			cancel()
 			if v.lin.job == j {
 				v.lin.job = nil
 			}
-			if j.cancelled { // while waiting to be applied
-				return
+			if !j.cancelled { // while waiting to be applied
+				apply(v)
+				v.linearChanged()
 			}
-			apply(v)
-			v.linearChanged()
 		}
-		if !v.post(done) {
-			cancel()
-		}
-	}()
+	})
 }
 
 // stableJob computes max|λ| on the run's grid (linear.MaxFrequency, as
@@ -204,12 +221,7 @@ func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) {
 			res.limits[l.Integrator] = l.MaxDt
 		}
 	}
-	return func(v *view) {
-		if len(v.lin.stable) >= maxLinCache {
-			clear(v.lin.stable)
-		}
-		v.lin.stable[key] = res
-	}
+	return func(v *view) { remember(v.lin.stable, key, res) }
 }
 
 // predict returns the prediction for the current choices; ok is false
@@ -338,12 +350,7 @@ func dispersionJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) 
 			Message string `json:"message"`
 		}{"dispersion", linReady, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, linear.NewDiagram(c, res), ""})
 	}
-	return func(v *view) {
-		if len(v.lin.disp) >= maxLinCache {
-			clear(v.lin.disp)
-		}
-		v.lin.disp[key] = &out
-	}
+	return func(v *view) { remember(v.lin.disp, key, &out) }
 }
 
 // dispersionMsg returns the message for the current choices, or nil when

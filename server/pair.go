@@ -57,7 +57,9 @@ import (
 
 // pairTags are the subscriptions of a pair's client: side A, side B and
 // the pair's own (acks, errors, the pair's status, A − B frames).
-var pairTags = []tag{{side: "a", wrap: true, bin: 1}, {side: "b", wrap: true, bin: 2}, {side: "", wrap: true, bin: 3}}
+func pairTags() []tag {
+	return []tag{{side: "a", wrap: true, bin: 1}, {side: "b", wrap: true, bin: 2}, {side: "", wrap: true, bin: 3}}
+}
 
 // sideNames name the sides in messages and URLs.
 var sideNames = [2]string{"a", "b"}

@@ -201,5 +201,5 @@ func (ps *pairs) serveWS(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "no pair "+chi.URLParam(req, "id"), http.StatusNotFound)
 		return
 	}
-	ps.s.serveSocket(w, req, socket{a: p.actor, h: p, tags: pairTags, sided: true, what: "pair"})
+	ps.s.serveSocket(w, req, socket{a: p.actor, h: p, tags: pairTags(), sided: true, what: "pair"})
 }

@@ -1,6 +1,7 @@
 package server
 
 import (
+	"context"
 	"encoding/json"
 	"time"
 
@@ -54,14 +55,7 @@ func (p *structPanel) init() {
 
 // structureOn is the command "structure": start the report for this run.
 func (v *view) structureOn(raw json.RawMessage) error {
-	if len(raw) > 0 && string(raw) != "true" && string(raw) != "null" {
-		return refuse("structure", shown(raw), "structure = %s: the command takes no value (or true); it turns the run's structure report on", shown(raw))
-	}
-	if !v.sp.active {
-		v.sp.active = true
-		v.structureChanged()
-	}
-	return nil
+	return panelOn(raw, "structure", "structure report", &v.sp.active, v.structureChanged)
 }
 
 // structureJoin brings a new watcher up to date.
@@ -96,24 +90,19 @@ func (v *view) structureChanged() {
 // the next one starts when it comes back.
 func (p *structPanel) start(v *view, key linKey, cfg sim.Config) {
 	p.running = &key
-	go func() {
-		lowPriority() // the run and its watchers come first
+	v.background(v.ctx, func(context.Context) func() {
 		t0 := time.Now()
 		rep, err := structure.FromConfig(cfg)
 		res := &structResult{seconds: time.Since(t0).Seconds(), err: err}
 		if err == nil {
 			res.report, res.err = json.Marshal(rep)
 		}
-		done := func() {
+		return func() {
 			v.sp.running = nil
-			if len(v.sp.cache) >= maxLinCache {
-				clear(v.sp.cache)
-			}
-			v.sp.cache[key] = res
+			remember(v.sp.cache, key, res)
 			v.structureChanged()
 		}
-		v.post(done)
-	}()
+	})
 }
 
 // structureMsg is the message "structure" for the current choices: the
