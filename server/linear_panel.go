@@ -20,23 +20,17 @@ import (
 //
 //   - stability: the largest stable Δt of each integrator, bound / max|λ|
 //     (linear.StableDt), on the run's own grid and physics, about rest at
-//     depth physics.depth. Because the fastest waves of a flow that is
-//     deeper than physics.depth, or moving, are faster than those of that
-//     rest state, a guide is derived too: the prediction scaled by
-//     √(gH) / (√(g h_max) + |u|_max), the Doppler-shifted gravity-wave speed
-//     of the current state (common practice), never above the prediction.
-//     The UI warns when Δt exceeds the guide, and the server adds a warning
-//     message to an accepted set-dt or set-integrator past it; the hard
-//     limit stays MaxCourant.
+//     depth physics.depth, with the guide for the current state's depth
+//     and speed (linear.NewGuide). The UI warns when Δt exceeds the guide,
+//     and the server adds a warning message to an accepted set-dt or
+//     set-integrator past it; the hard limit stays session.MaxCourant.
 //   - dispersion: every normal mode of the dense analysis (linear.Analyse)
-//     of the run's grid family, on a copy small enough for it (dispersionN)
-//     with the run's cell size, so that its wavenumbers reach the run's
-//     grid scale; on the sphere a coarse level (the cell size cannot be
-//     kept there).
+//     of the copy of the run's grid that linear.DispersionCopy picks,
+//     drawn as linear.NewDiagram lays it out.
 //
-// Both are computed off the run's goroutine, one job at a time on a
+// Both are computed off the actor's goroutine, one job at a time on a
 // thread of the lowest priority (lowPriority), and the result comes back as
-// a cmdFunc command, so the simulation never waits for them and loses
+// a closure on the actor, so the simulation never waits for them and loses
 // little speed to them. Results are cached in the run per spectrum key (grid, physics,
 // scheme; Δt only for apvm, whose upwinding scales with it); the limit of
 // each integrator follows from the cached max|λ|. Nothing is computed until
@@ -121,10 +115,10 @@ type linJob struct {
 	key       linKey
 	disp      bool // the dispersion job, else the stability job
 	cancel    context.CancelFunc
-	cancelled bool // set and read on the run's goroutine
+	cancelled bool // set and read on the actor's goroutine
 }
 
-// linPanel is the run's linear analysis state, owned by the run's goroutine.
+// linPanel is a view's linear analysis state, owned by its actor's goroutine.
 type linPanel struct {
 	active bool
 	stable map[linKey]*stableResult

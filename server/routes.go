@@ -70,7 +70,7 @@ func (s *Server) routes() chi.Router {
 	r.Get("/api/runs", s.serveRunsJSON)
 	s.mountTimeline(r) // timeline_routes.go
 	s.mountPairs(r)    // pair_routes.go
-	s.mountSweeps(r)   // sweep_routes.go
+	s.mountSweeps(r)   // sweep_registry.go
 	r.Get("/static/*", s.serveStatic)
 	r.NotFound(func(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "not found: "+req.URL.Path+" (the workbench is at /)", http.StatusNotFound)
@@ -212,7 +212,7 @@ const (
 	runFormBytes  = 4 << 10
 	pairFormBytes = 8 << 10
 	stopFormBytes = 1 << 10
-	// sweepFormBytes is in sweep_routes.go.
+	// sweepFormBytes is in sweep_registry.go.
 )
 
 // parseForm reads a POST form of at most limit bytes. A larger body is

@@ -20,9 +20,9 @@ import (
 // server only carries the report: it calls structure.FromConfig, which
 // builds its own copy of the mesh, and ships the JSON the package writes.
 // As with the linear panel (linear_panel.go), the report is computed off
-// the run's goroutine on a thread of the lowest priority, one job at a
+// the actor's goroutine on a thread of the lowest priority, one job at a
 // time, cached per key (keyOf: grid, physics, scheme, Hodge star), and the
-// result comes back as a cmdFunc command. Nothing is computed until a
+// result comes back as a closure on the actor. Nothing is computed until a
 // client asks with the command "structure"; from then on every change of
 // choice updates it, and every watcher receives it.
 
