@@ -9,8 +9,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/go-chi/chi/v5"
-
 	"gyrebench/sim/figure"
 )
 
@@ -79,10 +77,8 @@ func figureSize(q url.Values, key string, def, lo int) (int, error) {
 
 func (s *Server) serveFigure(format string) http.HandlerFunc {
 	return func(w http.ResponseWriter, req *http.Request) {
-		id := chi.URLParam(req, "id")
-		run := s.Run(id)
+		run, id := s.runOf(w, req)
 		if run == nil {
-			http.Error(w, "no run "+strconv.Quote(id)+"; the open runs are listed at /runs", http.StatusNotFound)
 			return
 		}
 		q := req.URL.Query()

@@ -122,9 +122,8 @@ func schemeOptions(selected string) []web.Option {
 }
 
 func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
-	run := s.Run(chi.URLParam(req, "id"))
+	run, _ := s.runOf(w, req)
 	if run == nil {
-		http.Error(w, "no run "+strconv.Quote(chi.URLParam(req, "id"))+"; the open runs are listed at /runs", http.StatusNotFound)
 		return
 	}
 	in := run.Info()
@@ -369,4 +368,15 @@ func (s *Server) baseOptions(selected string, withDt bool) []web.Option {
 		opts = append(opts, o)
 	}
 	return opts
+}
+
+// runOf returns the run the request's path names, and its id, or answers
+// 404 and returns nil.
+func (s *Server) runOf(w http.ResponseWriter, req *http.Request) (*Run, string) {
+	id := chi.URLParam(req, "id")
+	run := s.Run(id)
+	if run == nil {
+		http.Error(w, "no run "+strconv.Quote(id)+"; the open runs are listed at /runs", http.StatusNotFound)
+	}
+	return run, id
 }

@@ -70,10 +70,8 @@ func (f sideFile) serve(w http.ResponseWriter, base string, data []byte, err err
 
 func (s *Server) serveRunFile(what sideFile) http.HandlerFunc {
 	return func(w http.ResponseWriter, req *http.Request) {
-		id := chi.URLParam(req, "id")
-		run := s.Run(id)
+		run, id := s.runOf(w, req)
 		if run == nil {
-			http.Error(w, "no run "+strconv.Quote(id)+"; the open runs are listed at /runs", http.StatusNotFound)
 			return
 		}
 		var data []byte
