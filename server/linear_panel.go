@@ -9,7 +9,6 @@ import (
 	"time"
 
 	"gyrebench/sim"
-	"gyrebench/sim/dissip"
 	"gyrebench/sim/linear"
 	"gyrebench/sim/session"
 )
@@ -41,7 +40,7 @@ import (
 const maxLinCache = 32
 
 // remember caches res under key, starting afresh past maxLinCache.
-func remember[R any](cache map[linKey]R, key linKey, res R) {
+func remember[R any](cache map[linear.Key]R, key linear.Key, res R) {
 	if len(cache) >= maxLinCache {
 		clear(cache)
 	}
@@ -80,25 +79,6 @@ const (
 	linFailed    = "failed"
 )
 
-// linKey identifies a spectrum.
-type linKey struct {
-	grid    sim.GridConfig
-	physics sim.PhysicsConfig
-	scheme  string
-	hodge   string
-	apvm    float64
-	dt      float64 // apvm only
-	dissip  dissip.Coefficients
-}
-
-func keyOf(cfg sim.Config) linKey {
-	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: session.HodgeName(cfg.Scheme.Hodge), apvm: cfg.Scheme.APVMFactor, dissip: cfg.Scheme.Dissipation()}
-	if cfg.Scheme.Name == "apvm" {
-		k.dt = cfg.Time.Dt
-	}
-	return k
-}
-
 type stableResult struct {
 	rho     float64            // max|λ|, s⁻¹
 	limits  map[string]float64 // linear's largest stable Δt per integrator, real parts included
@@ -112,7 +92,7 @@ type dispResult struct {
 }
 
 type linJob struct {
-	key       linKey
+	key       linear.Key
 	disp      bool // the dispersion job, else the stability job
 	cancel    context.CancelFunc
 	cancelled bool // set and read on the actor's goroutine
@@ -121,8 +101,8 @@ type linJob struct {
 // linPanel is a view's linear analysis state, owned by its actor's goroutine.
 type linPanel struct {
 	active bool
-	stable map[linKey]*stableResult
-	disp   map[linKey]*dispResult
+	stable map[linear.Key]*stableResult
+	disp   map[linear.Key]*dispResult
 	job    *linJob
 	// sentDisp is the dispersion message last broadcast, so that it is
 	// sent again only when it changes.
@@ -130,8 +110,8 @@ type linPanel struct {
 }
 
 func (p *linPanel) init() {
-	p.stable = map[linKey]*stableResult{}
-	p.disp = map[linKey]*dispResult{}
+	p.stable = map[linear.Key]*stableResult{}
+	p.disp = map[linear.Key]*dispResult{}
 }
 
 // linearOn is the command "linear": start the analysis for this run.
@@ -159,7 +139,7 @@ func (v *view) linearChanged() {
 	}
 	cfg := v.s.Model().Config()
 	cfg.Initial.Params = nil // the job goroutine gets no shared map
-	key := keyOf(cfg)
+	key := linear.KeyOf(cfg)
 	_, haveStable := p.stable[key]
 	_, haveDisp := p.disp[key]
 	if j := p.job; j != nil && (j.key != key || (j.disp && !haveStable)) {
@@ -184,7 +164,7 @@ func (v *view) linearChanged() {
 
 // start runs work in the background; the closure it returns is applied
 // on the actor's goroutine, unless the job was cancelled first.
-func (p *linPanel) start(v *view, key linKey, disp bool, work func(context.Context) func(*view)) {
+func (p *linPanel) start(v *view, key linear.Key, disp bool, work func(context.Context) func(*view)) {
 	ctx, cancel := context.WithCancel(v.ctx)
 	j := &linJob{key: key, disp: disp, cancel: cancel}
 	p.job = j
@@ -205,7 +185,7 @@ func (p *linPanel) start(v *view, key linKey, disp bool, work func(context.Conte
 
 // stableJob computes max|λ| on the run's grid (linear.MaxFrequency, as
 // linear.StableDt does).
-func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) {
+func stableJob(ctx context.Context, key linear.Key, cfg sim.Config) func(*view) {
 	t0 := time.Now()
 	an, err := linear.Analyse(ctx, cfg, linear.Options{ExtremeOnly: true})
 	res := &stableResult{seconds: time.Since(t0).Seconds(), err: err}
@@ -223,7 +203,7 @@ func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) {
 func (v *view) predict() (pred linear.Guide, res *stableResult, ok bool) {
 	m := v.s.Model()
 	cfg := m.Config()
-	res = v.lin.stable[keyOf(cfg)]
+	res = v.lin.stable[linear.KeyOf(cfg)]
 	if res == nil || res.err != nil || !(res.rho > 0) {
 		return pred, res, false
 	}
@@ -329,7 +309,7 @@ func sig4(x float64) string {
 
 // dispersionJob runs the dense analysis of the dispersion copy and encodes
 // the message "dispersion".
-func dispersionJob(ctx context.Context, key linKey, cfg sim.Config) func(*view) {
+func dispersionJob(ctx context.Context, key linear.Key, cfg sim.Config) func(*view) {
 	c, copied := linear.DispersionCopy(cfg)
 	res, err := linear.Analyse(ctx, c, linear.Options{})
 	var out dispResult
@@ -363,7 +343,7 @@ func (v *view) dispersionMsg() []byte {
 		Copy    bool   `json:"copy"`
 		Message string `json:"message"`
 	}{"dispersion", linComputing, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, "computing the normal modes…"}
-	d := v.lin.disp[keyOf(cfg)]
+	d := v.lin.disp[linear.KeyOf(cfg)]
 	switch {
 	case d == nil:
 	case d.err != nil:

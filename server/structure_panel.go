@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"gyrebench/sim"
+	"gyrebench/sim/linear"
 	"gyrebench/sim/session"
 	"gyrebench/sim/structure"
 )
@@ -21,7 +22,7 @@ import (
 // builds its own copy of the mesh, and ships the JSON the package writes.
 // As with the linear panel (linear_panel.go), the report is computed off
 // the actor's goroutine on a thread of the lowest priority, one job at a
-// time, cached per key (keyOf: grid, physics, scheme, Hodge star), and the
+// time, cached per key (linear.KeyOf: grid, physics, scheme, Hodge star), and the
 // result comes back as a closure on the actor. Nothing is computed until a
 // client asks with the command "structure"; from then on every change of
 // choice updates it, and every watcher receives it.
@@ -44,13 +45,13 @@ type structResult struct {
 // goroutine.
 type structPanel struct {
 	active  bool
-	cache   map[linKey]*structResult
-	running *linKey // the key being computed, nil when idle
-	sent    []byte  // the message last broadcast
+	cache   map[linear.Key]*structResult
+	running *linear.Key // the key being computed, nil when idle
+	sent    []byte      // the message last broadcast
 }
 
 func (p *structPanel) init() {
-	p.cache = map[linKey]*structResult{}
+	p.cache = map[linear.Key]*structResult{}
 }
 
 // structureOn is the command "structure": start the report for this run.
@@ -75,7 +76,7 @@ func (v *view) structureChanged() {
 	}
 	cfg := v.s.Model().Config()
 	cfg.Initial.Params = nil // the job goroutine gets no shared map
-	key := keyOf(cfg)
+	key := linear.KeyOf(cfg)
 	if _, ok := p.cache[key]; !ok && p.running == nil {
 		p.start(v, key, cfg)
 	}
@@ -88,7 +89,7 @@ func (v *view) structureChanged() {
 // start computes the report of cfg on its own goroutine. A job runs to its
 // end even when the choices move on meanwhile: its report is cached, and
 // the next one starts when it comes back.
-func (p *structPanel) start(v *view, key linKey, cfg sim.Config) {
+func (p *structPanel) start(v *view, key linear.Key, cfg sim.Config) {
 	p.running = &key
 	v.background(v.ctx, func(context.Context) func() {
 		t0 := time.Now()
@@ -121,7 +122,7 @@ func (v *view) structureMsg() []byte {
 		Message    string          `json:"message"`
 	}{"structure", structComputing, session.GridName(cfg.Grid.Kind, cfg.Grid.N), cfg.Scheme.Name, session.HodgeName(cfg.Scheme.Hodge),
 		v.s.Model().Mesh().Orthogonal, 0, nil, "measuring the structure of this grid and scheme…"}
-	switch res := v.sp.cache[keyOf(cfg)]; {
+	switch res := v.sp.cache[linear.KeyOf(cfg)]; {
 	case res == nil:
 	case res.err != nil:
 		msg.State, msg.Message = structFailed, "structure report failed: "+res.err.Error()

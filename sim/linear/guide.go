@@ -4,9 +4,38 @@ import (
 	"math"
 
 	"gyrebench/sim"
+	"gyrebench/sim/dissip"
 	"gyrebench/sim/mesh"
+	"gyrebench/sim/scheme"
 	"gyrebench/sim/step"
 )
+
+// Key is what the spectrum of a config's linearised operator depends on:
+// the grid, the physics, the scheme with its Hodge star, APVM factor and
+// dissipation, and Δt for apvm alone, whose PV upwinding scales with it.
+// Equal keys have equal spectra, so a cache of analyses goes by it.
+type Key struct {
+	grid    sim.GridConfig
+	physics sim.PhysicsConfig
+	scheme  string
+	hodge   string
+	apvm    float64
+	dt      float64 // apvm only
+	dissip  dissip.Coefficients
+}
+
+// KeyOf returns the key of cfg's spectrum.
+func KeyOf(cfg sim.Config) Key {
+	hodge := cfg.Scheme.Hodge
+	if hodge == "" {
+		hodge = scheme.HodgeConsistent
+	}
+	k := Key{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: hodge, apvm: cfg.Scheme.APVMFactor, dissip: cfg.Scheme.Dissipation()}
+	if cfg.Scheme.Name == scheme.APVM {
+		k.dt = cfg.Time.Dt
+	}
+	return k
+}
 
 // GuideSlack: the guide departs from the prediction only when it is
 // lower by more than this fraction, so that one number is shown.

@@ -36,3 +36,29 @@ func TestDispersionCopy(t *testing.T) {
 		}
 	}
 }
+
+// TestKey: Δt enters the spectrum's key for apvm only, whose PV
+// upwinding scales with it.
+func TestKey(t *testing.T) {
+	a := sim.DefaultConfig()
+	b := a
+	b.Time.Dt *= 2
+	b.Time.Integrator = "rk4"
+	if KeyOf(a) != KeyOf(b) {
+		t.Error("trisk-energy: a change of Δt or integrator changed the spectrum key")
+	}
+	a.Scheme.Name, b.Scheme.Name = "apvm", "apvm"
+	if KeyOf(a) == KeyOf(b) {
+		t.Error("apvm: a change of Δt kept the spectrum key")
+	}
+	// The Hodge star is part of the operator; "" is the consistent one.
+	c, d := sim.DefaultConfig(), sim.DefaultConfig()
+	c.Scheme.Hodge, d.Scheme.Hodge = "", "consistent"
+	if KeyOf(c) != KeyOf(d) {
+		t.Error("scheme.hodge \"\" and \"consistent\" gave different keys")
+	}
+	d.Scheme.Hodge = "diagonal"
+	if KeyOf(c) == KeyOf(d) {
+		t.Error("a change of Hodge star kept the spectrum key")
+	}
+}
