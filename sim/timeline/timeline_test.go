@@ -8,19 +8,6 @@ import (
 	"gyrebench/sim"
 )
 
-// small is a quick planar run: a Gaussian bump on a 16 × 16 hexagonal
-// f-plane, which sheds gravity waves and leaves a balanced vortex.
-func small() sim.Config {
-	cfg := sim.DefaultConfig()
-	cfg.Title = "timeline test"
-	cfg.Grid = sim.GridConfig{Kind: "hex", N: 16, Length: 1e6}
-	cfg.Initial.Case = "gaussian-bump"
-	cfg.Initial.Params = map[string]float64{"amplitude": 20, "width": 0.1}
-	cfg.Time.Dt = 60
-	cfg.Time.Duration = 86400
-	return cfg
-}
-
 // good is a valid timeline file; the bad cases below each change a line.
 const good = `title = "t"
 [grid]
