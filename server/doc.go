@@ -2,25 +2,18 @@
 // runs, one goroutine per run that owns its *sim.Model, and a websocket hub
 // that streams fields, invariants and control messages to browsers.
 //
-// # Runs
+// # Runs and pairs
 //
-// A run is a goroutine that owns one model and everything derived from it:
-// the series of invariant points, the change markers, the ring buffer of
-// recent states and the set of subscribers. Everything reaches it as a
-// command on one channel (play, pause, step, reset, set-dt, set-integrator,
-// set-scheme, set-grid, set-field, load, scrub, and a subscriber joining or
-// leaving), so nothing in a run is shared and nothing needs a lock. Several
-// runs can exist; several websocket clients can watch one run, and they all
-// see and control the same thing. A run pauses when its last watcher
-// leaves.
-//
-// A scheme, integrator or Δt change takes effect at the next step on the
-// same state; a grid change goes through sim.Model.Regrid, which remaps the
-// state conservatively. Each is recorded as a marker in the series. Every
-// ringEvery steps (and at a blow-up) the state is copied into a ring of
-// Options.RingSize entries; scrubbing sets the model to one of them, and
-// the first step or change after that forgets the entries, points and
-// markers that came later.
+// A run is one session (package sim/session: the model, its history,
+// ring, markers, record and replay) owned by one actor goroutine
+// (actor.go); a lockstep pair is two sessions owned by one actor
+// (pair.go). Every command reaches the actor as a closure on one channel,
+// so nothing in a session is shared and nothing needs a lock. The server
+// parses a websocket message once (wire.go), turns it into a typed
+// session.Command and applies it with session.Apply; a view (view.go)
+// turns what Apply reports into messages for the watchers. Several
+// websocket clients can watch one run; they all see and control the same
+// thing. A run pauses when its last watcher leaves.
 //
 // # Limits
 //
@@ -73,7 +66,7 @@
 // Figures (figure_routes.go): GET /run/{id}/figure.png and figure.svg
 // render the displayed field server-side with package sim/figure.
 //
-// Timelines (timeline_run.go, timeline_routes.go): every command a run
+// Timelines (sim/session, timeline_routes.go): every command a run
 // takes is recorded with its step (package sim/timeline). The commands
 // mark (a labelled moment where a replay pauses), replay (a built-in
 // timeline name or an uploaded file's text) and stop-replay drive it, and
@@ -86,7 +79,7 @@
 // whichever side is behind in simulated time (both when level), and
 // commands name their side.
 //
-// Sweeps (sweep_routes.go): /sweeps/new starts a sweep (package sweep) in
+// Sweeps (sweep_*.go): /sweeps/new starts a sweep (package sweep) in
 // its own folder under Options.SweepDir, one at a time, under the server's
 // context; /sweep/{id} shows its progress from a server-sent event stream
 // (/sweep/{id}/events), then its plots and files, which are served only by

@@ -9,11 +9,7 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/go-chi/chi/v5"
-
-	"gyrebench/sim"
 	"gyrebench/sim/figure"
-	"gyrebench/sim/mesh"
 )
 
 // Figures for slides: GET /run/{id}/figure.png and /run/{id}/figure.svg
@@ -32,51 +28,38 @@ const (
 )
 
 // figureSnap is what a figure needs from a run, copied on the run's
-// goroutine. The mesh is immutable and shared.
+// goroutine; render draws it (the mesh is immutable and shared).
 type figureSnap struct {
-	mesh *mesh.Mesh
-	vals []float64
-	def  *fieldDef
-	cfg  sim.Config
-	t    float64
+	def    *fieldDef
+	vals   []float64
+	title  string
+	t      float64
+	render func(w *bytes.Buffer, format string, loc figure.Location, opt figure.Options) error
 }
 
-// snapshotField copies field name ("" = the displayed one) of the current
-// state.
-func (r *Run) snapshotField(name string) (figureSnap, error) {
-	def := r.field
-	if name != "" {
-		f, err := lookupField(name)
-		if err != nil {
-			return figureSnap{}, err
-		}
-		def = f
-	}
-	vals := r.scratch.values(def, r.m)
-	return figureSnap{mesh: r.m.Mesh(), vals: append([]float64(nil), vals...), def: def, cfg: r.m.Config(), t: r.m.Time()}, nil
-}
-
-// figureData asks the run's goroutine for a snapshot.
+// figureData copies field name ("" = the displayed one) of the run's
+// current state on its goroutine.
 func (r *Run) figureData(ctx context.Context, name string) (figureSnap, error) {
-	type reply struct {
-		s   figureSnap
-		err error
-	}
-	ch := make(chan reply, 1)
-	if !r.submit(ctx, command{kind: cmdFunc, fn: func(r *Run) {
-		s, err := r.snapshotField(name)
-		ch <- reply{s, err}
-	}}) {
+	var snap figureSnap
+	var err error
+	if !r.await(ctx, func() {
+		v := r.v
+		def := v.field
+		if name != "" {
+			if def, err = lookupField(name); err != nil {
+				return
+			}
+		}
+		m := v.s.Model()
+		msh, vals := m.Mesh(), append([]float64(nil), v.scratch.values(def, m)...)
+		snap = figureSnap{def: def, vals: vals, title: figure.Title(m.Config(), m.Time()), t: m.Time(),
+			render: func(w *bytes.Buffer, format string, loc figure.Location, opt figure.Options) error {
+				return figure.Render(w, format, msh, vals, loc, opt)
+			}}
+	}) {
 		return figureSnap{}, fmt.Errorf("run %s has stopped", r.id)
 	}
-	select {
-	case rep := <-ch:
-		return rep.s, rep.err
-	case <-r.done:
-		return figureSnap{}, fmt.Errorf("run %s has stopped", r.id)
-	case <-ctx.Done():
-		return figureSnap{}, ctx.Err()
-	}
+	return snap, err
 }
 
 // figureSize reads a size parameter: absent means def.
@@ -94,10 +77,8 @@ func figureSize(q url.Values, key string, def, lo int) (int, error) {
 
 func (s *Server) serveFigure(format string) http.HandlerFunc {
 	return func(w http.ResponseWriter, req *http.Request) {
-		id := chi.URLParam(req, "id")
-		run := s.Run(id)
+		run, id := s.runOf(w, req)
 		if run == nil {
-			http.Error(w, "no run "+strconv.Quote(id)+"; the open runs are listed at /runs", http.StatusNotFound)
 			return
 		}
 		q := req.URL.Query()
@@ -132,8 +113,8 @@ func (s *Server) serveFigure(format string) http.HandlerFunc {
 			signed = lo < 0 && hi > 0
 		}
 		var b bytes.Buffer
-		err = figure.Render(&b, format, snap.mesh, snap.vals, loc, figure.Options{
-			Title: figure.Title(snap.cfg, snap.t), Label: snap.def.Label, Units: plainUnits(snap.def.Units),
+		err = snap.render(&b, format, loc, figure.Options{
+			Title: snap.title, Label: snap.def.Label, Units: plainUnits(snap.def.Units),
 			Signed: signed, Width: width, Height: height,
 		})
 		if err != nil {

@@ -22,21 +22,21 @@ func FuzzParseClient(f *testing.F) {
 		f.Add([]byte(s))
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		m, ce := parseClient(data)
+		m, ce := parseMsg(data, false)
 		if ce != nil {
-			if ce.field == "" || ce.msg == "" {
+			if ce.Field == "" || ce.Message == "" {
 				t.Fatalf("%q: refusal without a field or a message: %+v", data, ce)
 			}
-			if !strings.Contains(ce.msg, "want") && !strings.Contains(ce.msg, "allowed") && !strings.Contains(ce.msg, "send") {
-				t.Fatalf("%q: refusal %q does not say what is allowed", data, ce.msg)
+			if !strings.Contains(ce.Message, "want") && !strings.Contains(ce.Message, "allowed") && !strings.Contains(ce.Message, "send") {
+				t.Fatalf("%q: refusal %q does not say what is allowed", data, ce.Message)
 			}
 			reply := errorReply(m, ce)
 			var e struct {
 				Type  string `json:"type"`
 				Field string `json:"field"`
 			}
-			if !json.Valid(reply.data) || json.Unmarshal(reply.data, &e) != nil || e.Type != "error" || e.Field != ce.field {
-				t.Fatalf("%q: error reply %s is not an error message naming %q", data, reply.data, ce.field)
+			if !json.Valid(reply.data) || json.Unmarshal(reply.data, &e) != nil || e.Type != "error" || e.Field != ce.Field {
+				t.Fatalf("%q: error reply %s is not an error message naming %q", data, reply.data, ce.Field)
 			}
 			return
 		}
@@ -47,7 +47,7 @@ func FuzzParseClient(f *testing.F) {
 		if err != nil {
 			t.Fatalf("%q: accepted, but does not re-encode: %v", data, err)
 		}
-		m2, ce := parseClient(again)
+		m2, ce := parseMsg(again, false)
 		var want bytes.Buffer
 		_ = json.Compact(&want, m.Value) // Marshal compacts a raw value
 		if ce != nil || m2.ID != m.ID || m2.Cmd != m.Cmd || string(m2.Value) != want.String() {

@@ -9,10 +9,8 @@ import (
 	"time"
 
 	"gyrebench/sim"
-	"gyrebench/sim/dissip"
 	"gyrebench/sim/linear"
-	"gyrebench/sim/mesh"
-	"gyrebench/sim/step"
+	"gyrebench/sim/session"
 )
 
 // The linear panel: what the linearised scheme predicts for the run's
@@ -21,42 +19,58 @@ import (
 //
 //   - stability: the largest stable Δt of each integrator, bound / max|λ|
 //     (linear.StableDt), on the run's own grid and physics, about rest at
-//     depth physics.depth. Because the fastest waves of a flow that is
-//     deeper than physics.depth, or moving, are faster than those of that
-//     rest state, a guide is derived too: the prediction scaled by
-//     √(gH) / (√(g h_max) + |u|_max), the Doppler-shifted gravity-wave speed
-//     of the current state (common practice), never above the prediction.
-//     The UI warns when Δt exceeds the guide, and the server adds a warning
-//     message to an accepted set-dt or set-integrator past it; the hard
-//     limit stays MaxCourant.
+//     depth physics.depth, with the guide for the current state's depth
+//     and speed (linear.NewGuide). The UI warns when Δt exceeds the guide,
+//     and the server adds a warning message to an accepted set-dt or
+//     set-integrator past it; the hard limit stays session.MaxCourant.
 //   - dispersion: every normal mode of the dense analysis (linear.Analyse)
-//     of the run's grid family, on a copy small enough for it (dispersionN)
-//     with the run's cell size, so that its wavenumbers reach the run's
-//     grid scale; on the sphere a coarse level (the cell size cannot be
-//     kept there).
+//     of the copy of the run's grid that linear.DispersionCopy picks,
+//     drawn as linear.NewDiagram lays it out.
 //
-// Both are computed off the run's goroutine, one job at a time on a
+// Both are computed off the actor's goroutine, one job at a time on a
 // thread of the lowest priority (lowPriority), and the result comes back as
-// a cmdFunc command, so the simulation never waits for them and loses
+// a closure on the actor, so the simulation never waits for them and loses
 // little speed to them. Results are cached in the run per spectrum key (grid, physics,
 // scheme; Δt only for apvm, whose upwinding scales with it); the limit of
 // each integrator follows from the cached max|λ|. Nothing is computed until
 // a client asks with the command "linear"; from then on every change of
 // choice updates both, and every watcher receives them.
 
-// Dispersion copies: the largest resolution analysed densely, per family.
-// Each is 576–768 unknowns, about half a second (linear.Analyse's cost note).
-var dispersionN = map[string]int{
-	string(mesh.Quad): 16, string(mesh.Hex): 12, string(mesh.Tri): 12, string(mesh.Icosahedral): 2,
-	string(mesh.Cubed): 6, // 216 cells, 648 unknowns
-}
-
 // maxLinCache bounds each cache; past it the cache starts afresh.
 const maxLinCache = 32
 
-// guideSlack: the guide departs from the prediction only when it is lower
-// by more than this fraction.
-const guideSlack = 0.05
+// remember caches res under key, starting afresh past maxLinCache.
+func remember[R any](cache map[linear.Key]R, key linear.Key, res R) {
+	if len(cache) >= maxLinCache {
+		clear(cache)
+	}
+	cache[key] = res
+}
+
+// panelOn is a panel's command: the value is empty or true, and it turns
+// the panel on for every watcher.
+func panelOn(raw json.RawMessage, name, what string, active *bool, changed func()) error {
+	if len(raw) > 0 && string(raw) != "true" && string(raw) != "null" {
+		return refuse(name, shown(raw), "%s = %s: the command takes no value (or true); it turns the run's %s on", name, shown(raw), what)
+	}
+	if !*active {
+		*active = true
+		changed()
+	}
+	return nil
+}
+
+// background runs work on its own goroutine at the lowest priority (the
+// run and its watchers come first) and applies the closure it returns on
+// the actor's goroutine, unless ctx ended first.
+func (v *view) background(ctx context.Context, work func(context.Context) func()) {
+	go func() {
+		lowPriority()
+		if apply := work(ctx); ctx.Err() == nil {
+			v.post(apply)
+		}
+	}()
+}
 
 // Job states in the messages.
 const (
@@ -64,25 +78,6 @@ const (
 	linReady     = "ready"
 	linFailed    = "failed"
 )
-
-// linKey identifies a spectrum.
-type linKey struct {
-	grid    sim.GridConfig
-	physics sim.PhysicsConfig
-	scheme  string
-	hodge   string
-	apvm    float64
-	dt      float64 // apvm only
-	dissip  dissip.Coefficients
-}
-
-func keyOf(cfg sim.Config) linKey {
-	k := linKey{grid: cfg.Grid, physics: cfg.Physics, scheme: cfg.Scheme.Name, hodge: hodgeName(cfg.Scheme.Hodge), apvm: cfg.Scheme.APVMFactor, dissip: cfg.Scheme.Dissipation()}
-	if cfg.Scheme.Name == "apvm" {
-		k.dt = cfg.Time.Dt
-	}
-	return k
-}
 
 type stableResult struct {
 	rho     float64            // max|λ|, s⁻¹
@@ -97,63 +92,54 @@ type dispResult struct {
 }
 
 type linJob struct {
-	key       linKey
+	key       linear.Key
 	disp      bool // the dispersion job, else the stability job
 	cancel    context.CancelFunc
-	cancelled bool // set and read on the run's goroutine
+	cancelled bool // set and read on the actor's goroutine
 }
 
-// linPanel is the run's linear analysis state, owned by the run's goroutine.
+// linPanel is a view's linear analysis state, owned by its actor's goroutine.
 type linPanel struct {
-	ctx    context.Context
 	active bool
-	stable map[linKey]*stableResult
-	disp   map[linKey]*dispResult
+	stable map[linear.Key]*stableResult
+	disp   map[linear.Key]*dispResult
 	job    *linJob
 	// sentDisp is the dispersion message last broadcast, so that it is
 	// sent again only when it changes.
 	sentDisp []byte
 }
 
-func (p *linPanel) init(ctx context.Context) {
-	p.ctx = ctx
-	p.stable = map[linKey]*stableResult{}
-	p.disp = map[linKey]*dispResult{}
+func (p *linPanel) init() {
+	p.stable = map[linear.Key]*stableResult{}
+	p.disp = map[linear.Key]*dispResult{}
 }
 
 // linearOn is the command "linear": start the analysis for this run.
-func (r *Run) linearOn(raw json.RawMessage) error {
-	if len(raw) > 0 && string(raw) != "true" && string(raw) != "null" {
-		return refuse("linear", shown(raw), "linear = %s: the command takes no value (or true); it turns the run's linear analysis on", shown(raw))
-	}
-	if !r.lin.active {
-		r.lin.active = true
-		r.linearChanged()
-	}
-	return nil
+func (v *view) linearOn(raw json.RawMessage) error {
+	return panelOn(raw, "linear", "linear analysis", &v.lin.active, v.linearChanged)
 }
 
 // linearJoin brings a new watcher up to date.
-func (r *Run) linearJoin(s *subscriber) {
-	if !r.lin.active {
+func (v *view) linearJoin(s *subscriber) {
+	if !v.lin.active {
 		return
 	}
-	s.send(r.stabilityMsg())
-	if d := r.dispersionMsg(); d != nil {
+	s.send(v.stabilityMsg())
+	if d := v.dispersionMsg(); d != nil {
 		s.send(outMsg{typ: textMsg, data: d})
 	}
 }
 
 // linearChanged starts what the current choices still need and tells
 // every watcher. It is called after every change of choice.
-func (r *Run) linearChanged() {
-	p := &r.lin
+func (v *view) linearChanged() {
+	p := &v.lin
 	if !p.active {
 		return
 	}
-	cfg := r.m.Config()
+	cfg := v.s.Model().Config()
 	cfg.Initial.Params = nil // the job goroutine gets no shared map
-	key := keyOf(cfg)
+	key := linear.KeyOf(cfg)
 	_, haveStable := p.stable[key]
 	_, haveDisp := p.disp[key]
 	if j := p.job; j != nil && (j.key != key || (j.disp && !haveStable)) {
@@ -164,51 +150,42 @@ func (r *Run) linearChanged() {
 	if p.job == nil {
 		switch {
 		case !haveStable:
-			p.start(r, key, false, func(ctx context.Context) func(*Run) { return stableJob(ctx, key, cfg) })
+			p.start(v, key, false, func(ctx context.Context) func(*view) { return stableJob(ctx, key, cfg) })
 		case !haveDisp:
-			p.start(r, key, true, func(ctx context.Context) func(*Run) { return dispersionJob(ctx, key, cfg) })
+			p.start(v, key, true, func(ctx context.Context) func(*view) { return dispersionJob(ctx, key, cfg) })
 		}
 	}
-	r.broadcast(r.stabilityMsg())
-	if d := r.dispersionMsg(); d != nil && string(d) != string(p.sentDisp) {
+	v.broadcast(v.stabilityMsg())
+	if d := v.dispersionMsg(); d != nil && string(d) != string(p.sentDisp) {
 		p.sentDisp = d
-		r.broadcast(outMsg{typ: textMsg, data: d})
+		v.broadcast(outMsg{typ: textMsg, data: d})
 	}
 }
 
-// start runs work on its own goroutine; the closure it returns is applied
-// on the run's goroutine, unless the job was cancelled first.
-func (p *linPanel) start(r *Run, key linKey, disp bool, work func(context.Context) func(*Run)) {
-	ctx, cancel := context.WithCancel(p.ctx)
+// start runs work in the background; the closure it returns is applied
+// on the actor's goroutine, unless the job was cancelled first.
+func (p *linPanel) start(v *view, key linear.Key, disp bool, work func(context.Context) func(*view)) {
+	ctx, cancel := context.WithCancel(v.ctx)
 	j := &linJob{key: key, disp: disp, cancel: cancel}
 	p.job = j
-	go func() {
-		lowPriority() // the run and its watchers come first
+	v.background(ctx, func(ctx context.Context) func() {
 		apply := work(ctx)
-		if ctx.Err() != nil {
+		return func() {
 			cancel()
-			return
-		}
-		done := func(r *Run) {
-			cancel()
-			if r.lin.job == j {
-				r.lin.job = nil
+			if v.lin.job == j {
+				v.lin.job = nil
 			}
-			if j.cancelled { // while waiting to be applied
-				return
+			if !j.cancelled { // while waiting to be applied
+				apply(v)
+				v.linearChanged()
 			}
-			apply(r)
-			r.linearChanged()
 		}
-		if !r.submit(ctx, command{kind: cmdFunc, fn: done}) {
-			cancel()
-		}
-	}()
+	})
 }
 
 // stableJob computes max|λ| on the run's grid (linear.MaxFrequency, as
 // linear.StableDt does).
-func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
+func stableJob(ctx context.Context, key linear.Key, cfg sim.Config) func(*view) {
 	t0 := time.Now()
 	an, err := linear.Analyse(ctx, cfg, linear.Options{ExtremeOnly: true})
 	res := &stableResult{seconds: time.Since(t0).Seconds(), err: err}
@@ -218,59 +195,27 @@ func stableJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
 			res.limits[l.Integrator] = l.MaxDt
 		}
 	}
-	return func(r *Run) {
-		if len(r.lin.stable) >= maxLinCache {
-			clear(r.lin.stable)
-		}
-		r.lin.stable[key] = res
-	}
-}
-
-// prediction is the stability of the current choices, when known.
-type prediction struct {
-	rho      float64            // max|λ|, s⁻¹
-	limits   map[string]float64 // largest stable Δt per integrator (0: none)
-	dtStable float64            // of the current integrator
-	guide    float64            // dtStable corrected for the state's depth and speed
-	scale    float64            // guide / dtStable
-	inv      float64            // √(g h_max) + |u|_max of the state, m/s
+	return func(v *view) { remember(v.lin.stable, key, res) }
 }
 
 // predict returns the prediction for the current choices; ok is false
 // while it is being computed or when it failed (res says which).
-func (r *Run) predict() (pred prediction, res *stableResult, ok bool) {
-	cfg := r.m.Config()
-	res = r.lin.stable[keyOf(cfg)]
+func (v *view) predict() (pred linear.Guide, res *stableResult, ok bool) {
+	m := v.s.Model()
+	cfg := m.Config()
+	res = v.lin.stable[linear.KeyOf(cfg)]
 	if res == nil || res.err != nil || !(res.rho > 0) {
 		return pred, res, false
 	}
-	pred.rho = res.rho
-	pred.limits = map[string]float64{}
-	for _, name := range step.Names {
-		pred.limits[name] = step.ImaginaryAxisLimit(name, step.Options{Asselin: cfg.Time.Asselin}) / res.rho
-		if l, ok := res.limits[name]; ok {
-			pred.limits[name] = l // the analysis's own, with the dissipation's real parts
-		}
-	}
-	pred.dtStable = pred.limits[cfg.Time.Integrator]
-	inv := r.m.Invariants()
-	pred.inv = math.Sqrt(cfg.Physics.G*math.Max(inv.HMax, 0)) + inv.MaxSpeed
-	pred.scale = 1
-	if c := math.Sqrt(cfg.Physics.G * cfg.Physics.Depth); pred.inv > c && !math.IsInf(pred.inv, 0) {
-		pred.scale = c / pred.inv
-	}
-	if pred.scale > 1-guideSlack {
-		pred.scale = 1 // within the slack the prediction stands, so one number is shown
-	}
-	pred.guide = pred.dtStable * pred.scale
-	return pred, res, true
+	inv := m.Invariants()
+	return linear.NewGuide(cfg, res.rho, res.limits, inv.HMax, inv.MaxSpeed), res, true
 }
 
 // stabilityMsg is the message "stability": the predicted limits for the
 // current choices, the state's correction and the live Courant number.
-func (r *Run) stabilityMsg() outMsg {
-	cfg := r.m.Config()
-	pred, res, ok := r.predict()
+func (v *view) stabilityMsg() outMsg {
+	cfg := v.s.Model().Config()
+	pred, res, ok := v.predict()
 	state, message := linComputing, "computing the largest stable Δt of this grid and scheme…"
 	var seconds float64
 	switch {
@@ -283,13 +228,17 @@ func (r *Run) stabilityMsg() outMsg {
 		state, message = linFailed, "linear analysis found no non-zero frequency on this grid"
 	}
 	limits := map[string]num{}
-	for k, v := range pred.limits {
-		limits[k] = num(v)
+	for k, l := range pred.Limits {
+		limits[k] = num(l)
 	}
-	courant := r.m.Invariants().CourantGravity
+	rho := 0.0
+	if ok {
+		rho = res.rho
+	}
+	courant := v.s.Model().Invariants().CourantGravity
 	atLimit := math.NaN()
-	if ok && cfg.Time.Dt > 0 {
-		atLimit = courant * pred.dtStable / cfg.Time.Dt
+	if ok {
+		atLimit = pred.CourantAtLimit(courant, cfg.Time.Dt)
 	}
 	return outMsg{typ: textMsg, data: mustJSON(struct {
 		Type           string         `json:"type"`
@@ -310,38 +259,39 @@ func (r *Run) stabilityMsg() outMsg {
 		Seconds        num            `json:"seconds"`
 		Message        string         `json:"message"`
 	}{
-		"stability", state, gridName(cfg.Grid.Kind, cfg.Grid.N), cfg.Scheme.Name, cfg.Time.Integrator,
-		num(cfg.Time.Dt), num(pred.dtStable), num(pred.guide), num(pred.scale), limits, num(pred.rho),
-		num(cfg.Physics.Depth), num(pred.inv), num(courant), num(atLimit), num(seconds), message,
+		"stability", state, session.GridName(cfg.Grid.Kind, cfg.Grid.N), cfg.Scheme.Name, cfg.Time.Integrator,
+		num(cfg.Time.Dt), num(pred.DtStable), num(pred.Guide), num(pred.Scale), limits, num(rho),
+		num(cfg.Physics.Depth), num(pred.WaveSpeed), num(courant), num(atLimit), num(seconds), message,
 	})}
 }
 
 // warning returns a warning for an accepted command that leaves Δt past
 // the predicted limit, or nil.
-func (r *Run) warning(m clientMsg) *outMsg {
+func (v *view) warning(m wireMsg) *outMsg {
 	if m.Cmd != "set-dt" && m.Cmd != "set-integrator" {
 		return nil
 	}
-	pred, _, ok := r.predict()
+	pred, _, ok := v.predict()
 	if !ok {
 		return nil
 	}
-	cfg := r.m.Config()
+	cfg := v.s.Model().Config()
 	dt, in := cfg.Time.Dt, cfg.Time.Integrator
 	var text string
 	switch {
-	case pred.dtStable == 0:
+	case pred.DtStable == 0:
 		text = fmt.Sprintf("time.integrator = %q is unstable for every Δt on oscillatory modes (its stability region misses the imaginary axis): expect the run to grow and blow up", in)
-	case dt > pred.guide:
-		text = fmt.Sprintf("Δt = %s s is above the largest stable Δt predicted for %s on this grid, %s s", fmtSeconds(dt), in, sig4(pred.guide))
-		if pred.scale < 1-guideSlack {
-			text += fmt.Sprintf(" (%s s about rest at depth %g m, scaled by %.2f for this flow's depth and speed)", sig4(pred.dtStable), cfg.Physics.Depth, pred.scale)
+	case dt > pred.Guide:
+		text = fmt.Sprintf("Δt = %s s is above the largest stable Δt predicted for %s on this grid, %s s", fmtSeconds(dt), in, sig4(pred.Guide))
+		if pred.Scale < 1-linear.GuideSlack {
+			text += fmt.Sprintf(" (%s s about rest at depth %g m, scaled by %.2f for this flow's depth and speed)", sig4(pred.DtStable), cfg.Physics.Depth, pred.Scale)
 		}
-		text += fmt.Sprintf(": expect the run to blow up. Allowed up to %s s.", sig4(r.dtMax()))
+		text += fmt.Sprintf(": expect the run to blow up. Allowed up to %s s.", sig4(v.s.DtMax()))
 	default:
 		return nil
 	}
-	return &outMsg{typ: textMsg, data: mustJSON(errorMsg{Type: "warning", ID: m.ID, Cmd: m.Cmd, Field: "time.dt", Value: fmtSeconds(dt), Message: text})}
+	w := textOut(errorMsg{Type: "warning", ID: m.ID, Cmd: m.Cmd, Field: "time.dt", Value: fmtSeconds(dt), Message: text})
+	return &w
 }
 
 func fmtSeconds(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
@@ -357,54 +307,34 @@ func sig4(x float64) string {
 	return strconv.FormatFloat(math.Round(x/p)*p, 'f', max(0, 3-e), 64)
 }
 
-// dispersionCopy is the config the dispersion diagram analyses: the run's
-// grid family at a resolution of at most dispersionN, with the run's cell
-// size on the plane. copied says whether it is smaller than the run's grid.
-func dispersionCopy(cfg sim.Config) (c sim.Config, copied bool) {
-	c = cfg
-	n := dispersionN[cfg.Grid.Kind]
-	if n == 0 || cfg.Grid.N <= n {
-		return c, false
-	}
-	c.Grid.N = n
-	if !isSphereKind(cfg.Grid.Kind) {
-		s := float64(n) / float64(cfg.Grid.N)
-		c.Grid.Length *= s
-		c.Grid.Height *= s // 0, the natural height, stays 0
-	}
-	return c, true
-}
-
-// classOrder indexes the classes in the dispersion message.
-var classOrder = []linear.Class{linear.InertiaGravity, linear.Geostrophic, linear.Rossby, linear.Spurious}
-
 // dispersionJob runs the dense analysis of the dispersion copy and encodes
 // the message "dispersion".
-func dispersionJob(ctx context.Context, key linKey, cfg sim.Config) func(*Run) {
-	c, copied := dispersionCopy(cfg)
+func dispersionJob(ctx context.Context, key linear.Key, cfg sim.Config) func(*view) {
+	c, copied := linear.DispersionCopy(cfg)
 	res, err := linear.Analyse(ctx, c, linear.Options{})
 	var out dispResult
-	if err != nil {
-		out.err = err
-	} else {
-		out.msg = encodeDispersion(cfg, c, copied, res)
+	if out.err = err; err == nil {
+		out.msg, out.err = json.Marshal(struct {
+			Type  string `json:"type"`
+			State string `json:"state"`
+			Grid  string `json:"grid"`
+			Of    string `json:"of"`
+			Copy  bool   `json:"copy"`
+			linear.Diagram
+			Message string `json:"message"`
+		}{"dispersion", linReady, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, linear.NewDiagram(c, res), ""})
 	}
-	return func(r *Run) {
-		if len(r.lin.disp) >= maxLinCache {
-			clear(r.lin.disp)
-		}
-		r.lin.disp[key] = &out
-	}
+	return func(v *view) { remember(v.lin.disp, key, &out) }
 }
 
 // dispersionMsg returns the message for the current choices, or nil when
 // nothing is to be said (the panel is off).
-func (r *Run) dispersionMsg() []byte {
-	if !r.lin.active {
+func (v *view) dispersionMsg() []byte {
+	if !v.lin.active {
 		return nil
 	}
-	cfg := r.m.Config()
-	c, copied := dispersionCopy(cfg)
+	cfg := v.s.Model().Config()
+	c, copied := linear.DispersionCopy(cfg)
 	head := struct {
 		Type    string `json:"type"`
 		State   string `json:"state"`
@@ -412,8 +342,8 @@ func (r *Run) dispersionMsg() []byte {
 		Of      string `json:"of"`
 		Copy    bool   `json:"copy"`
 		Message string `json:"message"`
-	}{"dispersion", linComputing, gridName(c.Grid.Kind, c.Grid.N), gridName(cfg.Grid.Kind, cfg.Grid.N), copied, "computing the normal modes…"}
-	d := r.lin.disp[keyOf(cfg)]
+	}{"dispersion", linComputing, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, "computing the normal modes…"}
+	d := v.lin.disp[linear.KeyOf(cfg)]
 	switch {
 	case d == nil:
 	case d.err != nil:
@@ -422,68 +352,4 @@ func (r *Run) dispersionMsg() []byte {
 		return d.msg
 	}
 	return mustJSON(head)
-}
-
-// encodeDispersion writes the message "dispersion" for the analysis res of
-// the copy c of the run's config cfg. Modes come in pairs ±ω; only ω ≥ 0
-// is sent (and every zero-frequency mode once).
-func encodeDispersion(cfg, c sim.Config, copied bool, res *linear.Result) []byte {
-	sphere := res.Sphere
-	dx := 0.0
-	f := c.Physics.F0
-	if sphere {
-		f = 2 * c.Physics.Omega
-	} else {
-		dx = c.Grid.Length / float64(c.Grid.N)
-	}
-	var k, w []num
-	var cls []int
-	for _, m := range res.Modes {
-		if m.Frequency < 0 && m.Class != linear.Geostrophic {
-			continue
-		}
-		ci := 0
-		for i, c := range classOrder {
-			if m.Class == c {
-				ci = i
-			}
-		}
-		if !sphere {
-			k = append(k, num(math.Hypot(m.Kx, m.Ky)))
-		}
-		w = append(w, num(math.Abs(m.Frequency)))
-		cls = append(cls, ci)
-	}
-	names := make([]string, len(classOrder))
-	for i, c := range classOrder {
-		names[i] = string(c)
-	}
-	return mustJSON(struct {
-		Type         string        `json:"type"`
-		State        string        `json:"state"`
-		Grid         string        `json:"grid"`
-		Of           string        `json:"of"`
-		Copy         bool          `json:"copy"`
-		Sphere       bool          `json:"sphere"`
-		Cells        int           `json:"cells"`
-		Unknowns     int           `json:"unknowns"`
-		Dx           num           `json:"dx"`
-		F            num           `json:"f"` // f0 on the plane, 2Ω on the sphere
-		G            num           `json:"g"`
-		Depth        num           `json:"depth"`
-		Counts       linear.Counts `json:"counts"`
-		Growing      int           `json:"growing"`
-		MaxFrequency num           `json:"max_frequency"`
-		Method       string        `json:"method"`
-		Seconds      num           `json:"seconds"`
-		Classes      []string      `json:"classes"`
-		K            []num         `json:"k"`     // |k|, rad m⁻¹ (plane only)
-		W            []num         `json:"w"`     // |ω|, rad s⁻¹
-		Class        []int         `json:"class"` // index into Classes
-		Message      string        `json:"message"`
-	}{
-		"dispersion", linReady, gridName(c.Grid.Kind, c.Grid.N), gridName(cfg.Grid.Kind, cfg.Grid.N), copied, sphere,
-		res.Cells, res.Unknowns, num(dx), num(f), num(c.Physics.G), num(c.Physics.Depth), res.Counts, res.Growing,
-		num(res.MaxFrequency), res.Method, num(res.WallSeconds), names, k, w, cls, "",
-	})
 }

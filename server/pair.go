@@ -2,24 +2,23 @@ package server
 
 import (
 	"context"
-	"encoding/json"
 	"fmt"
 	"strings"
 	"sync/atomic"
 	"time"
 
 	"gyrebench/sim"
+	"gyrebench/sim/session"
 )
 
 // Lockstep pairs.
 //
-// A pair is two runs, A and B, started from the same scenario and
+// A pair is two sessions, A and B, started from the same scenario and
 // differing in one or more choices (scheme, integrator, Δt, grid,
-// resolution), advanced together by one goroutine. Each side is a whole
-// Run (its series, markers, ring and recorded timeline, its own frames) but
-// without a goroutine of its own: the pair's goroutine calls it, and also
-// serves the side's command channel, so that background work submitted to
-// a side (cmdFunc) comes back.
+// resolution), advanced together by one actor. Each side is a whole
+// session (its series, markers, ring and recorded timeline) with its own
+// view (its frames and watchers); both sides take the same commands as a
+// run, through the same view.command and session.Apply.
 //
 // # Lockstep rule
 //
@@ -56,22 +55,14 @@ import (
 // and field frames with byte 3 (zero in the run protocol) set to the
 // side: 1 A, 2 B, 3 A − B.
 
-// Side tags of binary messages (byte 3).
-const (
-	tagA    = 1
-	tagB    = 2
-	tagDiff = 3
-)
-
-var sideNames = [2]string{"a", "b"}
-
-// pairMsg is one command from a pair client.
-type pairMsg struct {
-	ID    int64           `json:"id,omitempty"`
-	Side  string          `json:"side,omitempty"`
-	Cmd   string          `json:"cmd"`
-	Value json.RawMessage `json:"value,omitempty"`
+// pairTags are the subscriptions of a pair's client: side A, side B and
+// the pair's own (acks, errors, the pair's status, A − B frames).
+func pairTags() []tag {
+	return []tag{{side: "a", wrap: true, bin: 1}, {side: "b", wrap: true, bin: 2}, {side: "", wrap: true, bin: 3}}
 }
+
+// sideNames name the sides in messages and URLs.
+var sideNames = [2]string{"a", "b"}
 
 // Commands of a pair: those that apply to both sides, and those that
 // apply to the side named.
@@ -79,20 +70,6 @@ var (
 	pairCommands = []string{"play", "pause", "step", "reset", "set-field", "mark"}
 	sideCommands = []string{"set-scheme", "set-hodge", "set-integrator", "set-dt", "set-grid", "set-dissipation"}
 )
-
-// pairClient is one websocket client of a pair: a subscriber on each side
-// and one for the pair's own messages.
-type pairClient struct {
-	side [2]*subscriber
-	own  *subscriber
-}
-
-type pairCommand struct {
-	kind   cmdKind
-	client *pairClient
-	msg    pairMsg
-	fn     func(*Pair)
-}
 
 // PairInfo is a read-only snapshot of a pair, for pages.
 type PairInfo struct {
@@ -105,53 +82,50 @@ type PairInfo struct {
 	Clients  int
 }
 
-// Pair is two runs in lockstep. All fields below cmds are owned by the
-// pair's goroutine.
+// Pair is two sessions in lockstep, owned by the pair's actor.
 type Pair struct {
+	*actor
 	id, scenario string
-	cmds         chan pairCommand
-	done         chan struct{}
 	info         atomic.Pointer[PairInfo]
 
-	side     [2]*Run
-	state    string
+	side     [2]*view
+	state    session.State
 	same     bool // both sides on the same grid
-	clients  map[*pairClient]struct{}
+	clients  map[*client]struct{}
 	frames   chan *frame // pool of A − B frames
 	diff     []float64
 	lastDiff time.Time
 	lastStat time.Time
 }
 
-// newPair builds both sides and starts the pair's goroutine, which lives
+// newPair builds both sides and starts the pair's actor, which lives
 // until ctx ends.
 func newPair(ctx context.Context, id, scenario string, cfg [2]sim.Config, lim runLimits) (*Pair, error) {
-	p := &Pair{
-		id: id, scenario: scenario, cmds: make(chan pairCommand, 64), done: make(chan struct{}),
-		state: StatePaused, clients: map[*pairClient]struct{}{}, frames: make(chan *frame, 4),
-	}
-	for i := range p.side {
-		label := fmt.Sprintf("pair %s %s", id, strings.ToUpper(sideNames[i]))
-		r, err := buildRun(ctx, id+sideNames[i], scenario, cfg[i], lim, func(string) []byte { return helloMsg(label) })
+	p := &Pair{actor: newActor(), id: id, scenario: scenario, state: session.Paused, clients: map[*client]struct{}{}, frames: make(chan *frame, 4)}
+	var ss [2]*session.Session
+	for i := range ss {
+		s, err := session.New(cfg[i], scenario, lim.session)
+		if err == nil {
+			err = s.CheckDt()
+			if err != nil {
+				s.Close()
+			}
+		}
 		if err != nil {
 			if i == 1 {
-				p.side[0].m.Close()
+				ss[0].Close()
 			}
 			return nil, fmt.Errorf("side %s: %w", strings.ToUpper(sideNames[i]), err)
 		}
-		p.side[i] = r
+		ss[i] = s
 	}
-	for i, r := range p.side {
-		if dt, lim := r.m.Config().Time.Dt, r.dtMax(); dt > lim {
-			for _, s := range p.side {
-				s.m.Close()
-			}
-			return nil, fmt.Errorf("side %s: time.dt = %g s: allowed 0 < Δt ≤ %.4g s on this grid (gravity-wave Courant number up to %g)", strings.ToUpper(sideNames[i]), dt, lim, MaxCourant)
-		}
+	for i, s := range ss {
+		label := fmt.Sprintf("pair %s %s", id, strings.ToUpper(sideNames[i]))
+		p.side[i] = newView(ctx, id+sideNames[i], s, helloMsg(label), lim.frameEvery, p.post(ctx))
 	}
 	p.checkGrid()
 	p.publishInfo()
-	go p.loop(ctx)
+	go p.loop(ctx, p)
 	return p, nil
 }
 
@@ -161,74 +135,17 @@ func (p *Pair) ID() string { return p.id }
 // Info returns the latest snapshot of the pair.
 func (p *Pair) Info() PairInfo { return *p.info.Load() }
 
-func (p *Pair) submit(ctx context.Context, c pairCommand) bool {
-	select {
-	case p.cmds <- c:
-		return true
-	case <-p.done:
-		return false
-	case <-ctx.Done():
-		return false
-	}
-}
+func (p *Pair) running() bool { return p.state == session.Running }
 
-// call runs fn on the pair's goroutine and waits for it.
-func (p *Pair) call(ctx context.Context, fn func(*Pair)) bool {
-	ran := make(chan struct{})
-	if !p.submit(ctx, pairCommand{kind: cmdFunc, fn: func(p *Pair) { fn(p); close(ran) }}) {
-		return false
-	}
-	select {
-	case <-ran:
-		return true
-	case <-p.done:
-		return false
-	case <-ctx.Done():
-		return false
-	}
-}
-
-func (p *Pair) loop(ctx context.Context) {
-	defer close(p.done)
-	defer func() {
-		for _, r := range p.side {
-			r.m.Close()
-			close(r.done)
-		}
-	}()
-	a, b := p.side[0], p.side[1]
-	for {
-		if p.state == StateRunning {
-			select {
-			case c := <-p.cmds:
-				p.handle(c)
-			case c := <-a.cmds:
-				a.handle(c)
-			case c := <-b.cmds:
-				b.handle(c)
-			case <-ctx.Done():
-				return
-			default:
-				p.advance()
-			}
-			continue
-		}
-		select {
-		case c := <-p.cmds:
-			p.handle(c)
-		case c := <-a.cmds:
-			a.handle(c)
-		case c := <-b.cmds:
-			b.handle(c)
-		case <-ctx.Done():
-			return
-		}
+func (p *Pair) close() {
+	for _, v := range p.side {
+		v.s.Close()
 	}
 }
 
 // behind returns which sides the lockstep rule advances next.
 func (p *Pair) behind() [2]bool {
-	ta, tb := p.side[0].m.Time(), p.side[1].m.Time()
+	ta, tb := p.side[0].s.Model().Time(), p.side[1].s.Model().Time()
 	return [2]bool{ta <= tb, tb <= ta}
 }
 
@@ -239,8 +156,8 @@ func (p *Pair) advance() {
 			p.side[i].advance()
 		}
 	}
-	for _, r := range p.side {
-		if r.state != StateRunning { // a blow-up
+	for _, v := range p.side {
+		if v.s.State() != session.Running { // a blow-up
 			p.pauseAll()
 			return
 		}
@@ -255,71 +172,58 @@ func (p *Pair) advance() {
 }
 
 func (p *Pair) pauseAll() {
-	for _, r := range p.side {
-		r.pause()
+	for _, v := range p.side {
+		v.halt()
 	}
-	p.state = StatePaused
+	p.state = session.Paused
 	p.emitDiff()
 	p.emitStatus()
 	p.publishInfo()
 }
 
-func (p *Pair) handle(c pairCommand) {
-	switch c.kind {
-	case cmdFunc:
-		c.fn(p)
-	case cmdJoin:
-		p.clients[c.client] = struct{}{}
-		for i, r := range p.side {
-			r.join(c.client.side[i])
-		}
-		c.client.own.send(p.statusMsg())
-		if f := p.buildDiff(); f != nil {
-			c.client.own.offer(f)
-			f.release()
-		}
-		p.publishInfo()
-	case cmdLeave:
-		delete(p.clients, c.client)
-		for i, r := range p.side {
-			delete(r.subs, c.client.side[i])
-			c.client.side[i].drop()
-		}
-		c.client.own.drop()
-		if len(p.clients) == 0 {
-			p.pauseAll() // nobody is watching
-		}
-		p.publishInfo()
-	case cmdClient:
-		reply := clientMsg{ID: c.msg.ID, Cmd: c.msg.Cmd}
-		if err := p.apply(c.msg); err != nil {
-			c.client.own.send(errorReply(reply, err))
-			return
-		}
-		c.client.own.send(outMsg{typ: textMsg, data: mustJSON(struct {
-			Type string `json:"type"`
-			ID   int64  `json:"id,omitempty"`
-			Cmd  string `json:"cmd"`
-			Side string `json:"side,omitempty"`
-		}{"ack", c.msg.ID, c.msg.Cmd, c.msg.Side})})
+func (p *Pair) join(c *client) {
+	p.clients[c] = struct{}{}
+	for i, v := range p.side {
+		v.join(c.subs[i])
 	}
+	c.own().send(p.statusMsg())
+	if f := p.buildDiff(); f != nil {
+		c.own().offer(f)
+		f.release()
+	}
+	p.publishInfo()
+}
+
+func (p *Pair) leave(c *client) {
+	delete(p.clients, c)
+	for i, v := range p.side {
+		v.leave(c.subs[i])
+	}
+	c.own().drop()
+	if len(p.clients) == 0 {
+		p.pauseAll() // nobody is watching
+	}
+	p.publishInfo()
+}
+
+func (p *Pair) command(c *client, m wireMsg) {
+	reply(c.own(), m, nil, p.apply(m))
 }
 
 // apply carries out one pair command. A change of choice that one side
 // refuses changes nothing; a command for both sides goes to A, then B.
-func (p *Pair) apply(m pairMsg) error {
-	msg := clientMsg{ID: m.ID, Cmd: m.Cmd, Value: m.Value}
+func (p *Pair) apply(m wireMsg) error {
 	if contains(sideCommands, m.Cmd) {
 		i := -1
 		for k, n := range sideNames {
-			if m.Side == n {
+			if m.side() == n {
 				i = k
 			}
 		}
 		if i < 0 {
-			return refuse("side", m.Side, "side = %q: %s changes one side of the pair; name it: \"a\" or \"b\"", m.Side, m.Cmd)
+			return refuse("side", m.side(), "side = %q: %s changes one side of the pair; name it: \"a\" or \"b\"", m.side(), m.Cmd)
 		}
-		if err := p.side[i].applyRecorded(msg); err != nil {
+		if _, err := p.side[i].command(m); err != nil {
 			return err
 		}
 		p.afterChange()
@@ -328,35 +232,26 @@ func (p *Pair) apply(m pairMsg) error {
 	if !contains(pairCommands, m.Cmd) {
 		return refuse("cmd", m.Cmd, "cmd = %q: not offered in a pair; allowed: %s (both sides) and %s (with \"side\")", m.Cmd, strings.Join(pairCommands, ", "), strings.Join(sideCommands, ", "))
 	}
-	if m.Side != "" {
-		return refuse("side", m.Side, "side = %q: %s applies to both sides of the pair; send it without a side", m.Side, m.Cmd)
+	if m.side() != "" {
+		return refuse("side", m.side(), "side = %q: %s applies to both sides of the pair; send it without a side", m.side(), m.Cmd)
+	}
+	due := [2]bool{true, true}
+	if m.Cmd == "step" {
+		p.pauseAll()
+		due = p.behind()
+	}
+	for i, v := range p.side {
+		if due[i] {
+			if _, err := v.command(m); err != nil {
+				return err
+			}
+		}
 	}
 	switch m.Cmd {
 	case "play":
-		for _, r := range p.side {
-			if err := r.applyRecorded(msg); err != nil {
-				return err
-			}
-		}
-		p.state = StateRunning
-	case "step":
-		p.pauseAll()
-		for i, due := range p.behind() {
-			if due {
-				if err := p.side[i].applyRecorded(msg); err != nil {
-					return err
-				}
-			}
-		}
-	default: // pause, reset, set-field, mark: the same on both sides
-		for _, r := range p.side {
-			if err := r.applyRecorded(msg); err != nil {
-				return err
-			}
-		}
-		if m.Cmd == "pause" || m.Cmd == "reset" {
-			p.state = StatePaused
-		}
+		p.state = session.Running
+	case "pause", "reset":
+		p.state = session.Paused
 	}
 	p.afterChange()
 	return nil
@@ -371,10 +266,10 @@ func (p *Pair) afterChange() {
 
 // checkGrid notes whether both sides are on the same grid.
 func (p *Pair) checkGrid() {
-	a, b := p.side[0].m, p.side[1].m
+	a, b := p.side[0].s.Model(), p.side[1].s.Model()
 	ca, cb := a.Config().Grid, b.Config().Grid
 	ma, mb := a.Mesh(), b.Mesh()
-	p.same = ca.Kind == cb.Kind && ca.N == cb.N && optimizeName(ca.Optimize) == optimizeName(cb.Optimize) &&
+	p.same = ca.Kind == cb.Kind && ca.N == cb.N && session.OptimizeName(ca.Optimize) == session.OptimizeName(cb.Optimize) &&
 		ma.NumCells == mb.NumCells && ma.NumEdges == mb.NumEdges && ma.NumVertices == mb.NumVertices && ma.Surface == mb.Surface
 }
 
@@ -385,8 +280,9 @@ func (p *Pair) buildDiff() *frame {
 	if !p.same || a.field != b.field {
 		return nil
 	}
-	va := a.scratch.values(a.field, a.m)
-	vb := b.scratch.values(b.field, b.m)
+	ma := a.s.Model()
+	va := a.scratch.values(a.field, ma)
+	vb := b.scratch.values(b.field, b.s.Model())
 	if cap(p.diff) < len(va) {
 		p.diff = make([]float64, len(va))
 	}
@@ -394,20 +290,7 @@ func (p *Pair) buildDiff() *frame {
 	for i := range d {
 		d[i] = va[i] - vb[i]
 	}
-	size := frameHeader + 4*len(d)
-	var f *frame
-	select {
-	case f = <-p.frames:
-		if cap(f.buf) < size {
-			f.buf = make([]byte, size)
-		}
-		f.buf = f.buf[:size]
-	default:
-		f = &frame{buf: make([]byte, size), pool: p.frames}
-	}
-	f.refs.Store(1)
-	putFrame(f.buf, a.field, a.gen, a.m.Time(), a.m.Steps(), d)
-	return f
+	return newFrame(p.frames, a.field, a.gen, ma.Time(), ma.Steps(), d)
 }
 
 func (p *Pair) emitDiff() {
@@ -420,13 +303,13 @@ func (p *Pair) emitDiff() {
 		return
 	}
 	for c := range p.clients {
-		c.own.offer(f)
+		c.own().offer(f)
 	}
 	f.release()
 }
 
 func (p *Pair) statusMsg() outMsg {
-	a, b := p.side[0].m, p.side[1].m
+	a, b := p.side[0].s.Model(), p.side[1].s.Model()
 	lead := ""
 	switch {
 	case a.Time() > b.Time():
@@ -434,7 +317,7 @@ func (p *Pair) statusMsg() outMsg {
 	case b.Time() > a.Time():
 		lead = "b"
 	}
-	return outMsg{typ: textMsg, data: mustJSON(struct {
+	return textOut(struct {
 		Type     string   `json:"type"`
 		ID       string   `json:"id"`
 		State    string   `json:"state"`
@@ -442,21 +325,21 @@ func (p *Pair) statusMsg() outMsg {
 		T        [2]num   `json:"t"`
 		Steps    [2]int64 `json:"steps"`
 		Lead     string   `json:"lead"`
-	}{"pair", p.id, p.state, p.same, [2]num{num(a.Time()), num(b.Time())}, [2]int64{a.Steps(), b.Steps()}, lead})}
+	}{"pair", p.id, string(p.state), p.same, [2]num{num(a.Time()), num(b.Time())}, [2]int64{a.Steps(), b.Steps()}, lead})
 }
 
 func (p *Pair) emitStatus() {
 	p.lastStat = time.Now()
 	m := p.statusMsg()
 	for c := range p.clients {
-		c.own.send(m)
+		c.own().send(m)
 	}
 }
 
 func (p *Pair) publishInfo() {
-	in := &PairInfo{ID: p.id, Scenario: p.scenario, Title: p.side[0].title, State: p.state, SameGrid: p.same, Clients: len(p.clients)}
-	for i, r := range p.side {
-		in.Sides[i] = r.Info()
+	in := &PairInfo{ID: p.id, Scenario: p.scenario, Title: p.side[0].s.Title(), State: string(p.state), SameGrid: p.same, Clients: len(p.clients)}
+	for i, v := range p.side {
+		in.Sides[i] = *v.info.Load()
 	}
 	p.info.Store(in)
 }

@@ -1,33 +1,24 @@
 package server
 
 import (
-	"context"
 	"encoding/json"
 	"fmt"
-	"math"
 	"net/http"
 	"strconv"
 	"strings"
-	"sync"
-	"time"
 
-	"github.com/coder/websocket"
 	"github.com/go-chi/chi/v5"
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
-	"gyrebench/sim/scheme"
-	"gyrebench/sim/step"
+	"gyrebench/sim/session"
 	"gyrebench/web"
 )
 
-// pairs is the registry of a server's pairs.
+// pairs is the server's pairs.
 type pairs struct {
-	s     *Server
-	mu    sync.Mutex
-	byID  map[string]*Pair
-	order []string
-	next  int
+	s *Server
+	registry[*Pair]
 }
 
 // mountPairs adds the routes of lockstep pairs (pair.go):
@@ -40,30 +31,14 @@ type pairs struct {
 //	GET  /pair/{id}/{a|b}/final.nc           a side's current state
 //	GET  /api/pairs                          the pairs, as JSON
 func (s *Server) mountPairs(r chi.Router) {
-	ps := &pairs{s: s, byID: map[string]*Pair{}}
+	ps := &pairs{s: s}
 	r.Get("/pairs/new", ps.serveNew)
 	r.Post("/pairs", ps.create)
 	r.Get("/pair/{id}", ps.servePage)
 	r.Get("/pair/{id}/ws", ps.serveWS)
-	r.Get("/pair/{id}/{side}/timeline.toml", ps.serveSide(sideTimeline))
-	r.Get("/pair/{id}/{side}/final.nc", ps.serveSide(sideFinal))
+	r.Get("/pair/{id}/{side}/timeline.toml", ps.serveSide(timelineFile()))
+	r.Get("/pair/{id}/{side}/final.nc", ps.serveSide(finalFile()))
 	r.Get("/api/pairs", ps.serveJSON)
-}
-
-func (ps *pairs) get(id string) *Pair {
-	ps.mu.Lock()
-	defer ps.mu.Unlock()
-	return ps.byID[id]
-}
-
-func (ps *pairs) list() []*Pair {
-	ps.mu.Lock()
-	defer ps.mu.Unlock()
-	out := make([]*Pair, 0, len(ps.order))
-	for _, id := range ps.order {
-		out = append(out, ps.byID[id])
-	}
-	return out
 }
 
 // start registers a new pair. Its goroutine counts among the server's
@@ -73,10 +48,7 @@ func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 	if err := s.reserve("pairs"); err != nil {
 		return nil, err
 	}
-	ps.mu.Lock()
-	ps.next++
-	id := strconv.Itoa(ps.next)
-	ps.mu.Unlock()
+	id := ps.newID()
 	s.mu.Lock()
 	if s.closed {
 		s.mu.Unlock()
@@ -92,87 +64,11 @@ func (ps *pairs) start(label string, cfg [2]sim.Config) (*Pair, error) {
 		return nil, err
 	}
 	go func() {
-		<-p.done
+		<-p.Done()
 		s.conns.Done()
 	}()
-	ps.mu.Lock()
-	ps.byID[id] = p
-	ps.order = append(ps.order, id)
-	ps.mu.Unlock()
+	ps.put(id, p)
 	return p, nil
-}
-
-// pairChoice is one side's form fields; empty means the base's choice.
-type pairChoice struct{ Scheme, Integrator, Dt, Grid, N, Hodge string }
-
-// pairBase resolves the form's base: "run:ID" (that run's current
-// choices, from its initial state) or a built-in scenario name.
-func (ps *pairs) pairBase(ctx context.Context, base string) (string, sim.Config, error) {
-	if id, ok := strings.CutPrefix(base, "run:"); ok {
-		r := ps.s.Run(id)
-		if r == nil {
-			return "", sim.Config{}, fmt.Errorf("base = %q: no run %s", base, id)
-		}
-		var cfg sim.Config
-		var label string
-		if !r.await(ctx, func(r *Run) { cfg, label = r.m.Config(), r.scenario }) {
-			return "", sim.Config{}, fmt.Errorf("base = %q: run %s has stopped", base, id)
-		}
-		return label, cfg, nil
-	}
-	if _, err := scenarios.Source(base); err != nil {
-		return "", sim.Config{}, fmt.Errorf("base = %q: neither a built-in scenario (%s) nor an open run", base, strings.Join(scenarios.Names(), ", "))
-	}
-	return loadScenario(base)
-}
-
-// applyChoice sets one side's choices on cfg; its errors name the side
-// and the field.
-func applyChoice(cfg *sim.Config, side string, c pairChoice) error {
-	if c.Scheme != "" {
-		cfg.Scheme.Name = c.Scheme
-	}
-	if c.Integrator != "" {
-		cfg.Time.Integrator = c.Integrator
-	}
-	if c.Dt != "" {
-		dt, err := strconv.ParseFloat(strings.TrimSpace(c.Dt), 64)
-		if err != nil || !(dt > 0) || math.IsInf(dt, 0) {
-			return fmt.Errorf("%s: time.dt = %q: must be a positive number of seconds", side, c.Dt)
-		}
-		cfg.Time.Dt = dt
-	}
-	if c.Grid != "" && c.Grid != cfg.Grid.Kind {
-		if !contains(gridKinds, c.Grid) {
-			return fmt.Errorf("%s: grid.kind = %q: not a grid the workbench offers; allowed: %s", side, c.Grid, strings.Join(gridKinds, ", "))
-		}
-		cfg.Grid.SetKind(c.Grid)
-		cfg.Grid.Height = 0
-	}
-	if c.Hodge != "" {
-		if !contains(scheme.HodgeNames, c.Hodge) {
-			return fmt.Errorf("%s: scheme.hodge = %q: unknown Hodge star; allowed: %s", side, c.Hodge, strings.Join(scheme.HodgeNames, ", "))
-		}
-		cfg.Scheme.Hodge = c.Hodge
-	}
-	if c.N != "" {
-		n, err := strconv.Atoi(strings.TrimSpace(c.N))
-		if err != nil {
-			return fmt.Errorf("%s: grid.n = %q: must be a whole number", side, c.N)
-		}
-		cfg.Grid.N = n
-	}
-	if err := cfg.Validate(); err != nil {
-		return fmt.Errorf("%s: %w", side, err)
-	}
-	cells, err := cfg.MeshSpec().Cells()
-	if err != nil {
-		return fmt.Errorf("%s: %w", side, err)
-	}
-	if cells > MaxLiveCells {
-		return fmt.Errorf("%s: grid.n = %d gives %d cells, more than a live run allows (%d)", side, cfg.Grid.N, cells, MaxLiveCells)
-	}
-	return nil
 }
 
 func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
@@ -186,18 +82,18 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 	}
 	f := req.PostForm
 	base := f.Get("base")
-	label, cfg, err := ps.pairBase(req.Context(), base)
+	_, label, _, cfg, err := ps.s.base(req.Context(), "base", base)
 	if err != nil {
 		ps.renderNew(w, req, base, err.Error(), http.StatusBadRequest)
 		return
 	}
 	var cfgs [2]sim.Config
 	for i, n := range sideNames {
-		c := pairChoice{f.Get(n + ".scheme"), f.Get(n + ".integrator"), f.Get(n + ".dt"), f.Get(n + ".grid"), f.Get(n + ".n"), f.Get(n + ".hodge")}
+		c := session.Choices{Scheme: f.Get(n + ".scheme"), Integrator: f.Get(n + ".integrator"), Dt: f.Get(n + ".dt"), Grid: f.Get(n + ".grid"), N: f.Get(n + ".n"), Hodge: f.Get(n + ".hodge")}
 		cfgs[i] = cfg
 		cfgs[i].Initial.Params = cfg.Initial.Params // shared, read-only
-		if err := applyChoice(&cfgs[i], strings.ToUpper(n), c); err != nil {
-			ps.renderNew(w, req, base, err.Error(), http.StatusBadRequest)
+		if err := c.Apply(&cfgs[i]); err != nil {
+			ps.renderNew(w, req, base, strings.ToUpper(n)+": "+err.Error(), http.StatusBadRequest)
 			return
 		}
 	}
@@ -220,22 +116,13 @@ func (ps *pairs) serveNew(w http.ResponseWriter, req *http.Request) {
 }
 
 func (ps *pairs) renderNew(w http.ResponseWriter, req *http.Request, base, msg string, code int) {
-	var bases []web.Option
-	for _, r := range ps.s.Runs() {
-		in := r.Info()
-		v := "run:" + in.ID
-		bases = append(bases, web.Option{Value: v, Label: fmt.Sprintf("run %s now: %s, %s n = %d, %s", in.ID, in.Scenario, in.Grid, in.N, in.Scheme), Title: "the run's current choices, from its initial state", Selected: v == base})
-	}
-	for _, o := range ps.s.scenarioOptions(base) {
-		o.Label = "scenario " + o.Label
-		bases = append(bases, o)
-	}
+	bases := ps.s.baseOptions(base, false)
 	same := web.Option{Value: "", Label: "as the base", Selected: true}
 	v := web.PairNewView{
 		Bases:       bases,
 		Schemes:     append([]web.Option{same}, schemeOptions("")...),
-		Integrators: append([]web.Option{same}, options(step.Names, integratorLabels, "")...),
-		Grids:       append([]web.Option{same}, options(gridKinds, gridLabels, "")...),
+		Integrators: append([]web.Option{same}, options(session.Integrators(), integratorLabels, "")...),
+		Grids:       append([]web.Option{same}, options(session.GridKinds(), gridLabels, "")...),
 		Message:     msg,
 	}
 	for _, p := range ps.list() {
@@ -251,8 +138,8 @@ func sideSummary(in RunInfo) string {
 }
 
 func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {
-	p := ps.get(chi.URLParam(req, "id"))
-	if p == nil {
+	p, ok := ps.get(chi.URLParam(req, "id"))
+	if !ok {
 		http.Error(w, "no pair "+strconv.Quote(chi.URLParam(req, "id"))+"; open pairs are listed at /pairs/new", http.StatusNotFound)
 		return
 	}
@@ -267,8 +154,8 @@ func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {
 			Side:        sideNames[i],
 			Name:        strings.ToUpper(sideNames[i]),
 			Schemes:     schemeOptions(s.Scheme),
-			Integrators: options(step.Names, integratorLabels, s.Integrator),
-			Grids:       options(gridKinds, gridLabels, s.Grid),
+			Integrators: options(session.Integrators(), integratorLabels, s.Integrator),
+			Grids:       options(session.GridKinds(), gridLabels, s.Grid),
 			Dt:          strconv.FormatFloat(s.Dt, 'g', -1, 64),
 			N:           strconv.Itoa(s.N),
 			Summary:     sideSummary(s),
@@ -291,15 +178,15 @@ func (ps *pairs) serveJSON(w http.ResponseWriter, req *http.Request) {
 func (ps *pairs) serveSide(what sideFile) http.HandlerFunc {
 	return func(w http.ResponseWriter, req *http.Request) {
 		id, side := chi.URLParam(req, "id"), chi.URLParam(req, "side")
-		p := ps.get(id)
+		p, ok := ps.get(id)
 		i := strings.Index("ab", side)
-		if p == nil || len(side) != 1 || i < 0 {
+		if !ok || len(side) != 1 || i < 0 {
 			http.Error(w, fmt.Sprintf("no pair %q with a side %q (sides are a and b)", id, side), http.StatusNotFound)
 			return
 		}
 		var data []byte
 		var err error
-		if !p.call(req.Context(), func(p *Pair) { data, err = what.make(p.side[i]) }) {
+		if !p.await(req.Context(), func() { data, err = what.make(p.side[i]) }) {
 			http.Error(w, "the pair has stopped", http.StatusServiceUnavailable)
 			return
 		}
@@ -309,170 +196,10 @@ func (ps *pairs) serveSide(what sideFile) http.HandlerFunc {
 
 // serveWS connects a websocket client to a pair (protocol in pair.go).
 func (ps *pairs) serveWS(w http.ResponseWriter, req *http.Request) {
-	s := ps.s
-	p := ps.get(chi.URLParam(req, "id"))
-	if p == nil {
+	p, ok := ps.get(chi.URLParam(req, "id"))
+	if !ok {
 		http.Error(w, "no pair "+chi.URLParam(req, "id"), http.StatusNotFound)
 		return
 	}
-	s.mu.Lock()
-	if s.closed {
-		s.mu.Unlock()
-		http.Error(w, "the workbench is shutting down", http.StatusServiceUnavailable)
-		return
-	}
-	s.conns.Add(1)
-	s.mu.Unlock()
-	defer s.conns.Done()
-	c, err := websocket.Accept(w, req, nil)
-	if err != nil {
-		return
-	}
-	c.SetReadLimit(maxClientMsg)
-	ctx, cancel := context.WithCancel(s.ctx)
-	defer cancel()
-	cl := &pairClient{side: [2]*subscriber{newSubscriber(), newSubscriber()}, own: newSubscriber()}
-	if !p.submit(ctx, pairCommand{kind: cmdJoin, client: cl}) {
-		c.Close(websocket.StatusGoingAway, "the pair has stopped")
-		return
-	}
-	wrote := make(chan struct{})
-	go func() {
-		defer close(wrote)
-		defer cancel()
-		pairWriteLoop(ctx, c, cl, s.opt.WriteTimeout)
-	}()
-	pairReadLoop(ctx, c, p, cl)
-	cancel()
-	<-wrote
-	p.submit(context.Background(), pairCommand{kind: cmdLeave, client: cl})
-	if s.ctx.Err() != nil {
-		c.Close(websocket.StatusGoingAway, "the workbench is shutting down")
-		return
-	}
-	c.Close(websocket.StatusNormalClosure, "")
-}
-
-func pairReadLoop(ctx context.Context, c *websocket.Conn, p *Pair, cl *pairClient) {
-	for {
-		typ, data, err := c.Read(ctx)
-		if err != nil {
-			return
-		}
-		if typ != websocket.MessageText {
-			cl.own.send(outMsg{typ: textMsg, data: mustJSON(errorMsg{Type: "error", Field: "message", Value: "(binary)",
-				Message: "binary messages are not commands; send JSON text such as {\"cmd\": \"play\"}"})})
-			continue
-		}
-		m, ce := parsePairMsg(data)
-		if ce != nil {
-			cl.own.send(errorReply(clientMsg{ID: m.ID, Cmd: m.Cmd}, ce))
-			continue
-		}
-		if !p.submit(ctx, pairCommand{kind: cmdClient, client: cl, msg: m}) {
-			return
-		}
-	}
-}
-
-// parsePairMsg decodes a pair command strictly, as parseClient does a
-// run's, with the key side added.
-func parsePairMsg(data []byte) (pairMsg, *cmdError) {
-	var m pairMsg
-	dec := json.NewDecoder(strings.NewReader(string(data)))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&m); err != nil || dec.More() {
-		v := string(data)
-		if len(v) > 64 {
-			v = v[:61] + "..."
-		}
-		return m, refuse("message", v, "message %q is not a pair command; want one JSON object such as {\"cmd\": \"play\"} or {\"side\": \"b\", \"cmd\": \"set-scheme\", \"value\": \"apvm\"}, with the keys id, side, cmd and value", v)
-	}
-	return m, nil
-}
-
-// pairWriteLoop drains a pair client's three subscribers, tagging each
-// message with its side (pair.go).
-func pairWriteLoop(ctx context.Context, c *websocket.Conn, cl *pairClient, timeout time.Duration) {
-	subs := [3]*subscriber{cl.side[0], cl.side[1], cl.own}
-	tags := [3]string{"a", "b", ""}
-	bins := [3]byte{tagA, tagB, tagDiff}
-	type taken struct {
-		msgs     []outMsg
-		f        *frame
-		skipped  uint32
-		overflow bool
-	}
-	var got [3]taken
-	release := func() {
-		for i := range got {
-			if got[i].f != nil {
-				got[i].f.release()
-				got[i].f = nil
-			}
-		}
-	}
-	var buf []byte
-	for {
-		select {
-		case <-ctx.Done():
-			return
-		case <-subs[0].wake:
-		case <-subs[1].wake:
-		case <-subs[2].wake:
-		}
-		// The pair's own messages are taken first and written last: the
-		// pair goroutine queues a side's messages (a new config, geometry)
-		// before its own ack or A − B frame, so whatever the snapshot of
-		// its own queue holds has its side messages already queued, and
-		// the client sees them in that order.
-		for _, i := range [3]int{2, 0, 1} {
-			g := &got[i]
-			g.msgs, g.f, g.skipped, g.overflow = subs[i].take(g.msgs)
-		}
-		for i := range got {
-			if got[i].overflow {
-				release()
-				c.Close(websocket.StatusPolicyViolation, "client too slow: it stopped reading messages; reload the page to reconnect")
-				return
-			}
-		}
-		for i := range got {
-			g := &got[i]
-			for k, m := range g.msgs {
-				data := m.data
-				if m.typ == textMsg {
-					data = wrapSide(buf[:0], tags[i], m.data)
-				} else {
-					data = append(buf[:0], m.data...)
-					data[3] = bins[i]
-				}
-				buf = data
-				if err := write(ctx, c, m.typ, data, timeout); err != nil {
-					release()
-					return
-				}
-				g.msgs[k] = outMsg{}
-			}
-			if g.f != nil {
-				buf = patchSkipped(buf, g.f.buf, g.skipped)
-				buf[3] = bins[i]
-				g.f.release()
-				g.f = nil
-				if err := write(ctx, c, binMsg, buf, timeout); err != nil {
-					release()
-					return
-				}
-			}
-		}
-	}
-}
-
-// wrapSide writes {"side": side, "msg": data} into dst.
-func wrapSide(dst []byte, side string, data []byte) []byte {
-	dst = append(dst, `{"side":"`...)
-	dst = append(dst, side...)
-	dst = append(dst, `","msg":`...)
-	dst = append(dst, data...)
-	return append(dst, '}')
+	ps.s.serveSocket(w, req, socket{a: p.actor, h: p, tags: pairTags(), sided: true, what: "pair"})
 }

@@ -18,23 +18,6 @@ const (
 // frameHeader is the size of the field frame header in bytes.
 const frameHeader = 40
 
-// clientMsg is one command from a client. Value's type depends on Cmd.
-type clientMsg struct {
-	ID    int64           `json:"id,omitempty"`
-	Cmd   string          `json:"cmd"`
-	Value json.RawMessage `json:"value,omitempty"`
-}
-
-// gridValue is the value of set-grid.
-type gridValue struct {
-	Kind     string          `json:"kind"`
-	N        json.RawMessage `json:"n"`
-	Optimize *string         `json:"optimize"` // icosahedral only; absent keeps the run's
-}
-
-// commands lists the client commands, for messages.
-var commands = []string{"play", "pause", "step", "reset", "set-dt", "set-integrator", "set-scheme", "set-hodge", "set-grid", "set-field", "load", "scrub", "linear", "structure", "mark", "replay", "stop-replay", "set-dissipation"}
-
 // num is a float64 that encodes non-finite values as null, which JSON
 // cannot carry otherwise.
 type num float64
@@ -45,61 +28,6 @@ func (x num) MarshalJSON() ([]byte, error) {
 		return []byte("null"), nil
 	}
 	return strconv.AppendFloat(nil, f, 'g', -1, 64), nil
-}
-
-// point is one row of the invariant series, as relative drifts from the
-// invariants at time zero (diag.RelDrift).
-type point struct {
-	T          num   `json:"t"`
-	Steps      int64 `json:"steps"`
-	Mass       num   `json:"mass"`
-	Energy     num   `json:"energy"`
-	Enstrophy  num   `json:"enstrophy"`
-	MassAbs    num   `json:"mass_abs"`
-	Courant    num   `json:"courant"`
-	CourantAdv num   `json:"courant_adv"`
-	HMin       num   `json:"h_min"`
-	MaxSpeed   num   `json:"max_speed"`
-
-	// The budget of dE/dt and dZ/dt since the previous point (package
-	// dissip's Ledger): the scheme's term, the dissipation, the residual.
-	EnergyRateScheme         num `json:"energy_rate_scheme"`
-	EnergyRateDissipation    num `json:"energy_rate_dissipation"`
-	EnergyRateResidual       num `json:"energy_rate_residual"`
-	EnstrophyRateScheme      num `json:"enstrophy_rate_scheme"`
-	EnstrophyRateDissipation num `json:"enstrophy_rate_dissipation"`
-	EnstrophyRateResidual    num `json:"enstrophy_rate_residual"`
-}
-
-// marker is a labelled mid-run change.
-type marker struct {
-	T     num    `json:"t"`
-	Steps int64  `json:"steps"`
-	Kind  string `json:"kind"` // scheme, integrator, dt, grid, rewind, dissipation
-	Label string `json:"label"`
-}
-
-// blowInfo says where and when a run blew up.
-type blowInfo struct {
-	Step    int64   `json:"step"`
-	T       num     `json:"t"`
-	Cell    int     `json:"cell"`
-	Edge    int     `json:"edge"`
-	Value   num     `json:"value"`
-	X       num     `json:"x"`
-	Y       num     `json:"y"`
-	Message string  `json:"message"`
-	Dt      float64 `json:"dt"`
-}
-
-// errorMsg refuses a command.
-type errorMsg struct {
-	Type    string `json:"type"`
-	ID      int64  `json:"id,omitempty"`
-	Cmd     string `json:"cmd,omitempty"`
-	Field   string `json:"field"`
-	Value   string `json:"value"`
-	Message string `json:"message"`
 }
 
 func mustJSON(v any) []byte {

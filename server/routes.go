@@ -2,6 +2,7 @@ package server
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -17,27 +18,27 @@ import (
 	"github.com/go-chi/chi/v5/middleware"
 
 	"gyrebench/scenarios"
+	"gyrebench/sim"
 	"gyrebench/sim/scenario"
-	"gyrebench/sim/scheme"
-	"gyrebench/sim/step"
+	"gyrebench/sim/session"
 	"gyrebench/web"
 )
 
 // Labels for people; the wire names are the engine's.
 var (
 	schemeLabels = map[string]string{
-		scheme.TRiSKEnergy:       "TRiSK, energy-conserving",
-		scheme.TRiSKEnstrophy:    "TRiSK, enstrophy-conserving",
-		scheme.APVM:              "TRiSK with anticipated PV (APVM)",
-		scheme.AL81:              "Arakawa–Lamb 1981 (quad only)",
-		scheme.SadournyEnergy:    "Sadourny 1975, energy-conserving (quad only)",
-		scheme.SadournyEnstrophy: "Sadourny 1975, enstrophy-conserving (quad only)",
+		"trisk-energy":       "TRiSK, energy-conserving",
+		"trisk-enstrophy":    "TRiSK, enstrophy-conserving",
+		"apvm":               "TRiSK with anticipated PV (APVM)",
+		"al81":               "Arakawa–Lamb 1981 (quad only)",
+		"sadourny-energy":    "Sadourny 1975, energy-conserving (quad only)",
+		"sadourny-enstrophy": "Sadourny 1975, enstrophy-conserving (quad only)",
 	}
 	integratorLabels = map[string]string{
-		step.RK3:      "Runge–Kutta, 3rd order",
-		step.RK4:      "Runge–Kutta, classical 4th order",
-		step.Leapfrog: "leapfrog with Robert–Asselin filter",
-		step.Euler:    "forward Euler",
+		"rk3":      "Runge–Kutta, 3rd order",
+		"rk4":      "Runge–Kutta, classical 4th order",
+		"leapfrog": "leapfrog with Robert–Asselin filter",
+		"euler":    "forward Euler",
 	}
 	gridLabels = map[string]string{
 		"quad":        "quadrilateral",
@@ -69,7 +70,7 @@ func (s *Server) routes() chi.Router {
 	r.Get("/api/runs", s.serveRunsJSON)
 	s.mountTimeline(r) // timeline_routes.go
 	s.mountPairs(r)    // pair_routes.go
-	s.mountSweeps(r)   // sweep_routes.go
+	s.mountSweeps(r)   // sweep_registry.go
 	r.Get("/static/*", s.serveStatic)
 	r.NotFound(func(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "not found: "+req.URL.Path+" (the workbench is at /)", http.StatusNotFound)
@@ -113,17 +114,16 @@ func options(names []string, labels map[string]string, selected string) []web.Op
 // schemeOptions is the scheme menu; each entry carries the line saying
 // what the scheme conserves.
 func schemeOptions(selected string) []web.Option {
-	opts := options(scheme.Names, schemeLabels, selected)
+	opts := options(session.Schemes(), schemeLabels, selected)
 	for i := range opts {
-		opts[i].Note = scheme.Conserves(opts[i].Value)
+		opts[i].Note = session.Conserves(opts[i].Value)
 	}
 	return opts
 }
 
 func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
-	run := s.Run(chi.URLParam(req, "id"))
+	run, _ := s.runOf(w, req)
 	if run == nil {
-		http.Error(w, "no run "+strconv.Quote(chi.URLParam(req, "id"))+"; the open runs are listed at /runs", http.StatusNotFound)
 		return
 	}
 	in := run.Info()
@@ -135,13 +135,13 @@ func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
 		ID: in.ID, Title: in.Title, Scenario: in.Scenario,
 		Scenarios:   s.scenarioOptions(in.Scenario),
 		Schemes:     schemeOptions(in.Scheme),
-		Integrators: options(step.Names, integratorLabels, in.Integrator),
-		Grids:       options(gridKinds, gridLabels, in.Grid),
+		Integrators: options(session.Integrators(), integratorLabels, in.Integrator),
+		Grids:       options(session.GridKinds(), gridLabels, in.Grid),
 		Fields:      fields,
 		Dt:          strconv.FormatFloat(in.Dt, 'g', -1, 64),
 		N:           strconv.Itoa(in.N),
 		State:       in.State,
-		Time:        fmtTime(in.Time),
+		Time:        session.FmtTime(in.Time),
 		RingSize:    s.opt.RingSize,
 	}
 	render(w, req, web.RunPage(v))
@@ -168,7 +168,7 @@ func (s *Server) renderRuns(w http.ResponseWriter, req *http.Request, msg string
 			ID: in.ID, Scenario: in.Scenario, Title: in.Title,
 			Grid:   in.Grid + " n = " + strconv.Itoa(in.N),
 			Scheme: in.Scheme, Integrator: in.Integrator, State: in.State,
-			Time: fmtTime(in.Time), Watchers: in.Subscribers,
+			Time: session.FmtTime(in.Time), Watchers: in.Subscribers,
 		})
 	}
 	w.WriteHeader(code)
@@ -211,7 +211,7 @@ const (
 	runFormBytes  = 4 << 10
 	pairFormBytes = 8 << 10
 	stopFormBytes = 1 << 10
-	// sweepFormBytes is in sweep_routes.go.
+	// sweepFormBytes is in sweep_registry.go.
 )
 
 // parseForm reads a POST form of at most limit bytes. A larger body is
@@ -309,5 +309,74 @@ func helloMsg(id string) []byte {
 		Grids       []string `json:"grids"`
 		Scenarios   []string `json:"scenarios"`
 		Commands    []string `json:"commands"`
-	}{"hello", 1, id, fs, scheme.Names, step.Names, gridKinds, scenarios.Names(), commands})
+	}{"hello", 1, id, fs, session.Schemes(), session.Integrators(), session.GridKinds(), scenarios.Names(), commands})
+}
+
+// serveWS connects a websocket client to a run.
+func (s *Server) serveWS(w http.ResponseWriter, req *http.Request) {
+	run := s.Run(chi.URLParam(req, "id"))
+	if run == nil {
+		http.Error(w, "no run "+chi.URLParam(req, "id"), http.StatusNotFound)
+		return
+	}
+	s.serveSocket(w, req, socket{a: run.actor, h: run, tags: []tag{{}}, what: "run"})
+}
+
+// base resolves a form's base, in field: "run:ID" (that run's current
+// choices, from its initial state; run is the ID) or a built-in
+// scenario's name (with its description).
+func (s *Server) base(ctx context.Context, field, base string) (run, label, description string, cfg sim.Config, err error) {
+	if id, ok := strings.CutPrefix(base, "run:"); ok {
+		r := s.Run(id)
+		if r == nil {
+			return "", "", "", cfg, fmt.Errorf("%s = %q: no run %s is open; the open runs are listed at /runs", field, base, id)
+		}
+		if cfg, label, ok = r.choices(ctx); !ok {
+			return "", "", "", cfg, fmt.Errorf("%s = %q: run %s has stopped", field, base, id)
+		}
+		return id, label, "", cfg, nil
+	}
+	src, err := scenarios.Source(base)
+	if err != nil {
+		return "", "", "", cfg, fmt.Errorf("%s = %q: neither a built-in scenario (%s) nor an open run (run:ID)", field, base, strings.Join(scenarios.Names(), ", "))
+	}
+	sc, err := scenario.Parse(src, base+".toml")
+	if err == nil {
+		err = sc.Config.Validate()
+	}
+	if err != nil {
+		return "", "", "", cfg, fmt.Errorf("%s = %q: %w", field, base, err)
+	}
+	return "", base, sc.Description, sc.Config, nil
+}
+
+// baseOptions is the menu of a form's base: the open runs' current
+// choices (with Δt when withDt), then the built-in scenarios.
+func (s *Server) baseOptions(selected string, withDt bool) []web.Option {
+	var opts []web.Option
+	for _, r := range s.Runs() {
+		in := r.Info()
+		v := "run:" + in.ID
+		label := fmt.Sprintf("run %s now: %s, %s n = %d, %s", in.ID, in.Scenario, in.Grid, in.N, in.Scheme)
+		if withDt {
+			label += fmt.Sprintf(", Δt = %g s", in.Dt)
+		}
+		opts = append(opts, web.Option{Value: v, Label: label, Title: "the run's current choices, from its initial state", Selected: v == selected})
+	}
+	for _, o := range s.scenarioOptions(selected) {
+		o.Label = "scenario " + o.Label
+		opts = append(opts, o)
+	}
+	return opts
+}
+
+// runOf returns the run the request's path names, and its id, or answers
+// 404 and returns nil.
+func (s *Server) runOf(w http.ResponseWriter, req *http.Request) (*Run, string) {
+	id := chi.URLParam(req, "id")
+	run := s.Run(id)
+	if run == nil {
+		http.Error(w, "no run "+strconv.Quote(id)+"; the open runs are listed at /runs", http.StatusNotFound)
+	}
+	return run, id
 }

@@ -23,6 +23,7 @@ import (
 	"gyrebench/sim"
 	"gyrebench/sim/figure"
 	"gyrebench/sim/scenario"
+	"gyrebench/sim/session"
 	"gyrebench/static"
 )
 
@@ -87,12 +88,11 @@ type Server struct {
 	files  map[string]staticFile
 	hosts  []string // the Host names it answers to (hosts.go)
 
+	runs registry[*Run]
+
 	mu     sync.Mutex
 	closed bool
-	runs   map[string]*Run
-	live   int      // runs and pairs held, against Options.MaxRuns
-	order  []string // run ids, oldest first
-	next   int
+	live   int // runs and pairs held, against Options.MaxRuns
 	conns  sync.WaitGroup
 }
 
@@ -104,7 +104,7 @@ type staticFile struct {
 
 // runLimits are the settings every run is built with.
 func (s *Server) runLimits() runLimits {
-	return runLimits{workers: s.opt.Workers, ringSize: s.opt.RingSize, frameEvery: time.Second / time.Duration(s.opt.MaxFPS)}
+	return runLimits{session: session.Options{Workers: s.opt.Workers, RingSize: s.opt.RingSize}, frameEvery: time.Second / time.Duration(s.opt.MaxFPS)}
 }
 
 // New builds the workbench and its first run. It does not listen; use it
@@ -154,7 +154,7 @@ func New(opt Options) (*Server, error) {
 		return nil, err
 	}
 	ctx, cancel := context.WithCancel(context.Background())
-	s := &Server{opt: opt, ctx: ctx, cancel: cancel, files: files, hosts: hosts, runs: map[string]*Run{}}
+	s := &Server{opt: opt, ctx: ctx, cancel: cancel, files: files, hosts: hosts}
 	if _, err := s.startRun(label, cfg); err != nil {
 		cancel()
 		return nil, err
@@ -224,19 +224,13 @@ func (s *Server) startRun(label string, cfg sim.Config) (*Run, error) {
 	if err := s.reserve("runs"); err != nil {
 		return nil, err
 	}
-	s.mu.Lock()
-	s.next++
-	id := strconv.Itoa(s.next)
-	s.mu.Unlock()
-	r, err := newRun(s.ctx, id, label, cfg, s.runLimits(), helloMsg)
+	id := s.runs.newID()
+	r, err := newRun(s.ctx, id, label, cfg, s.runLimits())
 	if err != nil {
 		s.unreserve()
 		return nil, err
 	}
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	s.runs[id] = r
-	s.order = append(s.order, id)
+	s.runs.put(id, r)
 	return r, nil
 }
 
@@ -279,21 +273,12 @@ func (s *Server) unreserve() {
 
 // Run returns the run with the given id, or nil.
 func (s *Server) Run(id string) *Run {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.runs[id]
+	r, _ := s.runs.get(id)
+	return r
 }
 
 // Runs returns the runs, oldest first.
-func (s *Server) Runs() []*Run {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	rs := make([]*Run, 0, len(s.order))
-	for _, id := range s.order {
-		rs = append(rs, s.runs[id])
-	}
-	return rs
-}
+func (s *Server) Runs() []*Run { return s.runs.list() }
 
 // ServeHTTP serves the workbench.
 func (s *Server) ServeHTTP(w http.ResponseWriter, r *http.Request) {

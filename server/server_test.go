@@ -5,7 +5,6 @@ import (
 	"math"
 	"testing"
 
-	"gyrebench/sim"
 	"gyrebench/sim/display"
 	"gyrebench/sim/mesh"
 )
@@ -115,7 +114,7 @@ func TestPutFrame(t *testing.T) {
 // reported, not grown.
 func TestSubscriberLatestWins(t *testing.T) {
 	pool := make(chan *frame, 8)
-	s := newSubscriber()
+	s := newClient(1).subs[0]
 	var frames []*frame
 	for i := 0; i < 5; i++ {
 		f := &frame{buf: []byte{byte(i)}, pool: pool}
@@ -148,60 +147,5 @@ func TestSubscriberLatestWins(t *testing.T) {
 	}
 	if msgs, _, _, overflow := s.take(nil); !overflow || len(msgs) != maxQueued {
 		t.Errorf("after %d messages: %d queued, overflow %v; want %d and true", maxQueued+1, len(msgs), overflow, maxQueued)
-	}
-}
-
-// The ring keeps the newest states, oldest first, and a rewind forgets
-// the states after the one chosen.
-func TestRing(t *testing.T) {
-	cfg := sim.DefaultConfig()
-	cfg.Grid = sim.GridConfig{Kind: "quad", N: 4, Length: 1e6}
-	m, err := sim.NewModel(cfg, 1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer m.Close()
-	var g ring
-	g.init(4)
-	g.push(m)
-	g.push(m) // the same state again is not kept twice
-	for i := 0; i < 6; i++ {
-		if err := m.Step(); err != nil {
-			t.Fatal(err)
-		}
-		g.push(m)
-	}
-	e := g.entries()
-	if len(e) != 4 || e[0].Steps != 3 || e[3].Steps != 6 {
-		t.Fatalf("entries %+v, want steps 3..6", e)
-	}
-	if s := g.at(3); len(s.x) != len(m.State()) || s.x[0] != m.State()[0] {
-		t.Errorf("newest entry does not hold the current state")
-	}
-	g.cursor = 1
-	g.dropAfterCursor()
-	if e := g.entries(); len(e) != 2 || e[1].Steps != 4 || g.cursor != -1 {
-		t.Errorf("after rewinding to entry 1: %+v (cursor %d), want steps 3 and 4", e, g.cursor)
-	}
-}
-
-// maxLiveN is the largest resolution within MaxLiveCells.
-func TestMaxLiveN(t *testing.T) {
-	cfg := sim.DefaultConfig()
-	m, err := mesh.New(cfg.MeshSpec())
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, kind := range gridKinds {
-		n := maxLiveN(kind, cfg, m)
-		cells, err := liveSpec(kind, n, cfg, m).Cells()
-		if err != nil || cells > MaxLiveCells {
-			t.Errorf("%s: n = %d gives %d cells (%v), over the limit %d", kind, n, cells, err, MaxLiveCells)
-		}
-		for next := n + 1; next <= n+2; next++ {
-			if c, err := liveSpec(kind, next, cfg, m).Cells(); err == nil && c <= MaxLiveCells {
-				t.Errorf("%s: n = %d has %d cells, within the limit, but maxLiveN says %d", kind, next, c, n)
-			}
-		}
 	}
 }

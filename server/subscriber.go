@@ -48,11 +48,7 @@ type subscriber struct {
 	frame    *frame
 	skipped  uint32 // frames replaced in the slot since the last one taken
 	overflow bool
-	wake     chan struct{} // capacity 1: "something to take"
-}
-
-func newSubscriber() *subscriber {
-	return &subscriber{wake: make(chan struct{}, 1)}
+	wake     chan struct{} // capacity 1, shared by a client's subscriptions
 }
 
 func (s *subscriber) signal() {

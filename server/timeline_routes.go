@@ -2,7 +2,6 @@ package server
 
 import (
 	"bytes"
-	"context"
 	"net/http"
 	"strconv"
 
@@ -20,26 +19,32 @@ import (
 // Replaying the timeline headless (gyrebench run) ends in the same
 // final.nc, bit for bit.
 func (s *Server) mountTimeline(r chi.Router) {
-	r.Get("/run/{id}/timeline.toml", s.serveRunFile(sideTimeline))
-	r.Get("/run/{id}/final.nc", s.serveRunFile(sideFinal))
+	r.Get("/run/{id}/timeline.toml", s.serveRunFile(timelineFile()))
+	r.Get("/run/{id}/final.nc", s.serveRunFile(finalFile()))
 }
 
-// sideFile is a file made from a run on its goroutine, and how to serve
-// it.
+// sideFile is a file made from a session on its actor's goroutine, and
+// how to serve it.
 type sideFile struct {
-	make  func(*Run) ([]byte, error)
+	make  func(*view) ([]byte, error)
 	ctype string
 	ext   string
 }
 
-var (
-	sideTimeline = sideFile{func(r *Run) ([]byte, error) { return r.saveTimeline() }, "application/toml; charset=utf-8", "-timeline.toml"}
-	sideFinal    = sideFile{finalBytes, "application/x-netcdf", "-final.nc"}
-)
+// The files of a run or of a side of a pair.
+func timelineFile() sideFile {
+	return sideFile{saveTimeline, "application/toml; charset=utf-8", "-timeline.toml"}
+}
+func finalFile() sideFile { return sideFile{finalBytes, "application/x-netcdf", "-final.nc"} }
 
-// finalBytes writes final.nc of the run's current state.
-func finalBytes(r *Run) ([]byte, error) {
-	f, err := batch.FinalFile(r.m)
+// saveTimeline writes the session's record so far.
+func saveTimeline(v *view) ([]byte, error) {
+	return v.s.SaveTimeline("recorded in the workbench: run " + v.id + " (" + v.s.Scenario() + ")")
+}
+
+// finalBytes writes final.nc of the session's current state.
+func finalBytes(v *view) ([]byte, error) {
+	f, err := batch.FinalFile(v.s.Model())
 	if err != nil {
 		return nil, err
 	}
@@ -65,35 +70,16 @@ func (f sideFile) serve(w http.ResponseWriter, base string, data []byte, err err
 
 func (s *Server) serveRunFile(what sideFile) http.HandlerFunc {
 	return func(w http.ResponseWriter, req *http.Request) {
-		id := chi.URLParam(req, "id")
-		run := s.Run(id)
+		run, id := s.runOf(w, req)
 		if run == nil {
-			http.Error(w, "no run "+strconv.Quote(id)+"; the open runs are listed at /runs", http.StatusNotFound)
 			return
 		}
 		var data []byte
 		var err error
-		if !run.await(req.Context(), func(r *Run) { data, err = what.make(r) }) {
+		if !run.await(req.Context(), func() { data, err = what.make(run.v) }) {
 			http.Error(w, "run "+id+" has stopped", http.StatusServiceUnavailable)
 			return
 		}
 		what.serve(w, "run-"+id, data, err)
-	}
-}
-
-// await runs fn on the run's goroutine and waits for it; it reports false
-// when the run stopped or ctx ended first (fn may then still run later).
-func (r *Run) await(ctx context.Context, fn func(*Run)) bool {
-	ran := make(chan struct{})
-	if !r.submit(ctx, command{kind: cmdFunc, fn: func(r *Run) { fn(r); close(ran) }}) {
-		return false
-	}
-	select {
-	case <-ran:
-		return true
-	case <-r.done:
-		return false
-	case <-ctx.Done():
-		return false
 	}
 }

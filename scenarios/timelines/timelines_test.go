@@ -1,22 +1,24 @@
-package timelines
+package timelines_test
 
 import (
 	"testing"
 
+	"gyrebench/scenarios/timelines"
 	"gyrebench/sim"
+	"gyrebench/sim/session"
 	"gyrebench/sim/timeline"
 )
 
 // TestBuiltinsReplay: every built-in timeline parses, validates and
 // replays headless to its end step without an error.
 func TestBuiltinsReplay(t *testing.T) {
-	names := Names()
+	names := timelines.Names()
 	if len(names) == 0 {
 		t.Fatal("no built-in timelines")
 	}
 	for _, name := range names {
 		t.Run(name, func(t *testing.T) {
-			src, err := Source(name)
+			src, err := timelines.Source(name)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -31,7 +33,7 @@ func TestBuiltinsReplay(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			p := timeline.NewPlayer(tl)
+			p := session.NewPlayer(tl)
 			for {
 				var end bool
 				m, end, err = p.Before(m)
@@ -51,7 +53,7 @@ func TestBuiltinsReplay(t *testing.T) {
 			}
 		})
 	}
-	if _, err := Source("no-such-timeline"); err == nil {
+	if _, err := timelines.Source("no-such-timeline"); err == nil {
 		t.Error("Source of an unknown name: no error")
 	}
 }

@@ -25,6 +25,7 @@ import (
 	"gyrebench/sim/batch"
 	"gyrebench/sim/mesh"
 	"gyrebench/sim/scenario"
+	"gyrebench/sim/session"
 	"gyrebench/sim/timeline"
 )
 
@@ -152,7 +153,7 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	}
 	opt := batch.Options{OutDir: dir, Workers: *workers, Description: sc.Description}
 	if tl != nil {
-		opt.Schedule, opt.Recipe = timeline.NewPlayer(tl), tl.Format()
+		opt.Schedule, opt.Recipe = session.NewPlayer(tl), tl.Format()
 	}
 	if isTerminal(stderr) {
 		opt.Progress = stderr

@@ -1,13 +1,15 @@
-// Package timeline records, writes, reads and replays what was done to a
-// run: the fully resolved scenario it started from plus the ordered list
-// of events (scheme, Hodge star, integrator, Δt and grid changes, rewinds, blow-ups,
+// Package timeline writes, reads and validates what was done to a run:
+// the fully resolved scenario it started from plus the ordered list of
+// events (scheme, Hodge star, integrator, Δt and grid changes, rewinds, blow-ups,
 // marked moments) with the step count at which each applied.
 //
 // # Exactness
 //
-// Steps are exact; times are for people. A replay applies each event when
-// the model's step count reaches the event's step, by calling the same
-// sim.Model methods in the same order as the live run did (SetScheme,
+// Steps are exact; times are for people. A replay (package sim/session,
+// whose Player and live sessions apply each event as the command it
+// records, through the same Session.Apply as the live run) applies each
+// event when the model's step count reaches the event's step, calling the
+// same sim.Model methods in the same order as the live run did (SetScheme,
 // SetHodge, SetIntegrator, SetDt, Regrid, SetState, a Step that fails), so its state
 // at every event is bit for bit the live run's. Changing a choice to the
 // value already in effect calls nothing, live and in replay. Play and
