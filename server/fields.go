@@ -5,6 +5,7 @@ import (
 	"strings"
 
 	"gyrebench/sim"
+	"gyrebench/web"
 )
 
 // Location says where a field lives: on cells (primal polygons) or on
@@ -39,6 +40,15 @@ var fieldDefs = [...]fieldDef{
 	{2, "pv", "potential vorticity q", "m⁻¹ s⁻¹", OnVertices, "auto"},
 	{3, "divergence", "divergence δ", "s⁻¹", OnCells, "diverging"},
 	{4, "ke", "kinetic energy K", "m² s⁻²", OnCells, "sequential"},
+}
+
+// fieldOptions is the menu of fields.
+func fieldOptions(selected string) []web.Option {
+	var opts []web.Option
+	for _, f := range fieldDefs {
+		opts = append(opts, web.Option{Value: f.Name, Label: f.Label + " (" + f.Units + ")", Title: f.Name, Selected: f.Name == selected})
+	}
+	return opts
 }
 
 func lookupField(name string) (*fieldDef, error) {

@@ -107,14 +107,10 @@ func (s *Server) serveFigure(format string) http.HandlerFunc {
 		if snap.def.Loc == OnVertices {
 			loc = figure.Node
 		}
-		signed := snap.def.Map == "diverging"
-		if snap.def.Map == "auto" {
-			lo, hi := minMax(snap.vals)
-			signed = lo < 0 && hi > 0
-		}
+		signed := snap.def.Map == "diverging" || snap.def.Map == "auto" && figure.StraddlesZero(snap.vals)
 		var b bytes.Buffer
 		err = snap.render(&b, format, loc, figure.Options{
-			Title: snap.title, Label: snap.def.Label, Units: plainUnits(snap.def.Units),
+			Title: snap.title, Label: snap.def.Label, Units: figure.PlainUnits(snap.def.Units),
 			Signed: signed, Width: width, Height: height,
 		})
 		if err != nil {
@@ -131,20 +127,4 @@ func (s *Server) serveFigure(format string) http.HandlerFunc {
 		h.Set("Content-Disposition", fmt.Sprintf(`inline; filename="gyrebench-run%s-%s-%s.%s"`, id, snap.def.Name, strings.ReplaceAll(figure.SimTime(snap.t), " ", ""), format))
 		_, _ = w.Write(b.Bytes())
 	}
-}
-
-// plainUnits writes units with superscript exponents as plain ones, in the
-// UDUNITS style ("s⁻¹" → "s-1", "m² s⁻²" → "m2 s-2"): the figure's face has
-// no superscript minus.
-func plainUnits(u string) string {
-	return strings.NewReplacer("⁻", "-", "⁰", "0", "¹", "1", "²", "2", "³", "3", "⁴", "4", "⁵", "5", "⁶", "6", "⁷", "7", "⁸", "8", "⁹", "9").Replace(u)
-}
-
-// minMax returns the range of v, which is not empty.
-func minMax(v []float64) (lo, hi float64) {
-	lo, hi = v[0], v[0]
-	for _, x := range v {
-		lo, hi = min(lo, x), max(hi, x)
-	}
-	return lo, hi
 }

@@ -3,7 +3,6 @@ package server
 import (
 	"context"
 	"encoding/json"
-	"fmt"
 	"math"
 	"strconv"
 	"time"
@@ -276,35 +275,12 @@ func (v *view) warning(m wireMsg) *outMsg {
 		return nil
 	}
 	cfg := v.s.Model().Config()
-	dt, in := cfg.Time.Dt, cfg.Time.Integrator
-	var text string
-	switch {
-	case pred.DtStable == 0:
-		text = fmt.Sprintf("time.integrator = %q is unstable for every Δt on oscillatory modes (its stability region misses the imaginary axis): expect the run to grow and blow up", in)
-	case dt > pred.Guide:
-		text = fmt.Sprintf("Δt = %s s is above the largest stable Δt predicted for %s on this grid, %s s", fmtSeconds(dt), in, sig4(pred.Guide))
-		if pred.Scale < 1-linear.GuideSlack {
-			text += fmt.Sprintf(" (%s s about rest at depth %g m, scaled by %.2f for this flow's depth and speed)", sig4(pred.DtStable), cfg.Physics.Depth, pred.Scale)
-		}
-		text += fmt.Sprintf(": expect the run to blow up. Allowed up to %s s.", sig4(v.s.DtMax()))
-	default:
+	text := pred.Warning(cfg, v.s.DtMax())
+	if text == "" {
 		return nil
 	}
-	w := textOut(errorMsg{Type: "warning", ID: m.ID, Cmd: m.Cmd, Field: "time.dt", Value: fmtSeconds(dt), Message: text})
+	w := textOut(errorMsg{Type: "warning", ID: m.ID, Cmd: m.Cmd, Field: "time.dt", Value: strconv.FormatFloat(cfg.Time.Dt, 'g', -1, 64), Message: text})
 	return &w
-}
-
-func fmtSeconds(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-
-// sig4 writes x rounded to four significant digits without an exponent,
-// for times in messages: 574.8, 10320.
-func sig4(x float64) string {
-	if x == 0 || math.IsInf(x, 0) || math.IsNaN(x) {
-		return strconv.FormatFloat(x, 'g', -1, 64)
-	}
-	e := int(math.Floor(math.Log10(math.Abs(x))))
-	p := math.Pow(10, float64(e-3))
-	return strconv.FormatFloat(math.Round(x/p)*p, 'f', max(0, 3-e), 64)
 }
 
 // dispersionJob runs the dense analysis of the dispersion copy and encodes

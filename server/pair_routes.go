@@ -120,9 +120,9 @@ func (ps *pairs) renderNew(w http.ResponseWriter, req *http.Request, base, msg s
 	same := web.Option{Value: "", Label: "as the base", Selected: true}
 	v := web.PairNewView{
 		Bases:       bases,
-		Schemes:     append([]web.Option{same}, schemeOptions("")...),
-		Integrators: append([]web.Option{same}, options(session.Integrators(), integratorLabels, "")...),
-		Grids:       append([]web.Option{same}, options(session.GridKinds(), gridLabels, "")...),
+		Schemes:     append([]web.Option{same}, web.SchemeOptions("")...),
+		Integrators: append([]web.Option{same}, web.IntegratorOptions("")...),
+		Grids:       append([]web.Option{same}, web.GridOptions("")...),
 		Message:     msg,
 	}
 	for _, p := range ps.list() {
@@ -144,18 +144,14 @@ func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {
 		return
 	}
 	in := p.Info()
-	var fields []web.Option
-	for _, f := range fieldDefs {
-		fields = append(fields, web.Option{Value: f.Name, Label: f.Label + " (" + f.Units + ")", Title: f.Name, Selected: f.Name == in.Sides[0].Field})
-	}
-	v := web.PairView{ID: in.ID, Title: in.Title, Scenario: in.Scenario, Fields: fields, State: in.State}
+	v := web.PairView{ID: in.ID, Title: in.Title, Scenario: in.Scenario, Fields: fieldOptions(in.Sides[0].Field), State: in.State}
 	for i, s := range in.Sides {
 		v.Sides[i] = web.PairSide{
 			Side:        sideNames[i],
 			Name:        strings.ToUpper(sideNames[i]),
-			Schemes:     schemeOptions(s.Scheme),
-			Integrators: options(session.Integrators(), integratorLabels, s.Integrator),
-			Grids:       options(session.GridKinds(), gridLabels, s.Grid),
+			Schemes:     web.SchemeOptions(s.Scheme),
+			Integrators: web.IntegratorOptions(s.Integrator),
+			Grids:       web.GridOptions(s.Grid),
 			Dt:          strconv.FormatFloat(s.Dt, 'g', -1, 64),
 			N:           strconv.Itoa(s.N),
 			Summary:     sideSummary(s),

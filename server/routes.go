@@ -24,38 +24,6 @@ import (
 	"gyrebench/web"
 )
 
-// Labels for people; the wire names are the engine's.
-var (
-	schemeLabels = map[string]string{
-		"trisk-energy":       "TRiSK, energy-conserving",
-		"trisk-enstrophy":    "TRiSK, enstrophy-conserving",
-		"apvm":               "TRiSK with anticipated PV (APVM)",
-		"al81":               "Arakawa–Lamb 1981 (quad only)",
-		"sadourny-energy":    "Sadourny 1975, energy-conserving (quad only)",
-		"sadourny-enstrophy": "Sadourny 1975, enstrophy-conserving (quad only)",
-	}
-	integratorLabels = map[string]string{
-		"rk3":      "Runge–Kutta, 3rd order",
-		"rk4":      "Runge–Kutta, classical 4th order",
-		"leapfrog": "leapfrog with Robert–Asselin filter",
-		"euler":    "forward Euler",
-	}
-	gridLabels = map[string]string{
-		"quad":        "quadrilateral",
-		"hex":         "hexagonal",
-		"tri":         "triangular",
-		"icosahedral": "icosahedral (sphere)",
-		"cubed":       "cubed sphere (equiangular)",
-	}
-)
-
-func label(m map[string]string, name string) string {
-	if l, ok := m[name]; ok {
-		return l
-	}
-	return name
-}
-
 func (s *Server) routes() chi.Router {
 	r := chi.NewRouter()
 	r.Use(s.checkHost) // every route, websockets included (hosts.go)
@@ -89,55 +57,19 @@ func (s *Server) serveIndex(w http.ResponseWriter, req *http.Request) {
 	http.Redirect(w, req, "/run/"+rs[0].ID(), http.StatusSeeOther)
 }
 
-func (s *Server) scenarioOptions(selected string) []web.Option {
-	var opts []web.Option
-	for _, name := range scenarios.Names() {
-		desc := ""
-		if src, err := scenarios.Source(name); err == nil {
-			if sc, err := scenario.Parse(src, name); err == nil {
-				desc = sc.Description
-			}
-		}
-		opts = append(opts, web.Option{Value: name, Label: name, Title: desc, Selected: name == selected})
-	}
-	return opts
-}
-
-func options(names []string, labels map[string]string, selected string) []web.Option {
-	var opts []web.Option
-	for _, n := range names {
-		opts = append(opts, web.Option{Value: n, Label: label(labels, n), Title: n, Selected: n == selected})
-	}
-	return opts
-}
-
-// schemeOptions is the scheme menu; each entry carries the line saying
-// what the scheme conserves.
-func schemeOptions(selected string) []web.Option {
-	opts := options(session.Schemes(), schemeLabels, selected)
-	for i := range opts {
-		opts[i].Note = session.Conserves(opts[i].Value)
-	}
-	return opts
-}
-
 func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
 	run, _ := s.runOf(w, req)
 	if run == nil {
 		return
 	}
 	in := run.Info()
-	var fields []web.Option
-	for _, f := range fieldDefs {
-		fields = append(fields, web.Option{Value: f.Name, Label: f.Label + " (" + f.Units + ")", Title: f.Name, Selected: f.Name == in.Field})
-	}
 	v := web.RunView{
 		ID: in.ID, Title: in.Title, Scenario: in.Scenario,
-		Scenarios:   s.scenarioOptions(in.Scenario),
-		Schemes:     schemeOptions(in.Scheme),
-		Integrators: options(session.Integrators(), integratorLabels, in.Integrator),
-		Grids:       options(session.GridKinds(), gridLabels, in.Grid),
-		Fields:      fields,
+		Scenarios:   web.ScenarioOptions(in.Scenario),
+		Schemes:     web.SchemeOptions(in.Scheme),
+		Integrators: web.IntegratorOptions(in.Integrator),
+		Grids:       web.GridOptions(in.Grid),
+		Fields:      fieldOptions(in.Field),
 		Dt:          strconv.FormatFloat(in.Dt, 'g', -1, 64),
 		N:           strconv.Itoa(in.N),
 		State:       in.State,
@@ -161,7 +93,7 @@ func (s *Server) renderRuns(w http.ResponseWriter, req *http.Request, msg string
 			pick = name
 		}
 	}
-	v := web.RunsView{Scenarios: s.scenarioOptions(pick), Message: msg}
+	v := web.RunsView{Scenarios: web.ScenarioOptions(pick), Message: msg}
 	for _, r := range runs {
 		in := r.Info()
 		v.Runs = append(v.Runs, web.RunRow{
@@ -363,7 +295,7 @@ func (s *Server) baseOptions(selected string, withDt bool) []web.Option {
 		}
 		opts = append(opts, web.Option{Value: v, Label: label, Title: "the run's current choices, from its initial state", Selected: v == selected})
 	}
-	for _, o := range s.scenarioOptions(selected) {
+	for _, o := range web.ScenarioOptions(selected) {
 		o.Label = "scenario " + o.Label
 		opts = append(opts, o)
 	}

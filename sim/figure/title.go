@@ -39,3 +39,20 @@ func SimTime(t float64) string {
 	}
 	return fmt.Sprintf("%.2f d", t/86400)
 }
+
+// PlainUnits writes units with superscript exponents as plain ones, in
+// the UDUNITS style ("s⁻¹" → "s-1", "m² s⁻²" → "m2 s-2"): the figure's
+// face has no superscript minus.
+func PlainUnits(u string) string {
+	return strings.NewReplacer("⁻", "-", "⁰", "0", "¹", "1", "²", "2", "³", "3", "⁴", "4", "⁵", "5", "⁶", "6", "⁷", "7", "⁸", "8", "⁹", "9").Replace(u)
+}
+
+// StraddlesZero says whether v has values of both signs, so that a field
+// that is usually one-signed is drawn on the diverging map.
+func StraddlesZero(v []float64) bool {
+	neg, pos := false, false
+	for _, x := range v {
+		neg, pos = neg || x < 0, pos || x > 0
+	}
+	return neg && pos
+}

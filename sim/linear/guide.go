@@ -1,7 +1,9 @@
 package linear
 
 import (
+	"fmt"
 	"math"
+	"strconv"
 
 	"gyrebench/sim"
 	"gyrebench/sim/dissip"
@@ -79,6 +81,34 @@ func NewGuide(cfg sim.Config, rho float64, limits map[string]float64, hMax, maxS
 	}
 	g.Guide = g.DtStable * g.Scale
 	return g
+}
+
+// Warning is what a live run says when its Δt, dtMax at the most, is
+// past the guide (or its integrator is unstable for every Δt), or "".
+func (g Guide) Warning(cfg sim.Config, dtMax float64) string {
+	dt, in := cfg.Time.Dt, cfg.Time.Integrator
+	switch {
+	case g.DtStable == 0:
+		return fmt.Sprintf("time.integrator = %q is unstable for every Δt on oscillatory modes (its stability region misses the imaginary axis): expect the run to grow and blow up", in)
+	case dt > g.Guide:
+		text := fmt.Sprintf("Δt = %s s is above the largest stable Δt predicted for %s on this grid, %s s", strconv.FormatFloat(dt, 'g', -1, 64), in, Sig4(g.Guide))
+		if g.Scale < 1-GuideSlack {
+			text += fmt.Sprintf(" (%s s about rest at depth %g m, scaled by %.2f for this flow's depth and speed)", Sig4(g.DtStable), cfg.Physics.Depth, g.Scale)
+		}
+		return text + fmt.Sprintf(": expect the run to blow up. Allowed up to %s s.", Sig4(dtMax))
+	}
+	return ""
+}
+
+// Sig4 writes x rounded to four significant digits without an exponent,
+// for times in messages: 574.8, 10320.
+func Sig4(x float64) string {
+	if x == 0 || math.IsInf(x, 0) || math.IsNaN(x) {
+		return strconv.FormatFloat(x, 'g', -1, 64)
+	}
+	e := int(math.Floor(math.Log10(math.Abs(x))))
+	p := math.Pow(10, float64(e-3))
+	return strconv.FormatFloat(math.Round(x/p)*p, 'f', max(0, 3-e), 64)
 }
 
 // dispersionN is the largest resolution of each family analysed densely
