@@ -3,6 +3,7 @@ package server
 import (
 	"context"
 	"fmt"
+	"slices"
 	"strings"
 	"sync/atomic"
 	"time"
@@ -213,7 +214,7 @@ func (p *Pair) command(c *client, m wireMsg) {
 // apply carries out one pair command. A change of choice that one side
 // refuses changes nothing; a command for both sides goes to A, then B.
 func (p *Pair) apply(m wireMsg) error {
-	if contains(sideCommands, m.Cmd) {
+	if slices.Contains(sideCommands, m.Cmd) {
 		i := -1
 		for k, n := range sideNames {
 			if m.side() == n {
@@ -229,7 +230,7 @@ func (p *Pair) apply(m wireMsg) error {
 		p.afterChange()
 		return nil
 	}
-	if !contains(pairCommands, m.Cmd) {
+	if !slices.Contains(pairCommands, m.Cmd) {
 		return refuse("cmd", m.Cmd, "cmd = %q: not offered in a pair; allowed: %s (both sides) and %s (with \"side\")", m.Cmd, strings.Join(pairCommands, ", "), strings.Join(sideCommands, ", "))
 	}
 	if m.side() != "" {

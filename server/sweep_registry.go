@@ -38,10 +38,6 @@ type SweepInfo = sweep.Status
 // SweepRunInfo is one run of a sweep in a SweepInfo.
 type SweepRunInfo = sweep.RunStatus
 
-// runOutputs are the files of a run folder (batch.Run) that the
-// workbench serves; nothing else in a run folder is reachable.
-var runOutputs = []string{"summary.json", "series.csv", "recipe.toml", "final.nc", "snapshots.nc"}
-
 // sweeps is the server's sweeps.
 type sweeps struct {
 	s *Server

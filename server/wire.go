@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -63,7 +64,7 @@ func parseMsg(data []byte, sided bool) (wireMsg, *session.Error) {
 	if dec.More() {
 		return m, refuse("message", shown(data), "message holds more than one JSON value; send one command per message")
 	}
-	if !contains(commands, m.Cmd) {
+	if !slices.Contains(commands, m.Cmd) {
 		return m, refuse("cmd", m.Cmd, "cmd = %q: unknown command; allowed: %s", m.Cmd, strings.Join(commands, ", "))
 	}
 	return m, nil
@@ -266,13 +267,4 @@ func reply(sub *subscriber, m wireMsg, warn *outMsg, err error) {
 		Cmd  string `json:"cmd"`
 		Side string `json:"side,omitempty"`
 	}{"ack", m.ID, m.Cmd, m.side()}))
-}
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
