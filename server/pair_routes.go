@@ -1,7 +1,6 @@
 package server
 
 import (
-	"encoding/json"
 	"fmt"
 	"net/http"
 	"strconv"
@@ -161,12 +160,7 @@ func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {
 }
 
 func (ps *pairs) serveJSON(w http.ResponseWriter, req *http.Request) {
-	infos := []PairInfo{}
-	for _, p := range ps.list() {
-		infos = append(infos, p.Info())
-	}
-	w.Header().Set("Content-Type", "application/json")
-	_ = json.NewEncoder(w).Encode(infos)
+	serveInfos(w, &ps.registry, (*Pair).Info)
 }
 
 // serveSide serves a file made from one side of a pair on the pair's

@@ -1,6 +1,8 @@
 package server
 
 import (
+	"encoding/json"
+	"net/http"
 	"strconv"
 	"sync"
 )
@@ -76,4 +78,20 @@ func (g *registry[T]) removeLocked(id string) {
 		}
 	}
 	g.order = out
+}
+
+// serveInfos answers with the snapshots of the registry's entries as a
+// JSON list ([] when there are none).
+func serveInfos[T, I any](w http.ResponseWriter, g *registry[T], info func(T) I) {
+	infos := []I{}
+	for _, v := range g.list() {
+		infos = append(infos, info(v))
+	}
+	writeJSON(w, infos)
+}
+
+// writeJSON answers with v as JSON.
+func writeJSON(w http.ResponseWriter, v any) {
+	w.Header().Set("Content-Type", "application/json")
+	_ = json.NewEncoder(w).Encode(v)
 }

@@ -3,7 +3,6 @@ package server
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
@@ -183,8 +182,7 @@ func (s *Server) serveRunsJSON(w http.ResponseWriter, req *http.Request) {
 	for _, r := range s.Runs() {
 		infos = append(infos, r.Info())
 	}
-	w.Header().Set("Content-Type", "application/json")
-	_ = json.NewEncoder(w).Encode(infos)
+	writeJSON(w, infos)
 }
 
 func (s *Server) serveStatic(w http.ResponseWriter, req *http.Request) {

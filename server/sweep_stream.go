@@ -118,15 +118,9 @@ func (sw *sweeps) serveJSON(w http.ResponseWriter, req *http.Request) {
 	if j == nil {
 		return
 	}
-	w.Header().Set("Content-Type", "application/json")
-	_ = json.NewEncoder(w).Encode(j.Status())
+	writeJSON(w, j.Status())
 }
 
 func (sw *sweeps) serveListJSON(w http.ResponseWriter, req *http.Request) {
-	infos := []SweepInfo{}
-	for _, j := range sw.list() {
-		infos = append(infos, j.Status())
-	}
-	w.Header().Set("Content-Type", "application/json")
-	_ = json.NewEncoder(w).Encode(infos)
+	serveInfos(w, &sw.registry, (*sweep.Job).Status)
 }
