@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 
+	"gyrebench/sim/display"
 	"gyrebench/sim/figure"
 )
 
@@ -30,7 +31,7 @@ const (
 // figureSnap is what a figure needs from a run, copied on the run's
 // goroutine; render draws it (the mesh is immutable and shared).
 type figureSnap struct {
-	def    *fieldDef
+	def    display.Field
 	vals   []float64
 	title  string
 	t      float64
@@ -46,12 +47,12 @@ func (r *Run) figureData(ctx context.Context, name string) (figureSnap, error) {
 		v := r.v
 		def := v.field
 		if name != "" {
-			if def, err = lookupField(name); err != nil {
+			if def, err = display.LookupField(name); err != nil {
 				return
 			}
 		}
 		m := v.s.Model()
-		msh, vals := m.Mesh(), append([]float64(nil), v.scratch.values(def, m)...)
+		msh, vals := m.Mesh(), append([]float64(nil), v.scratch.Values(def, m)...)
 		snap = figureSnap{def: def, vals: vals, title: figure.Title(m.Config(), m.Time()), t: m.Time(),
 			render: func(w *bytes.Buffer, format string, loc figure.Location, opt figure.Options) error {
 				return figure.Render(w, format, msh, vals, loc, opt)
@@ -104,7 +105,7 @@ func (s *Server) serveFigure(format string) http.HandlerFunc {
 			return
 		}
 		loc := figure.Face
-		if snap.def.Loc == OnVertices {
+		if snap.def.Loc == display.OnVertices {
 			loc = figure.Node
 		}
 		signed := snap.def.Map == "diverging" || snap.def.Map == "auto" && figure.StraddlesZero(snap.vals)

@@ -71,6 +71,14 @@ func (v *view) background(ctx context.Context, work func(context.Context) func()
 	}()
 }
 
+// jobConfig is the current config for a background job, which gets no
+// shared map, and its key.
+func (v *view) jobConfig() (sim.Config, linear.Key) {
+	cfg := v.s.Model().Config()
+	cfg.Initial.Params = nil
+	return cfg, linear.KeyOf(cfg)
+}
+
 // Job states in the messages.
 const (
 	linComputing = "computing"
@@ -136,9 +144,7 @@ func (v *view) linearChanged() {
 	if !p.active {
 		return
 	}
-	cfg := v.s.Model().Config()
-	cfg.Initial.Params = nil // the job goroutine gets no shared map
-	key := linear.KeyOf(cfg)
+	cfg, key := v.jobConfig()
 	_, haveStable := p.stable[key]
 	_, haveDisp := p.disp[key]
 	if j := p.job; j != nil && (j.key != key || (j.disp && !haveStable)) {
@@ -283,22 +289,32 @@ func (v *view) warning(m wireMsg) *outMsg {
 	return &w
 }
 
+// dispersionOut is the message "dispersion": the diagram of cfg's
+// dispersion copy, or (Diagram nil) the state of its computation.
+type dispersionOut struct {
+	Type  string `json:"type"`
+	State string `json:"state"`
+	Grid  string `json:"grid"`
+	Of    string `json:"of"`
+	Copy  bool   `json:"copy"`
+	*linear.Diagram
+	Message string `json:"message"`
+}
+
+func dispersionHead(cfg sim.Config, state, message string, d *linear.Diagram) dispersionOut {
+	c, copied := linear.DispersionCopy(cfg)
+	return dispersionOut{"dispersion", state, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, d, message}
+}
+
 // dispersionJob runs the dense analysis of the dispersion copy and encodes
 // the message "dispersion".
 func dispersionJob(ctx context.Context, key linear.Key, cfg sim.Config) func(*view) {
-	c, copied := linear.DispersionCopy(cfg)
+	c, _ := linear.DispersionCopy(cfg)
 	res, err := linear.Analyse(ctx, c, linear.Options{})
 	var out dispResult
 	if out.err = err; err == nil {
-		out.msg, out.err = json.Marshal(struct {
-			Type  string `json:"type"`
-			State string `json:"state"`
-			Grid  string `json:"grid"`
-			Of    string `json:"of"`
-			Copy  bool   `json:"copy"`
-			linear.Diagram
-			Message string `json:"message"`
-		}{"dispersion", linReady, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, linear.NewDiagram(c, res), ""})
+		d := linear.NewDiagram(c, res)
+		out.msg, out.err = json.Marshal(dispersionHead(cfg, linReady, "", &d))
 	}
 	return func(v *view) { remember(v.lin.disp, key, &out) }
 }
@@ -310,15 +326,7 @@ func (v *view) dispersionMsg() []byte {
 		return nil
 	}
 	cfg := v.s.Model().Config()
-	c, copied := linear.DispersionCopy(cfg)
-	head := struct {
-		Type    string `json:"type"`
-		State   string `json:"state"`
-		Grid    string `json:"grid"`
-		Of      string `json:"of"`
-		Copy    bool   `json:"copy"`
-		Message string `json:"message"`
-	}{"dispersion", linComputing, session.GridName(c.Grid.Kind, c.Grid.N), session.GridName(cfg.Grid.Kind, cfg.Grid.N), copied, "computing the normal modes…"}
+	head := dispersionHead(cfg, linComputing, "computing the normal modes…", nil)
 	d := v.lin.disp[linear.KeyOf(cfg)]
 	switch {
 	case d == nil:

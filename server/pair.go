@@ -278,12 +278,12 @@ func (p *Pair) checkGrid() {
 // when the sides are on different grids or show different fields.
 func (p *Pair) buildDiff() *frame {
 	a, b := p.side[0], p.side[1]
-	if !p.same || a.field != b.field {
+	if !p.same || a.field.ID != b.field.ID {
 		return nil
 	}
 	ma := a.s.Model()
-	va := a.scratch.values(a.field, ma)
-	vb := b.scratch.values(b.field, b.s.Model())
+	va := a.scratch.Values(a.field, ma)
+	vb := b.scratch.Values(b.field, b.s.Model())
 	if cap(p.diff) < len(va) {
 		p.diff = make([]float64, len(va))
 	}

@@ -83,7 +83,7 @@ func encodeGeometry(g *display.Geometry, gen uint32) []byte {
 
 // putFrame writes a field frame into b (len frameHeader + 4·len(vals)),
 // with the minimum and maximum of the finite values in the header.
-func putFrame(b []byte, f *fieldDef, gen uint32, t float64, steps int64, vals []float64) {
+func putFrame(b []byte, f display.Field, gen uint32, t float64, steps int64, vals []float64) {
 	le := binary.LittleEndian
 	b[0], b[1], b[2], b[3] = binFrame, f.ID, byte(f.Loc), 0
 	le.PutUint32(b[4:], gen)

@@ -18,6 +18,7 @@ import (
 
 	"gyrebench/scenarios"
 	"gyrebench/sim"
+	"gyrebench/sim/display"
 	"gyrebench/sim/scenario"
 	"gyrebench/sim/session"
 	"gyrebench/web"
@@ -222,9 +223,9 @@ func helloMsg(id string) []byte {
 		Map      string `json:"map"`
 	}
 	var fs []field
-	for _, f := range fieldDefs {
+	for _, f := range display.Fields() {
 		loc := "cells"
-		if f.Loc == OnVertices {
+		if f.Loc == display.OnVertices {
 			loc = "vertices"
 		}
 		fs = append(fs, field{f.ID, f.Name, f.Label, f.Units, loc, f.Map})

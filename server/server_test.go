@@ -90,9 +90,9 @@ func TestGeometryTilesTheDomain(t *testing.T) {
 func TestPutFrame(t *testing.T) {
 	vals := []float64{3, -1.5, math.NaN(), 1e30, 2}
 	b := make([]byte, frameHeader+4*len(vals))
-	putFrame(b, &fieldDefs[1], 7, 3600, 30, vals)
+	putFrame(b, display.Fields()[1], 7, 3600, 30, vals)
 	le := binary.LittleEndian
-	if b[0] != binFrame || b[1] != fieldDefs[1].ID || b[2] != byte(OnVertices) || le.Uint32(b[4:]) != 7 || le.Uint32(b[12:]) != uint32(len(vals)) {
+	if b[0] != binFrame || b[1] != display.Fields()[1].ID || b[2] != byte(display.OnVertices) || le.Uint32(b[4:]) != 7 || le.Uint32(b[12:]) != uint32(len(vals)) {
 		t.Fatalf("header % x", b[:16])
 	}
 	if tt, st := math.Float64frombits(le.Uint64(b[16:])), math.Float64frombits(le.Uint64(b[24:])); tt != 3600 || st != 30 {

@@ -74,9 +74,7 @@ func (v *view) structureChanged() {
 	if !p.active {
 		return
 	}
-	cfg := v.s.Model().Config()
-	cfg.Initial.Params = nil // the job goroutine gets no shared map
-	key := linear.KeyOf(cfg)
+	cfg, key := v.jobConfig()
 	if _, ok := p.cache[key]; !ok && p.running == nil {
 		p.start(v, key, cfg)
 	}

@@ -35,8 +35,8 @@ type view struct {
 
 	gen     uint32 // grid generation, bumped with every new mesh
 	geom    outMsg
-	scratch *fieldScratch
-	field   *fieldDef
+	scratch *display.FieldScratch
+	field   display.Field
 	subs    map[*subscriber]struct{}
 	frames  chan *frame
 
@@ -54,7 +54,7 @@ type view struct {
 func newView(ctx context.Context, id string, s *session.Session, hello []byte, frameEvery time.Duration, post func(func()) bool) *view {
 	v := &view{
 		s: s, id: id, hello: outMsg{typ: textMsg, data: hello}, frameEvery: frameEvery, ctx: ctx, post: post,
-		field: &fieldDefs[0], subs: map[*subscriber]struct{}{}, frames: make(chan *frame, 4), born: time.Now(),
+		field: display.Fields()[0], subs: map[*subscriber]struct{}{}, frames: make(chan *frame, 4), born: time.Now(),
 	}
 	v.lin.init()
 	v.sp.init()
@@ -114,7 +114,7 @@ func (v *view) setField(raw []byte) error {
 	if ce != nil {
 		return ce
 	}
-	f, err := lookupField(name)
+	f, err := display.LookupField(name)
 	if err != nil {
 		return &session.Error{Field: "field", Value: name, Message: err.Error()}
 	}
@@ -214,7 +214,7 @@ func (v *view) halt() { v.publish(v.s.Halt()) }
 func (v *view) newMesh() {
 	v.gen++
 	v.geom = outMsg{typ: binMsg, data: encodeGeometry(display.Of(v.s.Model().Mesh()), v.gen)}
-	v.scratch = newFieldScratch(v.s.Model())
+	v.scratch = display.NewFieldScratch(v.s.Model())
 }
 
 func (v *view) broadcast(m outMsg) {
@@ -237,11 +237,11 @@ func (v *view) emitStatus() {
 // owns one reference.
 func (v *view) buildFrame() *frame {
 	m := v.s.Model()
-	return newFrame(v.frames, v.field, v.gen, m.Time(), m.Steps(), v.scratch.values(v.field, m))
+	return newFrame(v.frames, v.field, v.gen, m.Time(), m.Steps(), v.scratch.Values(v.field, m))
 }
 
 // newFrame encodes a field frame in a frame from pool (or a new one).
-func newFrame(pool chan *frame, f *fieldDef, gen uint32, t float64, steps int64, vals []float64) *frame {
+func newFrame(pool chan *frame, f display.Field, gen uint32, t float64, steps int64, vals []float64) *frame {
 	size := frameHeader + 4*len(vals)
 	var fr *frame
 	select {

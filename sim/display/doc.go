@@ -33,4 +33,9 @@
 //
 // Longitude is atan2(y, x) and latitude asin(z/R) with z/R clamped to
 // [−1, 1], in degrees.
+//
+// The package also owns the catalogue of displayable fields (Fields: name,
+// label, units, location, colour map) shared by the websocket frames and
+// the figures; FieldScratch takes their values from a model's state and
+// diagnostics, computing none itself.
 package display
