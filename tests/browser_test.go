@@ -126,6 +126,16 @@ func typeInto(t testing.TB, ctx context.Context, r, text string) {
 	eval[chromedp.Void](t, ctx, fmt.Sprintf(`(() => { const s = %s; s.focus(); s.value = %q; s.dispatchEvent(new Event('change', {bubbles: true})); s.blur(); })()`, role(r), text))
 }
 
+// project shows the field canvas in projection proj ("globe" or
+// "lonlat"), waits (at most d) until it is drawn so, and screenshots it
+// as name.
+func project(t testing.TB, ctx context.Context, canvas, proj, what, name string, d time.Duration) image.Image {
+	t.Helper()
+	choose(t, ctx, "projection-select", proj)
+	poll(t, ctx, what, canvas+`.dataset.drawn === '`+proj+`'`, d)
+	return screenshot(t, ctx, sel("field-canvas"), name)
+}
+
 func screenshot(t testing.TB, ctx context.Context, s chromedp.CSS, name string) image.Image {
 	t.Helper()
 	var b []byte
@@ -138,17 +148,35 @@ func screenshot(t testing.TB, ctx context.Context, s chromedp.CSS, name string) 
 	if err != nil {
 		t.Fatalf("screenshot %s: %v", name, err)
 	}
-	if err := os.MkdirAll(artifacts, 0o755); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(artifacts, name), b, 0o644); err != nil {
-		t.Fatal(err)
-	}
+	writeArtifact(t, name, b)
 	img, err := png.Decode(bytes.NewReader(b))
 	if err != nil {
 		t.Fatalf("screenshot %s is not a PNG: %v", name, err)
 	}
 	return img
+}
+
+// mustDiffer fails unless at least the fraction least of the pixels
+// differ between a and b (what says how they came about), and logs the
+// fraction otherwise.
+func mustDiffer(t testing.TB, a, b image.Image, least float64, what string) {
+	t.Helper()
+	if d := differing(a, b); d < least {
+		t.Errorf("%s changed %.2f %% of the canvas, want at least %g %%", what, 100*d, 100*least)
+	} else {
+		t.Logf("%s changed %.0f %% of the canvas", what, 100*d)
+	}
+}
+
+// writeArtifact leaves b in the artifacts folder as name.
+func writeArtifact(t testing.TB, name string, b []byte) {
+	t.Helper()
+	if err := os.MkdirAll(artifacts, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(artifacts, name), b, 0o644); err != nil {
+		t.Fatalf("saving %s: %v", name, err)
+	}
 }
 
 // differing returns the fraction of pixels that differ between a and b.

@@ -99,9 +99,7 @@ func TestCubedBrowser(t *testing.T) {
 	eval[chromedp.Void](t, ctx, `document.querySelector('fieldset.structure').scrollIntoView()`)
 	screenshot(t, ctx, "", "cubed-02-structure-panel-diagonal.png")
 	eval[chromedp.Void](t, ctx, role("play-pause")+`.scrollIntoView()`)
-	choose(t, ctx, "projection-select", "lonlat")
-	poll(t, ctx, "the cubed map", canvas+`.dataset.drawn === 'lonlat'`, wait)
-	screenshot(t, ctx, sel("field-canvas"), "cubed-03-lonlat-n48.png")
+	project(t, ctx, canvas, "lonlat", "the cubed map", "cubed-03-lonlat-n48.png", wait)
 	choose(t, ctx, "projection-select", "globe")
 
 	// Back to icosahedral level 5 (Lloyd-relaxed, as the scenario's).
@@ -138,12 +136,8 @@ func TestCubedBrowser(t *testing.T) {
 	setN(t, ctx, "6")
 	choose(t, ctx, "grid-select", "cubed")
 	poll(t, ctx, "cubed n = 6", canvas+`.dataset.grid === 'cubed 6' && `+canvas+`.dataset.cellCorners === '4'`, wait)
-	choose(t, ctx, "projection-select", "lonlat")
-	poll(t, ctx, "the map of cubed n = 6", canvas+`.dataset.drawn === 'lonlat'`, wait)
-	screenshot(t, ctx, sel("field-canvas"), "cubed-06-lonlat-n6.png")
-	choose(t, ctx, "projection-select", "globe")
-	poll(t, ctx, "the globe of cubed n = 6", canvas+`.dataset.drawn === 'globe'`, wait)
-	screenshot(t, ctx, sel("field-canvas"), "cubed-07-globe-n6.png")
+	project(t, ctx, canvas, "lonlat", "the map of cubed n = 6", "cubed-06-lonlat-n6.png", wait)
+	project(t, ctx, canvas, "globe", "the globe of cubed n = 6", "cubed-07-globe-n6.png", wait)
 
 	in := srv.Run("1").Info()
 	t.Logf("at t = %.0f s (step %d): largest relative mass drift %.2e over %d points; markers %q", in.Time, in.Steps, worst, len(hist.Points), labels)

@@ -10,8 +10,6 @@ import (
 	"io"
 	"math"
 	"net/http"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 	"time"
@@ -333,15 +331,5 @@ func parseSVG(b []byte) (polygons int, root string, err error) {
 				polygons++
 			}
 		}
-	}
-}
-
-func writeArtifact(t *testing.T, name string, b []byte) {
-	t.Helper()
-	if err := os.MkdirAll(artifacts, 0o755); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(artifacts, name), b, 0o644); err != nil {
-		t.Fatalf("saving %s: %v", name, err)
 	}
 }

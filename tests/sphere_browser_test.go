@@ -69,19 +69,11 @@ func TestSphereBrowser(t *testing.T) {
 	dragAcross(t, ctx, canvas, 160, -48)
 	poll(t, ctx, "a redraw after the drag", canvas+`.dataset.frames > `+frames, wait)
 	turned := screenshot(t, ctx, sel("field-canvas"), "sphere-03-globe-turned.png")
-	if d := differing(globe, turned); d < 0.1 {
-		t.Errorf("turning the globe changed %.1f %% of the canvas, want at least 10 %%", 100*d)
-	} else {
-		t.Logf("turning the globe changed %.0f %% of the canvas", 100*d)
-	}
+	mustDiffer(t, globe, turned, 0.1, "turning the globe")
 
 	// The longitude–latitude map.
-	choose(t, ctx, "projection-select", "lonlat")
-	poll(t, ctx, "the map", canvas+`.dataset.drawn === 'lonlat'`, wait)
-	lonlat := screenshot(t, ctx, sel("field-canvas"), "sphere-04-lonlat.png")
-	if d := differing(turned, lonlat); d < 0.1 {
-		t.Errorf("the map differs from the globe in %.1f %% of the canvas, want at least 10 %%", 100*d)
-	}
+	lonlat := project(t, ctx, canvas, "lonlat", "the map", "sphere-04-lonlat.png", wait)
+	mustDiffer(t, turned, lonlat, 0.1, "going from the globe to the map")
 
 	// A coarser level: the map's polar bands and the cell outlines show.
 	typeInto(t, ctx, "resolution-input", "3")
@@ -96,19 +88,13 @@ func TestSphereBrowser(t *testing.T) {
 	choose(t, ctx, "optimize-select", "none")
 	poll(t, ctx, "the bisected grid", canvas+`.dataset.optimize === 'none' && `+canvas+`.dataset.grid === 'icosahedral 3' && `+canvas+`.dataset.drawn === 'lonlat'`, wait)
 	bisected := screenshot(t, ctx, sel("field-canvas"), "sphere-05b-lonlat-level3-bisected.png")
-	if d := differing(level3, bisected); d < 0.01 {
-		t.Errorf("the bisected level 3 differs from the Lloyd-relaxed one in %.2f %% of the canvas, want at least 1 %%", 100*d)
-	} else {
-		t.Logf("undoing the Lloyd relaxation changed %.0f %% of the map", 100*d)
-	}
+	mustDiffer(t, level3, bisected, 0.01, "undoing the Lloyd relaxation of level 3")
 	choose(t, ctx, "optimize-select", "lloyd")
 	poll(t, ctx, "the Lloyd grid again", canvas+`.dataset.optimize === 'lloyd'`, wait)
 	choose(t, ctx, "field-select", "vorticity")
 	poll(t, ctx, "vorticity on the map", canvas+`.dataset.field === 'vorticity'`, wait)
 	screenshot(t, ctx, sel("field-canvas"), "sphere-06-lonlat-level3-vorticity.png")
-	choose(t, ctx, "projection-select", "globe")
-	poll(t, ctx, "the globe again", canvas+`.dataset.drawn === 'globe'`, wait)
-	screenshot(t, ctx, sel("field-canvas"), "sphere-07-globe-level3-vorticity.png")
+	project(t, ctx, canvas, "globe", "the globe again", "sphere-07-globe-level3-vorticity.png", wait)
 	poll(t, ctx, "the sphere's dispersion diagram", role("dispersion-caption")+`.dataset.state === 'ready' && `+role("dispersion-plot")+`.dataset.points > 100`, analysisHang)
 	eval[chromedp.Void](t, ctx, `document.querySelector('fieldset.linear').scrollIntoView()`)
 	screenshot(t, ctx, "", "sphere-08-linear-panel.png")
