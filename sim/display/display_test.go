@@ -4,17 +4,9 @@ import (
 	"math"
 	"testing"
 
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/mesh"
 )
-
-func build(t *testing.T, s mesh.Spec) *mesh.Mesh {
-	t.Helper()
-	m, err := mesh.New(s)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return m
-}
 
 // signedArea is the shoelace area of an interleaved polygon: positive
 // when it is anticlockwise.
@@ -41,7 +33,7 @@ var planes = []mesh.Spec{
 // polygon many times too large or turn it over.
 func TestPlaneTiles(t *testing.T) {
 	for _, s := range planes {
-		m := build(t, s)
+		m := testcheck.Mesh(t, s)
 		g := Of(m)
 		if g.Sphere || g.PeriodX != m.Surface.Lx || g.PeriodY != m.Surface.Ly {
 			t.Fatalf("%s: sphere %v, periods %g × %g, want a plane of %g × %g", s.Kind, g.Sphere, g.PeriodX, g.PeriodY, m.Surface.Lx, m.Surface.Ly)
@@ -84,7 +76,7 @@ var spheres = []mesh.Spec{
 // polygon's centre, in every direction that is periodic.
 func TestCornersNearestTheCentre(t *testing.T) {
 	for _, s := range append(append([]mesh.Spec(nil), planes...), spheres...) {
-		g := Of(build(t, s))
+		g := Of(testcheck.Mesh(t, s))
 		for _, p := range []*Polygons{&g.Cells, &g.Duals} {
 			for i := range p.Len() {
 				cx, cy := p.Centre[2*i], p.Centre[2*i+1]
@@ -172,7 +164,7 @@ func checkMap(t *testing.T, name string, mp Polygons, area []float64, r float64)
 // (λ, φ) whatever the resolution; there the exact tiling is the check.)
 func TestMapTilesTheSphere(t *testing.T) {
 	for _, s := range spheres {
-		m := build(t, s)
+		m := testcheck.Mesh(t, s)
 		g := Of(m)
 		dateLine, pole := 0, 0
 		for _, c := range []struct {
@@ -207,7 +199,7 @@ func TestMapTilesTheSphere(t *testing.T) {
 func TestMapAreaConverges(t *testing.T) {
 	prev := math.Inf(1)
 	for level := 3; level <= 5; level++ {
-		m := build(t, mesh.Spec{Kind: mesh.Icosahedral, N: level, Radius: 1})
+		m := testcheck.Mesh(t, mesh.Spec{Kind: mesh.Icosahedral, N: level, Radius: 1})
 		g := Of(m)
 		w := checkMap(t, "cell", g.Map(&g.Cells), m.CellArea, 1).worst
 		if w > prev/1.5 {
@@ -231,7 +223,7 @@ func solidAngle(a, b, c []float64) float64 {
 // is), and the spherical polygons of each kind cover the sphere, 4π.
 func TestGlobe(t *testing.T) {
 	for _, s := range spheres {
-		m := build(t, s)
+		m := testcheck.Mesh(t, s)
 		cells, duals, err := Globe(m)
 		if err != nil {
 			t.Fatal(err)
@@ -271,7 +263,7 @@ func TestGlobe(t *testing.T) {
 			}
 		}
 	}
-	if _, _, err := Globe(build(t, planes[0])); err == nil {
+	if _, _, err := Globe(testcheck.Mesh(t, planes[0])); err == nil {
 		t.Error("Globe of a plane: no error")
 	}
 }
@@ -292,7 +284,7 @@ func TestPoints(t *testing.T) {
 			t.Errorf("LonLat(%g, %g, %g, r=%g) = %g, %g, want %g, %g", c.x, c.y, c.z, c.r, lon, lat, c.lon, c.lat)
 		}
 	}
-	m := build(t, planes[1])
+	m := testcheck.Mesh(t, planes[1])
 	if x, y := CellCentre(m, 5); x != m.CellX[5] || y != m.CellY[5] {
 		t.Errorf("plane CellCentre(5) = %g, %g, want %g, %g", x, y, m.CellX[5], m.CellY[5])
 	}

@@ -30,11 +30,7 @@ var (
 
 func mustMesh(t *testing.T, kind mesh.Kind, n int) *mesh.Mesh {
 	t.Helper()
-	m, err := mesh.New(mesh.Spec{Kind: kind, N: n, Length: 1e6, Radius: 6.37122e6})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return m
+	return testcheck.Mesh(t, mesh.Spec{Kind: kind, N: n, Length: 1e6, Radius: 6.37122e6})
 }
 
 func rgba(img image.Image, x, y int) color.RGBA {

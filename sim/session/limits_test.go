@@ -5,22 +5,14 @@ import (
 	"testing"
 
 	"gyrebench/sim"
+	"gyrebench/sim/internal/testcheck"
 	"gyrebench/sim/mesh"
 )
 
 func TestGridLimits(t *testing.T) {
-	plane, err := mesh.New(mesh.Spec{Kind: mesh.Quad, N: 4, Length: 1e6})
-	if err != nil {
-		t.Fatal(err)
-	}
-	sphere, err := mesh.New(mesh.Spec{Kind: mesh.Icosahedral, N: 1, Radius: 1})
-	if err != nil {
-		t.Fatal(err)
-	}
-	cube, err := mesh.New(mesh.Spec{Kind: mesh.Cubed, N: 4, Radius: 1})
-	if err != nil {
-		t.Fatal(err)
-	}
+	plane := testcheck.Mesh(t, mesh.Spec{Kind: mesh.Quad, N: 4, Length: 1e6})
+	sphere := testcheck.Mesh(t, mesh.Spec{Kind: mesh.Icosahedral, N: 1, Radius: 1})
+	cube := testcheck.Mesh(t, mesh.Spec{Kind: mesh.Cubed, N: 4, Radius: 1})
 	cfg := sim.DefaultConfig()
 	for _, c := range []struct {
 		name  string
@@ -54,10 +46,7 @@ func TestGridLimits(t *testing.T) {
 // grid, the cubed sphere is offered up to the largest n within
 // MaxLiveCells (the relaxation does not carry to the cubed sphere).
 func TestMaxLiveCubedFromLloyd(t *testing.T) {
-	sphere, err := mesh.New(mesh.Spec{Kind: mesh.Icosahedral, N: 2, Radius: 1})
-	if err != nil {
-		t.Fatal(err)
-	}
+	sphere := testcheck.Mesh(t, mesh.Spec{Kind: mesh.Icosahedral, N: 2, Radius: 1})
 	cfg := sim.DefaultConfig()
 	cfg.Grid = sim.GridConfig{Kind: "icosahedral", N: 2, Optimize: mesh.OptimizeLloyd}
 	n := MaxLiveN("cubed", cfg, sphere)
@@ -103,10 +92,7 @@ func TestRing(t *testing.T) {
 // MaxLiveN is the largest resolution within MaxLiveCells.
 func TestMaxLiveN(t *testing.T) {
 	cfg := sim.DefaultConfig()
-	m, err := mesh.New(cfg.MeshSpec())
-	if err != nil {
-		t.Fatal(err)
-	}
+	m := testcheck.Mesh(t, cfg.MeshSpec())
 	for _, kind := range GridKinds() {
 		n := MaxLiveN(kind, cfg, m)
 		cells, err := liveSpec(kind, n, cfg, m).Cells()

@@ -8,6 +8,8 @@ import (
 	"os"
 	"strings"
 	"testing"
+
+	"gyrebench/sim/mesh"
 )
 
 // ErrorSays checks that err is an error whose message holds every string
@@ -55,4 +57,14 @@ func ReadJSON(t testing.TB, path string, v any) {
 	if err := json.Unmarshal(b, v); err != nil {
 		t.Fatalf("%s: %v", path, err)
 	}
+}
+
+// Mesh builds the mesh of spec, failing the test when it cannot.
+func Mesh(t testing.TB, spec mesh.Spec) *mesh.Mesh {
+	t.Helper()
+	m, err := mesh.New(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m
 }
