@@ -1,8 +1,16 @@
 package server
 
 import (
+	"bytes"
+	"crypto/sha256"
 	"encoding/binary"
+	"encoding/hex"
+	"encoding/json"
 	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
 	"testing"
 
 	"gyrebench/sim/display"
@@ -148,4 +156,106 @@ func TestSubscriberLatestWins(t *testing.T) {
 	if msgs, _, _, overflow := s.take(nil); !overflow || len(msgs) != maxQueued {
 		t.Errorf("after %d messages: %d queued, overflow %v; want %d and true", maxQueued+1, len(msgs), overflow, maxQueued)
 	}
+}
+
+// pinMeshes are the meshes whose geometry message is pinned: two small
+// ones byte for byte (testdata/geometry-*.bin, written by the encoder
+// before the geometry moved to package sim/display) and larger ones of
+// every family by their SHA-256.
+var pinMeshes = []struct {
+	name string
+	spec mesh.Spec
+	file string // the whole message, in testdata; "" for a hash only
+	hash string // SHA-256 of the message
+}{
+	{"hex-4", mesh.Spec{Kind: mesh.Hex, N: 4, Length: 1e6}, "geometry-hex-4.bin", ""},
+	{"icosahedral-1", mesh.Spec{Kind: mesh.Icosahedral, N: 1, Radius: 6.371e6}, "geometry-icosahedral-1.bin", ""},
+	{"quad-8", mesh.Spec{Kind: mesh.Quad, N: 8, Length: 1e6}, "", "48b2d4aa381c42f989aa42fb6897686a017dc3c2018fc08ffd7e08bbdc39ad8f"},
+	{"tri-8", mesh.Spec{Kind: mesh.Tri, N: 8, Length: 1e6}, "", "d1692ba5e3c45f136c2a7973aa37e103abf1bc43e547feacb79c91d2041c7479"},
+	{"hex-12-distorted", mesh.Spec{Kind: mesh.Hex, N: 12, Length: 2e6, Distort: 0.2}, "", "30487467fdb7928ed1d5995f5193d21f9a02a2a6531b2b24f9510aed06bc9896"},
+	{"icosahedral-3", mesh.Spec{Kind: mesh.Icosahedral, N: 3, Radius: 6.371e6}, "", "ac6e2692554cd81029ab7133125c3dc5859039f4461eb77226e47e20fd7176ec"},
+	{"icosahedral-3-lloyd", mesh.Spec{Kind: mesh.Icosahedral, N: 3, Radius: 6.371e6, Optimize: mesh.OptimizeLloyd}, "", "6a345adb757cd004bf8cd310c38d47e98dfda2e5836683b576d8d858ec9ff8de"},
+	{"cubed-6", mesh.Spec{Kind: mesh.Cubed, N: 6, Radius: 6.371e6}, "", "0f82c7dc159016eadf29160a6544a75dcfdd229d5b1785b0f518027ccff2d82f"},
+}
+
+// The binary geometry message is what the browser decodes
+// (static/protocol.js): it must not change by a bit when the code that
+// builds it does.
+func TestGeometryMessagePinned(t *testing.T) {
+	for _, c := range pinMeshes {
+		t.Run(c.name, func(t *testing.T) {
+			m, err := mesh.New(c.spec)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got := encodeGeometry(display.Of(m), 3)
+			if c.file != "" {
+				path := filepath.Join("testdata", c.file)
+				want, err := os.ReadFile(path)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !bytes.Equal(got, want) {
+					n := 0
+					for n < min(len(got), len(want)) && got[n] == want[n] {
+						n++
+					}
+					t.Fatalf("geometry message of %d bytes differs from the pinned %d bytes, first at byte %d", len(got), len(want), n)
+				}
+				return
+			}
+			sum := sha256.Sum256(got)
+			if h := hex.EncodeToString(sum[:]); h != c.hash {
+				t.Errorf("geometry message SHA-256 = %s, pinned %s", h, c.hash)
+			}
+		})
+	}
+}
+
+// FuzzParseClient: any websocket text message is either a known command
+// or refused with an error that names a field and says what is allowed;
+// the refusal is valid JSON; an accepted command survives re-encoding.
+//
+//	go test -run '^$' -fuzz FuzzParseClient -fuzztime 60s ./server/
+func FuzzParseClient(f *testing.F) {
+	for _, s := range []string{
+		`{"cmd":"play"}`, `{"id":3,"cmd":"set-dt","value":60}`, `{"cmd":"set-grid","value":{"kind":"hex","n":32}}`,
+		`{"cmd":"load","value":"dipole"}`, `play please`, `{"cmd":"play","speed":2}`, `{"cmd":"fly"}`,
+		`{"cmd":"play"}{"cmd":"pause"}`, `[]`, `null`, `{"cmd":7}`, `{"id":1e400,"cmd":"play"}`, "\xff\xfe",
+	} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		m, ce := parseMsg(data, false)
+		if ce != nil {
+			if ce.Field == "" || ce.Message == "" {
+				t.Fatalf("%q: refusal without a field or a message: %+v", data, ce)
+			}
+			if !strings.Contains(ce.Message, "want") && !strings.Contains(ce.Message, "allowed") && !strings.Contains(ce.Message, "send") {
+				t.Fatalf("%q: refusal %q does not say what is allowed", data, ce.Message)
+			}
+			reply := errorReply(m, ce)
+			var e struct {
+				Type  string `json:"type"`
+				Field string `json:"field"`
+			}
+			if !json.Valid(reply.data) || json.Unmarshal(reply.data, &e) != nil || e.Type != "error" || e.Field != ce.Field {
+				t.Fatalf("%q: error reply %s is not an error message naming %q", data, reply.data, ce.Field)
+			}
+			return
+		}
+		if !slices.Contains(commands, m.Cmd) {
+			t.Fatalf("%q: accepted unknown command %q", data, m.Cmd)
+		}
+		again, err := json.Marshal(m)
+		if err != nil {
+			t.Fatalf("%q: accepted, but does not re-encode: %v", data, err)
+		}
+		m2, ce := parseMsg(again, false)
+		var want bytes.Buffer
+		_ = json.Compact(&want, m.Value) // Marshal compacts a raw value
+		if ce != nil || m2.ID != m.ID || m2.Cmd != m.Cmd || string(m2.Value) != want.String() {
+			t.Fatalf("%q: re-encoded as %s, which parses as %+v (%v)", data, again, m2, ce)
+		}
+	})
 }
