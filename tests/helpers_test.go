@@ -78,6 +78,26 @@ duration = %s
 %s`, title, kind, n, length, integrator, dt, duration, initial)
 }
 
+// Scenarios that tests in several files share.
+
+// eddies is a small freely decaying turbulence run: fast enough for a
+// test, with enough vorticity gradients that the choice of PV flux shows.
+var eddies = fPlaneScenario("test: small decaying eddies", "hex", 32, "2.0e6", "rk4", "120.0", "864000.0", `case = "turbulence"
+seed = 7.0
+k_peak = 6.0
+u_rms = 8.0
+`)
+
+// smallHex is a small planar run to start from; the sphere is loaded into
+// it, as a user does from the scenario menu.
+var smallHex = fPlaneScenario("test: small hexagonal bump", "hex", 16, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
+`)
+
+// hex128 is a large planar run (32 768 cells) of shear layers, for the
+// speed benchmarks and the limits on large grids.
+var hex128 = fPlaneScenario("speed: shear layers on hex n = 128", "hex", 128, "2.0e6", "rk3", "60.0", "1728000.0", `case = "shear-layer"
+`)
+
 // writeScenario writes a scenario file for the test and returns its path.
 func writeScenario(t testing.TB, name, text string) string {
 	t.Helper()

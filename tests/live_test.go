@@ -11,14 +11,6 @@ import (
 	"gyrebench/server"
 )
 
-// eddies is a small freely decaying turbulence run: fast enough for a
-// test, with enough vorticity gradients that the choice of PV flux shows.
-var eddies = fPlaneScenario("test: small decaying eddies", "hex", 32, "2.0e6", "rk4", "120.0", "864000.0", `case = "turbulence"
-seed = 7.0
-k_peak = 6.0
-u_rms = 8.0
-`)
-
 // segment collects what streams between two changes.
 type segment struct {
 	points []msg

@@ -24,9 +24,6 @@ import (
 // run's steps per second are compared with the same model stepped
 // headless, with the same number of workers.
 
-var hex128 = fPlaneScenario("speed: shear layers on hex n = 128", "hex", 128, "2.0e6", "rk3", "60.0", "1728000.0", `case = "shear-layer"
-`)
-
 const speedSteps = 600
 const speedWorkers = 1
 

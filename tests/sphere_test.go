@@ -15,11 +15,6 @@ import (
 	"gyrebench/sim/timeline"
 )
 
-// smallHex is a small planar run to start from; the sphere is loaded into
-// it, as a user does from the scenario menu.
-var smallHex = fPlaneScenario("test: small hexagonal bump", "hex", 16, "1.0e6", "rk3", "60.0", "86400.0", `case = "gaussian-bump"
-`)
-
 // geometry is a decoded geometry message (layout in server/doc.go).
 type geometry struct {
 	sphere               bool
