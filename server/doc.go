@@ -54,37 +54,6 @@
 // marker (a mid-run change), ring (the times of the states one can rewind
 // to), ack and error.
 //
-// The linear panel (linear_panel.go): the command "linear" turns on the
-// run's linear analysis; from then on, after every change of choice, every
-// watcher receives stability (the largest stable Δt of each integrator
-// from linear.StableDt's max|λ| on the run's grid, and the live Courant
-// number) and dispersion (the normal modes of a small copy of the grid,
-// for the dispersion diagram). An accepted set-dt or set-integrator that
-// leaves Δt past the prediction is answered by a warning (same fields as
-// an error) before its ack; it is not a refusal.
-//
-// Figures (figure_routes.go): GET /run/{id}/figure.png and figure.svg
-// render the displayed field server-side with package sim/figure.
-//
-// Timelines (sim/session, timeline_routes.go): every command a run
-// takes is recorded with its step (package sim/timeline). The commands
-// mark (a labelled moment where a replay pauses), replay (a built-in
-// timeline name or an uploaded file's text) and stop-replay drive it, and
-// each watcher receives timeline messages with the record and the replay's
-// progress. GET /run/{id}/timeline.toml saves the record; GET
-// /run/{id}/final.nc writes the live state as `gyrebench run` would.
-//
-// Lockstep pairs (pair.go, pair_routes.go): /pair/{id} shows two runs from
-// one initial state that differ in chosen settings; each pair step advances
-// whichever side is behind in simulated time (both when level), and
-// commands name their side.
-//
-// Sweeps (sweep_*.go): /sweeps/new starts a sweep (package sweep) in
-// its own folder under Options.SweepDir, one at a time, under the server's
-// context; /sweep/{id} shows its progress from a server-sent event stream
-// (/sweep/{id}/events), then its plots and files, which are served only by
-// the names the sweep wrote.
-//
 // Server to client, binary, little-endian, every section 4-byte aligned so
 // the browser reads it with typed-array views:
 //
@@ -106,4 +75,19 @@
 // Field values travel as float32: 4 bytes per value plus a 40-byte header,
 // so a 16 384-cell hexagonal grid costs 65 576 bytes per cell field and
 // 131 112 bytes per vertex field (32 768 vertices).
+//
+// # Where the rest is
+//
+// Each feature's own file says what it does and what it sends:
+// linear_panel.go (the command "linear": stability and dispersion, and
+// the warning, same fields as an error, that precedes the ack of a set-dt
+// or set-integrator past the predicted limit; it is not a refusal),
+// structure_panel.go (the command "structure"), figure_routes.go
+// (/run/{id}/figure.png and .svg, drawn by package sim/figure),
+// timeline_routes.go (the commands mark, replay and stop-replay drive the
+// record of package sim/timeline; /run/{id}/timeline.toml and final.nc),
+// pair.go and pair_routes.go (lockstep pairs at /pair/{id}, whose
+// commands name their side) and sweep_*.go (sweeps of package sim/sweep
+// at /sweeps/new and /sweep/{id}, one at a time under
+// Options.SweepDir).
 package server

@@ -27,13 +27,6 @@ import (
 // client asks with the command "structure"; from then on every change of
 // choice updates it, and every watcher receives it.
 
-// Report states in the messages (the linear panel's words).
-const (
-	structComputing = linComputing
-	structReady     = linReady
-	structFailed    = linFailed
-)
-
 // structResult is one computed report, encoded.
 type structResult struct {
 	report  json.RawMessage
@@ -118,14 +111,14 @@ func (v *view) structureMsg() []byte {
 		Seconds    num             `json:"seconds"`
 		Report     json.RawMessage `json:"report,omitempty"`
 		Message    string          `json:"message"`
-	}{"structure", structComputing, session.GridName(cfg.Grid.Kind, cfg.Grid.N), cfg.Scheme.Name, session.HodgeName(cfg.Scheme.Hodge),
+	}{"structure", linComputing, session.GridName(cfg.Grid.Kind, cfg.Grid.N), cfg.Scheme.Name, session.HodgeName(cfg.Scheme.Hodge),
 		v.s.Model().Mesh().Orthogonal, 0, nil, "measuring the structure of this grid and scheme…"}
 	switch res := v.sp.cache[linear.KeyOf(cfg)]; {
 	case res == nil:
 	case res.err != nil:
-		msg.State, msg.Message = structFailed, "structure report failed: "+res.err.Error()
+		msg.State, msg.Message = linFailed, "structure report failed: "+res.err.Error()
 	default:
-		msg.State, msg.Seconds, msg.Report, msg.Message = structReady, num(res.seconds), res.report, ""
+		msg.State, msg.Seconds, msg.Report, msg.Message = linReady, num(res.seconds), res.report, ""
 	}
 	return mustJSON(msg)
 }
