@@ -214,33 +214,17 @@ func render(w http.ResponseWriter, req *http.Request, c templ.Component) {
 // helloMsg names what a run offers: fields with units and colour maps,
 // the choices of each menu, and the protocol version.
 func helloMsg(id string) []byte {
-	type field struct {
-		ID       uint8  `json:"id"`
-		Name     string `json:"name"`
-		Label    string `json:"label"`
-		Units    string `json:"units"`
-		Location string `json:"location"`
-		Map      string `json:"map"`
-	}
-	var fs []field
-	for _, f := range display.Fields() {
-		loc := "cells"
-		if f.Loc == display.OnVertices {
-			loc = "vertices"
-		}
-		fs = append(fs, field{f.ID, f.Name, f.Label, f.Units, loc, f.Map})
-	}
 	return mustJSON(struct {
-		Type        string   `json:"type"`
-		Protocol    int      `json:"protocol"`
-		Run         string   `json:"run"`
-		Fields      []field  `json:"fields"`
-		Schemes     []string `json:"schemes"`
-		Integrators []string `json:"integrators"`
-		Grids       []string `json:"grids"`
-		Scenarios   []string `json:"scenarios"`
-		Commands    []string `json:"commands"`
-	}{"hello", 1, id, fs, session.Schemes(), session.Integrators(), session.GridKinds(), scenarios.Names(), commands})
+		Type        string          `json:"type"`
+		Protocol    int             `json:"protocol"`
+		Run         string          `json:"run"`
+		Fields      []display.Field `json:"fields"`
+		Schemes     []string        `json:"schemes"`
+		Integrators []string        `json:"integrators"`
+		Grids       []string        `json:"grids"`
+		Scenarios   []string        `json:"scenarios"`
+		Commands    []string        `json:"commands"`
+	}{"hello", 1, id, display.Fields(), session.Schemes(), session.Integrators(), session.GridKinds(), scenarios.Names(), commands})
 }
 
 // serveWS connects a websocket client to a run.

@@ -17,19 +17,28 @@ const (
 	OnVertices Location = 1
 )
 
+// MarshalText names the location: "cells" or "vertices".
+func (l Location) MarshalText() ([]byte, error) {
+	if l == OnVertices {
+		return []byte("vertices"), nil
+	}
+	return []byte("cells"), nil
+}
+
 // Field is one displayable field. The values come from the engine (state
-// or diagnostics, FieldScratch.Values); a display only copies them.
+// or diagnostics, FieldScratch.Values); a display only copies them. Its
+// JSON is the entry of the field menu the browser is sent.
 type Field struct {
-	ID    uint8
-	Name  string // wire name
-	Label string // for people
-	Units string
-	Loc   Location
+	ID    uint8    `json:"id"`
+	Name  string   `json:"name"`  // wire name
+	Label string   `json:"label"` // for people
+	Units string   `json:"units"`
+	Loc   Location `json:"location"`
 	// Map is "sequential" for fields that are positive by nature,
 	// "diverging" for signed fields (centred on zero), and "auto" for a
 	// field that is usually one-signed but need not be (a drawer picks
 	// diverging when the values straddle zero).
-	Map string
+	Map string `json:"map"`
 }
 
 // Fields lists the displayable fields in menu order; ID is the index.
