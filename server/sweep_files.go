@@ -26,38 +26,26 @@ func pathParam(req *http.Request, name string) string {
 	return v
 }
 
+// serveFile serves a file the sweep offers: one of the sweep folder's
+// (route without {run}) or one of a run folder's.
 func (sw *sweeps) serveFile(w http.ResponseWriter, req *http.Request) {
 	j := sw.job(w, req)
 	if j == nil {
 		return
 	}
 	in := j.Status()
-	name := pathParam(req, "name")
-	if !slices.Contains(in.TopFiles(), name) {
-		http.Error(w, fmt.Sprintf("sweep %s has no file %q; it serves %s, and each run's %s under /sweep/%s/run/RUN/",
-			in.ID, name, strings.Join(in.TopFiles(), ", "), strings.Join(sweep.RunOutputs(), ", "), in.ID), http.StatusNotFound)
-		return
-	}
-	serveSweepFile(w, req, filepath.Join(in.Dir, name))
-}
-
-func (sw *sweeps) serveRunFile(w http.ResponseWriter, req *http.Request) {
-	j := sw.job(w, req)
-	if j == nil {
-		return
-	}
-	in := j.Status()
 	run, name := pathParam(req, "run"), pathParam(req, "name")
-	known := false
-	for _, r := range in.Runs {
-		known = known || r.Name == run
-	}
-	if !known || !slices.Contains(sweep.RunOutputs(), name) {
+	outs := strings.Join(sweep.RunOutputs(), ", ")
+	switch {
+	case run == "" && !slices.Contains(in.TopFiles(), name):
+		http.Error(w, fmt.Sprintf("sweep %s has no file %q; it serves %s, and each run's %s under /sweep/%s/run/RUN/",
+			in.ID, name, strings.Join(in.TopFiles(), ", "), outs, in.ID), http.StatusNotFound)
+	case run != "" && (!slices.ContainsFunc(in.Runs, func(r sweep.RunStatus) bool { return r.Name == run }) || !slices.Contains(sweep.RunOutputs(), name)):
 		http.Error(w, fmt.Sprintf("sweep %s has no run file %q/%q; the runs are those of its plan and each serves %s",
-			in.ID, run, name, strings.Join(sweep.RunOutputs(), ", ")), http.StatusNotFound)
-		return
+			in.ID, run, name, outs), http.StatusNotFound)
+	default:
+		serveSweepFile(w, req, filepath.Join(in.Dir, run, name))
 	}
-	serveSweepFile(w, req, filepath.Join(in.Dir, run, name))
 }
 
 // serveSweepFile serves one file of a sweep folder; p is already known

@@ -67,7 +67,7 @@ func (s *Server) mountSweeps(r chi.Router) {
 	r.Get("/sweep/{id}/results", sw.serveResults)
 	r.Post("/sweep/{id}/stop", sw.serveStop)
 	r.Get("/sweep/{id}/file/{name}", sw.serveFile)
-	r.Get("/sweep/{id}/run/{run}/{name}", sw.serveRunFile)
+	r.Get("/sweep/{id}/run/{run}/{name}", sw.serveFile)
 	r.Get("/sweep/{id}/sweep.zip", sw.serveZip)
 	r.Get("/api/sweeps", sw.serveListJSON)
 	r.Get("/api/sweep/{id}", sw.serveJSON)
