@@ -88,24 +88,6 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 	}
 }
 
-// PotentialVorticity sets q_v = (ζ_v + f_v)/h_v for vertices v in [lo, hi)
-// with ζ and h_v as in Vorticity, in one pass: multiplying through by A_v,
-// q_v = (Σ t d u + f_v A_v) / Σ K h. PVStencil gives the same bits faster,
-// for callers that evaluate it every step.
-func (g Grid) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
-	start, edges, sign, cells := g.VertexEdgeStart, g.VertexEdges, g.VertexEdgeSign, g.VertexCells
-	d, kite, area := g.DualLength, g.VertexKiteArea, g.VertexArea
-	for v := lo; v < hi; v++ {
-		var c, m float64
-		for k := start[v]; k < start[v+1]; k++ {
-			e := edges[k]
-			c += float64(sign[k]) * (d[e] * u[e])
-			m += kite[k] * h[cells[k]]
-		}
-		q[v-lo] = (c + f[v]*area[v]) / m
-	}
-}
-
 // vertexSlot is one edge of a vertex as the PV pass reads it: the signed
 // dual length t_{e,v} d_e, the kite area K_{i,v} of the cell that follows,
 // and the two indices, side by side so that one stream carries them.
@@ -114,11 +96,13 @@ type vertexSlot struct {
 	edge, cell int32
 }
 
-// PVStencil evaluates Grid.PotentialVorticity with t_{e,v} d_e stored per
-// vertex slot: the product (t d) u equals t (d u) exactly, because t is
-// ±1, so the bits are those of Grid.PotentialVorticity, with one gather
-// (u_e) per edge instead of two and no sign conversion. Vertices of three
-// edges (hexagonal and icosahedral grids) take a straight-line path.
+// PVStencil evaluates the potential vorticity q_v = (ζ_v + f_v)/h_v with ζ
+// and h_v as in Vorticity, in one pass: multiplying through by A_v,
+// q_v = (Σ_e t_{e,v} d_e u_e + f_v A_v) / Σ_i K_{i,v} h_i. It stores
+// t_{e,v} d_e per vertex slot, so that each edge costs one gather (u_e)
+// and no sign conversion; (t d) u equals t (d u) exactly, because t is
+// ±1. Vertices of three edges (hexagonal and icosahedral grids) take a
+// straight-line path with the same arithmetic.
 type PVStencil struct {
 	start []int32
 	slots []vertexSlot
@@ -134,7 +118,8 @@ func NewPVStencil(g Grid) *PVStencil {
 	return s
 }
 
-// PotentialVorticity sets q[v-lo] for v in [lo, hi), as Grid.PotentialVorticity.
+// PotentialVorticity sets q[v-lo] = q_v for v in [lo, hi), with the
+// Coriolis parameter f, the velocity u and the depth h as whole fields.
 func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 	start, slots := s.start, s.slots
 	q, f, area := q[:hi-lo], f[lo:hi], s.area[lo:hi]

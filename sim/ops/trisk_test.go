@@ -48,9 +48,10 @@ func TestTRiSKRecurrenceMatchesWeights(t *testing.T) {
 	}
 }
 
-// PVStencil stores t_{e,v} d_e per vertex slot; since t = ±1 the products
-// and so the potential vorticity are those of Grid.PotentialVorticity bit
-// for bit, on every grid family (three-edge vertices take their own path).
+// PVStencil stores t_{e,v} d_e per vertex slot; since t = ±1 its
+// potential vorticity is, bit for bit, that of the formula summed in slot
+// order, q_v = (Σ t (d u) + f A_v) / Σ K h, on every grid family
+// (three-edge vertices take their own path).
 func TestPVStencilMatchesGrid(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, spec := range []mesh.Spec{
@@ -74,7 +75,15 @@ func TestPVStencilMatchesGrid(t *testing.T) {
 			f[v] = 1e-4 * rng.NormFloat64()
 		}
 		want, got := make([]float64, m.NumVertices), make([]float64, m.NumVertices)
-		g.PotentialVorticity(want, f, u, h, 0, m.NumVertices)
+		for v := range want {
+			var c, k float64
+			for j := g.VertexEdgeStart[v]; j < g.VertexEdgeStart[v+1]; j++ {
+				e := g.VertexEdges[j]
+				c += float64(g.VertexEdgeSign[j]) * (g.DualLength[e] * u[e])
+				k += g.VertexKiteArea[j] * h[g.VertexCells[j]]
+			}
+			want[v] = (c + f[v]*g.VertexArea[v]) / k
+		}
 		s := NewPVStencil(g)
 		mid := m.NumVertices / 3
 		s.PotentialVorticity(got[:mid], f, u, h, 0, mid)

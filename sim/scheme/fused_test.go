@@ -38,7 +38,11 @@ func reference(f fixture, name string) []float64 {
 		out[i] = -div[i]
 	}
 	q := make([]float64, nv)
-	g.PotentialVorticity(q, f.phys.FVertex, u, h, 0, nv)
+	zeta, hv := make([]float64, nv), make([]float64, nv)
+	g.Vorticity(zeta, hv, u, h, 0, nv)
+	for v := range q {
+		q[v] = (zeta[v] + f.phys.FVertex[v]) / hv[v]
+	}
 	qe, qf := make([]float64, ne), make([]float64, ne)
 	for e := range qe {
 		qe[e] = 0.5 * (q[g.EdgeVertices[2*e]] + q[g.EdgeVertices[2*e+1]])

@@ -13,7 +13,7 @@ import (
 type pair [2]float64
 
 // core holds what every scheme computes before its own passes: the
-// potential vorticity on vertices (ops.Grid.PotentialVorticity) and, per
+// potential vorticity on vertices (ops.PVStencil) and, per
 // edge, the volume flux and the edge's share of the kinetic energy. Its
 // passes run on the pool as method values built once, so a tendency
 // allocates nothing.
