@@ -331,6 +331,8 @@ func (s *trisk) doCells(lo, hi int) {
 			s.cells6(a, b)
 		case r.n == 4 && s.corr == nil:
 			s.cells4(a, b)
+		case r.n == 3 && s.corr == nil:
+			s.cells3(a, b)
 		default:
 			s.cellsAny(a, b)
 		}
@@ -401,6 +403,16 @@ func (s *trisk) cellRange(lo, hi int) (h, invA, dh, x0, b []float64, slots []cel
 	return h, invA, dh, x0, b, s.slots[s.g.CellEdgeStart[lo]:s.g.CellEdgeStart[hi]]
 }
 
+// bernoulli returns Φ_i = K_i + g(h_i + b_i), K_i = (1/4A_i) ke, from
+// ke = Σ_e l_e d_e u_e² over the cell's edges (read before setDepth).
+func (s *trisk) bernoulli(h, invA, b []float64, i int, ke float64) float64 {
+	hb := h[i]
+	if b != nil {
+		hb += b[i]
+	}
+	return 0.25*ke*invA[i] + s.phys.G*hb
+}
+
 // setDepth stores the cell pass's ∂h_i/∂t = f in a tendency (dh), or
 // replaces h_i by its stage value.
 func (s *trisk) setDepth(h, dh, x0 []float64, i int, f float64) {
@@ -430,7 +442,7 @@ func share(enst bool, qe, ga, gb, phi float64) float64 {
 func (s *trisk) cells6(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:6*len(h)]
-	q, fk, tt, grav, enst := s.q, s.fk, s.tt, s.phys.G, s.enstrophy
+	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
 	for i := range h {
 		sl := (*[6]cellSlot)(slots[6*i : 6*i+6])
 		s0, s1, s2, s3, s4, s5 := sl[0].side, sl[1].side, sl[2].side, sl[3].side, sl[4].side, sl[5].side
@@ -450,12 +462,8 @@ func (s *trisk) cells6(lo, hi int) {
 		ta := c1*a1 + c2*a2 + c3*a3 + c4*a4 + c5*a5
 		tb := c1*b1 + c2*b2 + c3*b3 + c4*b4 + c5*b5
 		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1] + p4[1] + p5[1]
-		inv, hb := invA[i], h[i]
-		if b != nil {
-			hb += b[i]
-		}
-		phi := 0.25*ke*inv + grav*hb
-		s.setDepth(h, dh, x0, i, -(sa * inv))
+		phi := s.bernoulli(h, invA, b, i, ke)
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
 		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
 		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
 		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
@@ -477,7 +485,7 @@ func (s *trisk) cells6(lo, hi int) {
 func (s *trisk) cells4(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:4*len(h)]
-	q, fk, tt, grav, enst := s.q, s.fk, s.tt, s.phys.G, s.enstrophy
+	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
 	for i := range h {
 		sl := (*[4]cellSlot)(slots[4*i : 4*i+4])
 		s0, s1, s2, s3 := sl[0].side, sl[1].side, sl[2].side, sl[3].side
@@ -495,12 +503,8 @@ func (s *trisk) cells4(lo, hi int) {
 		ta := c1*a1 + c2*a2 + c3*a3
 		tb := c1*b1 + c2*b2 + c3*b3
 		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1]
-		inv, hb := invA[i], h[i]
-		if b != nil {
-			hb += b[i]
-		}
-		phi := 0.25*ke*inv + grav*hb
-		s.setDepth(h, dh, x0, i, -(sa * inv))
+		phi := s.bernoulli(h, invA, b, i, ke)
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
 		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
 		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
 		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
@@ -512,12 +516,42 @@ func (s *trisk) cells4(lo, hi int) {
 	}
 }
 
+// cells3 is cellsAny for triangles (the triangular planes), written out
+// like cells6 with the same arithmetic in the same order.
+func (s *trisk) cells3(lo, hi int) {
+	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
+	slots = slots[:3*len(h)]
+	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
+	for i := range h {
+		sl := (*[3]cellSlot)(slots[3*i : 3*i+3])
+		s0, s1, s2 := sl[0].side, sl[1].side, sl[2].side
+		q2, q0, q1 := q[sl[2].vert], q[sl[0].vert], q[sl[1].vert]
+		p0, p1, p2 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1]
+		qe0, qe1, qe2 := 0.5*(q2+q0), 0.5*(q0+q1), 0.5*(q1+q2)
+		a0, a1, a2 := sgn[s0&1]*p0[0], sgn[s1&1]*p1[0], sgn[s2&1]*p2[0]
+		b0, b1, b2 := qe0*a0, qe1*a1, qe2*a2
+		r0, r1 := sl[0].r, sl[1].r
+		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
+		c2 := c1 + r1
+		sa, sb := 0.0+a0+a1+a2, 0.0+b0+b1+b2
+		ta, tb := c1*a1+c2*a2, c1*b1+c2*b2
+		phi := s.bernoulli(h, invA, b, i, 0.0+p0[1]+p1[1]+p2[1])
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
+		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
+		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
+		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
+		tt[s0>>1][s0&1] = share(enst, qe0, ga0, gb0, phi)
+		tt[s1>>1][s1&1] = share(enst, qe1, ga1, gb1, phi)
+		tt[s2>>1][s2&1] = share(enst, qe2, ga2, gb2, phi)
+	}
+}
+
 // cellsAny is the cell pass for cells of any number of edges.
 func (s *trisk) cellsAny(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	start := s.g.CellEdgeStart[lo : hi+1]
 	k0 := int(start[0])
-	q, fk, tt, corr, grav, enst := s.q, s.fk, s.tt, s.corr, s.phys.G, s.enstrophy
+	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy
 	var a, bq, r, qe [maxCellEdges]float64
 	for i := range h {
 		sl := slots[int(start[i])-k0 : int(start[i+1])-k0]
@@ -543,12 +577,8 @@ func (s *trisk) cellsAny(lo, hi int) {
 			ke += p[1]
 			cm += c.r
 		}
-		inv, hb := invA[i], h[i]
-		if b != nil {
-			hb += b[i]
-		}
-		phi := 0.25*ke*inv + grav*hb
-		s.setDepth(h, dh, x0, i, -(sa * inv))
+		phi := s.bernoulli(h, invA, b, i, ke)
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
 		// The cell's sums G_j = Σ_k w_{j,j+k} a_{j+k}, by
 		// G_0 = ½(A − a_0) − B and G_{j+1} = G_j + R_j A − ½(a_j + a_{j+1}),
 		// which follows from the closed form of ops.TRiSK.
