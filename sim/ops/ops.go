@@ -88,14 +88,6 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 	}
 }
 
-// vertexSlot is one edge of a vertex as the PV pass reads it: the signed
-// dual length t_{e,v} d_e, the kite area K_{i,v} of the cell that follows,
-// and the two indices, side by side so that one stream carries them.
-type vertexSlot struct {
-	td, kite   float64
-	edge, cell int32
-}
-
 // PVStencil evaluates the potential vorticity q_v = (ζ_v + f_v)/h_v with ζ
 // and h_v as in Vorticity, in one pass: multiplying through by A_v,
 // q_v = (Σ_e t_{e,v} d_e u_e + f_v A_v) / Σ_i K_{i,v} h_i. It stores
@@ -104,16 +96,15 @@ type vertexSlot struct {
 // ±1. Vertices of three edges (hexagonal and icosahedral grids) take a
 // straight-line path with the same arithmetic.
 type PVStencil struct {
-	start []int32
-	slots []vertexSlot
-	area  []float64
+	g  Grid
+	td []float64 // per vertex slot: t_{e,v} d_e
 }
 
-// NewPVStencil precomputes the slots of g.
+// NewPVStencil precomputes the signed dual lengths of g.
 func NewPVStencil(g Grid) *PVStencil {
-	s := &PVStencil{start: g.VertexEdgeStart, area: g.VertexArea, slots: make([]vertexSlot, len(g.VertexEdges))}
+	s := &PVStencil{g: g, td: make([]float64, len(g.VertexEdges))}
 	for k, e := range g.VertexEdges {
-		s.slots[k] = vertexSlot{td: float64(g.VertexEdgeSign[k]) * g.DualLength[e], kite: g.VertexKiteArea[k], edge: e, cell: g.VertexCells[k]}
+		s.td[k] = float64(g.VertexEdgeSign[k]) * g.DualLength[e]
 	}
 	return s
 }
@@ -121,8 +112,8 @@ func NewPVStencil(g Grid) *PVStencil {
 // PotentialVorticity sets q[v-lo] = q_v for v in [lo, hi), with the
 // Coriolis parameter f, the velocity u and the depth h as whole fields.
 func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
-	start, slots := s.start, s.slots
-	q, f, area := q[:hi-lo], f[lo:hi], s.area[lo:hi]
+	start, edges, cells, kite, td := s.g.VertexEdgeStart, s.g.VertexEdges, s.g.VertexCells, s.g.VertexKiteArea, s.td
+	q, f, area := q[:hi-lo], f[lo:hi], s.g.VertexArea[lo:hi]
 	f, area = f[:len(q)], area[:len(q)]
 	k1 := int(start[lo])
 	for j := range q {
@@ -130,17 +121,18 @@ func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 		k1 = int(start[lo+j+1])
 		var c, m float64
 		if k1-k0 == 3 {
-			ss := (*[3]vertexSlot)(slots[k0:k1])
-			c += ss[0].td * u[ss[0].edge]
-			c += ss[1].td * u[ss[1].edge]
-			c += ss[2].td * u[ss[2].edge]
-			m += ss[0].kite * h[ss[0].cell]
-			m += ss[1].kite * h[ss[1].cell]
-			m += ss[2].kite * h[ss[2].cell]
+			es, cs := (*[3]int32)(edges[k0:k1]), (*[3]int32)(cells[k0:k1])
+			ts, ks := (*[3]float64)(td[k0:k1]), (*[3]float64)(kite[k0:k1])
+			c += ts[0] * u[es[0]]
+			c += ts[1] * u[es[1]]
+			c += ts[2] * u[es[2]]
+			m += ks[0] * h[cs[0]]
+			m += ks[1] * h[cs[1]]
+			m += ks[2] * h[cs[2]]
 		} else {
-			for _, sl := range slots[k0:k1] {
-				c += sl.td * u[sl.edge]
-				m += sl.kite * h[sl.cell]
+			for k := k0; k < k1; k++ {
+				c += td[k] * u[edges[k]]
+				m += kite[k] * h[cells[k]]
 			}
 		}
 		q[j] = (c + f[j]*area[j]) / m

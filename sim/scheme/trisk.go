@@ -161,7 +161,7 @@ const maxCellEdges = 16
 // trisk is the TRiSK family: energy-, enstrophy-conserving and APVM.
 //
 // A tendency is four passes (apvm adds two before the cell pass, for q on
-// cells and q̂ on edges). Vertices: q. Edges: F and the kinetic-energy
+// cells and q̂ on edges; a general Hodge star one on edges). Vertices: q. Edges: F and the kinetic-energy
 // shares. Cells: the divergence, the Bernoulli function Φ = K + g(h + b)
 // and the TRiSK sums (ops.TRiSK gives the closed form) of F and of q_e F,
 // which the cell combines with q_e and Φ into its side's share T^i_e of
@@ -170,9 +170,14 @@ const maxCellEdges = 16
 // cell, so the passes split over workers without changing a bit.
 //
 // The cell pass is where the time goes (about half of it on hexagons):
-// it is bound by arithmetic, some 170 floating-point operations per
-// hexagon, while the other passes are bound by the latency of their
-// gathers and by memory traffic.
+// it is bound by arithmetic, some 160 floating-point operations per
+// hexagon with a third as many loads and stores again for the values
+// that do not fit in the sixteen vector registers, while the vertex pass
+// (a quarter) is bound by its division and its gathers of u and h, and
+// the edge and momentum passes by memory traffic. The README's speed
+// section has the measurements. In a Runge–Kutta step (StageThen) the
+// momentum pass also does the next stage's edge pass, so that a stage
+// is three passes.
 type trisk struct {
 	core
 	name      string
