@@ -95,13 +95,20 @@ func TestBitIdenticalWorkersEveryFamily(t *testing.T) {
 				staged bool
 			}
 			paths := []path{{step.RK3, false}, {step.RK4, false}}
+			if testing.Short() {
+				paths = paths[:1] // rk3 only: the race detector makes every step slow
+			}
 			if stager {
 				paths = append(paths, path{step.RK3, true})
+			}
+			steps := 3
+			if testing.Short() {
+				steps = 1
 			}
 			ref := map[string][]float64{}
 			for _, p := range paths {
 				for _, w := range []int{1, 2, 4} {
-					got := advance(t, f, name, p.integ, p.staged, w, 3)
+					got := advance(t, f, name, p.integ, p.staged, w, steps)
 					want, ok := ref[p.integ]
 					if !ok {
 						ref[p.integ] = got
@@ -128,11 +135,18 @@ func mustScheme(t testing.TB, name string, f fixture) Scheme {
 }
 
 // A tendency, a stage, a plain step and a staged rk3 step allocate
-// nothing, for every scheme and grid family, with one and two workers.
+// nothing, for every scheme and grid family, with one and two workers
+// (one under -short).
 func TestZeroAllocationsEveryFamily(t *testing.T) {
+	runs, workers := 10, []int{1, 2}
+	if testing.Short() {
+		// The race detector slows the spinning pool of two workers on a
+		// busy machine by minutes; par's own test covers its allocations.
+		runs, workers = 2, []int{1}
+	}
 	for _, fam := range families {
 		f := familyFixture(t, fam.spec, fam.general)
-		for _, w := range []int{1, 2} {
+		for _, w := range workers {
 			pool := par.New(w)
 			for _, name := range schemesOn(f) {
 				s, err := New(name, f.g, f.phys, pool, Options{})
@@ -143,13 +157,13 @@ func TestZeroAllocationsEveryFamily(t *testing.T) {
 				what := fmt.Sprintf("%s, %s, %d workers", fam.name, name, w)
 				dx := make([]float64, len(f.x))
 				x := append([]float64(nil), f.x...)
-				if a := testing.AllocsPerRun(10, func() { s.Tendency(dx, f.x) }); a != 0 {
+				if a := testing.AllocsPerRun(runs, func() { s.Tendency(dx, f.x) }); a != 0 {
 					t.Errorf("%s: %v allocations per tendency", what, a)
 				}
 				for _, integ := range []string{step.RK3, step.RK4} {
 					in, _ := step.New(integ, len(x), step.Options{For: pool.For})
 					tend := s.Tendency
-					if a := testing.AllocsPerRun(10, func() { in.Step(tend, x, 1) }); a != 0 {
+					if a := testing.AllocsPerRun(runs, func() { in.Step(tend, x, 1) }); a != 0 {
 						t.Errorf("%s: %v allocations per %s step", what, a, integ)
 					}
 				}
@@ -158,12 +172,12 @@ func TestZeroAllocationsEveryFamily(t *testing.T) {
 					continue
 				}
 				x0 := append([]float64(nil), f.x...)
-				if a := testing.AllocsPerRun(10, func() { st.Stage(x, x0, 0.75, 0.25, 1) }); a != 0 {
+				if a := testing.AllocsPerRun(runs, func() { st.Stage(x, x0, 0.75, 0.25, 1) }); a != 0 {
 					t.Errorf("%s: %v allocations per stage", what, a)
 				}
 				in, _ := step.New(step.RK3, len(x), step.Options{For: pool.For})
 				staged := in.(step.StagedStepper)
-				if a := testing.AllocsPerRun(10, func() { staged.StepStaged(st, x, 1) }); a != 0 {
+				if a := testing.AllocsPerRun(runs, func() { staged.StepStaged(st, x, 1) }); a != 0 {
 					t.Errorf("%s: %v allocations per staged rk3 step", what, a)
 				}
 			}
