@@ -50,7 +50,7 @@ typedef struct {
 static int wrap(int i, int n) { return ((i % n) + n) % n; }
 
 static void *alloc(size_t n) {
-	void *p = aligned_alloc(64, (n + 7) / 8 * 8 * 8);
+	void *p = aligned_alloc(64, (n + 63) / 64 * 64); /* a multiple of the alignment */
 	if (!p) {
 		fprintf(stderr, "hexstep: out of memory\n");
 		exit(1);
