@@ -128,6 +128,7 @@ type msg struct {
 	MassAbs   float64 `json:"mass_abs"`
 
 	Hodge string `json:"hodge"` // config
+	Role  string `json:"role"`  // role, on a shared workbench
 
 	// history: the server's series of points and its markers.
 	Points []struct {
