@@ -131,7 +131,7 @@ func roleMsg(control bool) outMsg {
 		Hint string `json:"hint,omitempty"`
 	}{"role", "control", ""}
 	if !control {
-		m.Role, m.Hint = "watch", "Watching: the presenter drives this run. To drive it, open the control URL that `gyrebench serve` printed."
+		m.Role, m.Hint = "watch", "The presenter drives this run; the control URL from `gyrebench serve` gives control."
 	}
 	return textOut(m)
 }
