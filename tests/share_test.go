@@ -1,6 +1,7 @@
 package tests
 
 import (
+	"bufio"
 	"context"
 	"io"
 	"net/http"
@@ -8,6 +9,7 @@ import (
 	"net/url"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/coder/websocket"
 
@@ -206,4 +208,54 @@ func TestShareRoleOptions(t *testing.T) {
 	}
 	cl.mustAck("play", nil, nil)
 	cl.mustAck("pause", nil, nil)
+}
+
+// TestShareServePrints: `gyrebench serve --share --control-key K` prints
+// a watch URL without the key and a control URL with it, and the control
+// URL, opened, gives its browser control.
+func TestShareServePrints(t *testing.T) {
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	pr, pw := io.Pipe()
+	done := make(chan error, 1)
+	go func() {
+		done <- server.Serve(ctx, server.Options{Addr: "127.0.0.1:0", Workers: 1, Share: true, ControlKey: shareKey, Stderr: pw})
+		pw.Close()
+	}()
+	lines := bufio.NewScanner(pr)
+	urls := map[string]string{}
+	for len(urls) < 2 && lines.Scan() {
+		f := strings.Fields(lines.Text())
+		if len(f) >= 2 && (f[0] == "watch:" || f[0] == "control:") {
+			urls[f[0]] = f[1]
+		}
+	}
+	go func() { _, _ = io.Copy(io.Discard, pr) }()
+	watch, control := urls["watch:"], urls["control:"]
+	if watch == "" || control == "" || strings.Contains(watch, shareKey) || control != watch+"?control="+shareKey {
+		t.Fatalf("printed watch %q and control %q, want the control URL to be the watch URL with ?control=KEY", watch, control)
+	}
+	hc := browserLike(t)
+	hc.CheckRedirect = nil // follow, as a browser does
+	resp, err := hc.Get(control)
+	if err != nil {
+		t.Fatal(err)
+	}
+	resp.Body.Close()
+	if resp.StatusCode != http.StatusOK || resp.Request.URL.RawQuery != "" {
+		t.Fatalf("GET the control URL: %s at %s, want the page without the key", resp.Status, resp.Request.URL)
+	}
+	cl := dialWith(t, hc, strings.TrimSuffix(watch, "/"), "1")
+	if r := roleOf(t, cl); r != "control" {
+		t.Errorf("after the printed control URL: role %q, want control", r)
+	}
+	cancel()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Errorf("Serve: %v", err)
+		}
+	case <-time.After(hang):
+		t.Fatalf("Serve did not return within %v of its context ending (a guard against a hang)", hang)
+	}
 }
