@@ -34,19 +34,7 @@ func browserLike(t *testing.T) *http.Client {
 // with the upgrade); the client reads until the test ends.
 func dialWith(t *testing.T, hc *http.Client, base, id string) *client {
 	t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), hang)
-	defer cancel()
-	u := "ws" + strings.TrimPrefix(base, "http") + "/run/" + id + "/ws"
-	c, _, err := websocket.Dial(ctx, u, &websocket.DialOptions{HTTPClient: hc})
-	if err != nil {
-		t.Fatalf("dial %s: %v", u, err)
-	}
-	c.SetReadLimit(64 << 20)
-	rctx, stop := context.WithCancel(context.Background())
-	t.Cleanup(func() {
-		stop()
-		c.CloseNow()
-	})
+	c, rctx := dialWSWith(t, base, "/run/"+id+"/ws", &websocket.DialOptions{HTTPClient: hc})
 	cl := &client{t: t, c: c, in: make(chan msg, 1<<14)}
 	go cl.read(rctx)
 	return cl
