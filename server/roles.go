@@ -111,7 +111,8 @@ func (ro *roles) check(next http.Handler) http.Handler {
 			}
 			http.SetCookie(w, &http.Cookie{Name: controlCookie, Value: ro.key, Path: "/", HttpOnly: true, SameSite: http.SameSiteStrictMode, Secure: req.TLS != nil})
 			q.Del(controlParam)
-			to := url.URL{Path: req.URL.Path, RawQuery: q.Encode()}
+			// One leading slash: "//host/..." would leave the site.
+			to := url.URL{Path: "/" + strings.TrimLeft(req.URL.Path, "/"), RawQuery: q.Encode()}
 			http.Redirect(w, req, to.String(), http.StatusSeeOther)
 			return
 		}

@@ -146,6 +146,15 @@ func TestShareRoles(t *testing.T) {
 	if strings.Contains(loc, shareKey) {
 		t.Errorf("redirect %q carries the key", loc)
 	}
+	// The redirect stays on this site whatever the path.
+	resp2, err := browserLike(t).Get(base + "//elsewhere.example/x?control=" + url.QueryEscape(shareKey))
+	if err != nil {
+		t.Fatal(err)
+	}
+	resp2.Body.Close()
+	if l := resp2.Header.Get("Location"); l != "/elsewhere.example/x" {
+		t.Errorf("control URL at //elsewhere.example/x redirects to %q, want /elsewhere.example/x on this site", l)
+	}
 	cs := resp.Cookies()
 	if len(cs) != 1 || !cs[0].HttpOnly || cs[0].SameSite != http.SameSiteStrictMode || cs[0].Path != "/" {
 		t.Fatalf("control URL set cookies %v, want one HttpOnly, SameSite=Strict cookie on /", resp.Header["Set-Cookie"])
