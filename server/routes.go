@@ -59,6 +59,8 @@ func label(m map[string]string, name string) string {
 func (s *Server) routes() chi.Router {
 	r := chi.NewRouter()
 	r.Use(s.checkHost) // every route, websockets included (hosts.go)
+	// A shared workbench: the control key, and viewers (roles.go).
+	r.Use(s.roles.check)
 	r.Use(middleware.GetHead)
 	r.Get("/", s.serveIndex)
 	r.Get("/runs", s.serveRuns)

@@ -68,7 +68,7 @@ func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 func usage(w io.Writer) {
 	fmt.Fprint(w, `gyrebench: a workbench for shallow-water discretisations
 
-  gyrebench serve [--addr 127.0.0.1:8080] [--host NAME]... [--max-runs 16]
+  gyrebench serve [--addr 127.0.0.1:8080] [--host NAME]... [--max-runs 16] [--share [--control-key KEY]]
                                               the live workbench in the browser
   gyrebench run FILE_OR_NAME [--set key=value]... [--out DIR] [--workers W]
                                               FILE may be a recorded timeline (saved in the workbench)
