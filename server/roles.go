@@ -2,8 +2,10 @@ package server
 
 import (
 	"crypto/rand"
+	"crypto/sha256"
 	"crypto/subtle"
 	"encoding/base64"
+	"encoding/hex"
 	"fmt"
 	"net"
 	"net/http"
@@ -23,9 +25,9 @@ import (
 // role in a role message, sent before hello.
 
 const (
-	controlParam    = "control"           // the control URL's query key
-	controlCookie   = "gyrebench-control" // holds the key once visited
-	controlKeyBytes = 24                  // random bytes of a generated key (192 bits)
+	controlParam    = "control"            // the control URL's query key
+	controlCookie   = "gyrebench-control-" // + a digest of the key: holds the key once visited
+	controlKeyBytes = 24                   // random bytes of a generated key (192 bits)
 	// MinControlKey is the fewest characters a given control key may have.
 	MinControlKey = 16
 )
@@ -33,16 +35,28 @@ const (
 // WatchHint is what a viewer is told when it tries to change something.
 const WatchHint = "this page is watching: open the control URL printed by `gyrebench serve` to drive the run"
 
-// readOnlyCommands are the websocket commands a viewer may send: each
-// turns on a panel that only computes what the page shows (from the
-// run's choices, changing nothing), and the page sends them on connecting.
-// set-field is not one of them: the field shown is the run's, for every
-// watcher.
-var readOnlyCommands = []string{"linear", "structure"}
+// readOnly reports whether a viewer may send websocket command cmd: each
+// such command turns on a panel that only computes what the page shows
+// (from the run's choices, changing nothing), and the page sends them on
+// connecting. set-field is not one of them: the field shown is the run's,
+// for every watcher.
+func readOnly(cmd string) bool { return cmd == "linear" || cmd == "structure" }
 
 // roles is a shared workbench's control key; a nil *roles is a workbench
 // that is not shared, where every client controls.
-type roles struct{ key string }
+type roles struct {
+	key string
+	// cookie is the cookie's name. Browsers keep cookies apart by host,
+	// not by port, so two shared workbenches on one machine would
+	// overwrite each other's cookie under one name; a digest of the key
+	// keeps them apart (a given key shared by both controls both anyway).
+	cookie string
+}
+
+func newRolesKey(key string) *roles {
+	d := sha256.Sum256([]byte(key))
+	return &roles{key: key, cookie: controlCookie + hex.EncodeToString(d[:6])}
+}
 
 // CheckControlKey validates a given control key (serve --control-key).
 func CheckControlKey(key string) error {
@@ -67,13 +81,13 @@ func newRoles(opt Options) (*roles, error) {
 		if err := CheckControlKey(opt.ControlKey); err != nil {
 			return nil, err
 		}
-		return &roles{key: opt.ControlKey}, nil
+		return newRolesKey(opt.ControlKey), nil
 	}
 	b := make([]byte, controlKeyBytes)
 	if _, err := rand.Read(b); err != nil {
 		return nil, fmt.Errorf("making the control key: %w", err)
 	}
-	return &roles{key: base64.RawURLEncoding.EncodeToString(b)}, nil
+	return newRolesKey(base64.RawURLEncoding.EncodeToString(b)), nil
 }
 
 // controls reports whether req may change things: always on a workbench
@@ -82,7 +96,7 @@ func (ro *roles) controls(req *http.Request) bool {
 	if ro == nil {
 		return true
 	}
-	c, err := req.Cookie(controlCookie)
+	c, err := req.Cookie(ro.cookie)
 	return err == nil && ro.matches(c.Value)
 }
 
@@ -109,7 +123,7 @@ func (ro *roles) check(next http.Handler) http.Handler {
 				http.Error(w, "control key: not this workbench's key; open the control URL exactly as `gyrebench serve` printed it", http.StatusForbidden)
 				return
 			}
-			http.SetCookie(w, &http.Cookie{Name: controlCookie, Value: ro.key, Path: "/", HttpOnly: true, SameSite: http.SameSiteStrictMode, Secure: req.TLS != nil})
+			http.SetCookie(w, &http.Cookie{Name: ro.cookie, Value: ro.key, Path: "/", HttpOnly: true, SameSite: http.SameSiteStrictMode, Secure: req.TLS != nil})
 			q.Del(controlParam)
 			// One leading slash: "//host/..." would leave the site.
 			to := url.URL{Path: "/" + strings.TrimLeft(req.URL.Path, "/"), RawQuery: q.Encode()}
@@ -140,7 +154,7 @@ func roleMsg(control bool) outMsg {
 // refusal is the answer to a command from a viewer, or nil when the
 // command may go ahead.
 func refusal(control bool, m wireMsg) *outMsg {
-	if control || contains(readOnlyCommands, m.Cmd) {
+	if control || readOnly(m.Cmd) {
 		return nil
 	}
 	r := errorReply(m, refuse("role", "watch", "%s", WatchHint))
