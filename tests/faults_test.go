@@ -20,7 +20,6 @@ import (
 	"runtime"
 	"slices"
 	"strings"
-	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -60,40 +59,22 @@ every = 600.0
 snapshots = true
 `
 
-// binaryOnce builds the gyrebench command once for the tests that run it
-// as a separate process.
-var binaryOnce struct {
-	sync.Once
-	path string
-	err  error
-}
-
-// gyrebenchBinary builds the gyrebench command (without the race
-// detector: the faults it meets are the operating system's, not the
-// scheduler's) and returns its path.
+// gyrebenchBinary builds the gyrebench command into the test's temporary
+// folder (without the race detector: the faults it meets are the
+// operating system's, not the scheduler's) and returns its path.
 func gyrebenchBinary(t *testing.T) string {
 	t.Helper()
-	binaryOnce.Do(func() {
-		goTool, err := exec.LookPath("go")
-		if err != nil {
-			goTool = filepath.Join(runtime.GOROOT(), "bin", "go")
-		}
-		dir, err := os.MkdirTemp("", "gyrebench-faults-")
-		if err != nil {
-			binaryOnce.err = err
-			return
-		}
-		binaryOnce.path = filepath.Join(dir, "gyrebench")
-		cmd := exec.Command(goTool, "build", "-o", binaryOnce.path, "gyrebench")
-		cmd.Dir = ".."
-		if out, err := cmd.CombinedOutput(); err != nil {
-			binaryOnce.err = fmt.Errorf("go build gyrebench: %v\n%s", err, out)
-		}
-	})
-	if binaryOnce.err != nil {
-		t.Fatal(binaryOnce.err)
+	goTool, err := exec.LookPath("go")
+	if err != nil {
+		goTool = filepath.Join(runtime.GOROOT(), "bin", "go")
 	}
-	return binaryOnce.path
+	bin := filepath.Join(t.TempDir(), "gyrebench")
+	cmd := exec.Command(goTool, "build", "-o", bin, "gyrebench")
+	cmd.Dir = ".."
+	if out, err := cmd.CombinedOutput(); err != nil {
+		t.Fatalf("go build gyrebench: %v\n%s", err, out)
+	}
+	return bin
 }
 
 // isTemp reports whether name is an atomicfile temporary: "." + the final
