@@ -82,7 +82,7 @@ func waitStructure(cl *client, grid, hodge string) structureReport {
 func TestCubedAndHodgeLive(t *testing.T) {
 	srv, base := startServer(t, server.Options{Workers: 1, RingSize: 8, Scenario: writeScenario(t, "sphere3", sphere3)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	cl.mustAck("structure", nil, nil)
 	if r := waitStructure(cl, "icosahedral 3", "consistent"); !r.EnergyConserving || !r.Consistent || r.HodgeMatrix != "diagonal" {
 		t.Errorf("icosahedral level 3: %+v; want energy conserving and consistent with a diagonal H (orthogonal dual)", r)
@@ -163,7 +163,7 @@ func TestCubedAndHodgeLive(t *testing.T) {
 func TestCubedAndHodgeRefusals(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "sphere3", sphere3)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	before := string(get(t, base+"/run/1/timeline.toml"))
 	for _, tc := range []struct {
 		cmd   string
