@@ -7,7 +7,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-	"time"
 
 	"gyrebench/server"
 	"gyrebench/sim/timeline"
@@ -51,7 +50,9 @@ type structureReport struct {
 func waitStructure(cl *client, grid, hodge string) structureReport {
 	cl.t.Helper()
 	var rep structureReport
-	cl.until(120*time.Second, "the structure report of "+grid+" with the "+hodge+" Hodge star", func(m msg) bool {
+	// The report is computed at the lowest CPU priority, like the linear
+	// analysis, so its guard is analysisHang.
+	cl.until(analysisHang, "the structure report of "+grid+" with the "+hodge+" Hodge star", func(m msg) bool {
 		var sm struct {
 			Type, State, Hodge string
 			Report             *structureReport
