@@ -21,27 +21,32 @@ import (
 
 // BenchmarkViewers is the load of a group meeting: N websocket viewers
 // watch one run of the default scenario for T seconds, each reading every
-// message as a browser does. It reports
+// message as a browser does; they may come and go in R rounds of T/R
+// seconds each. It reports
 //
 //   - frames/s-per-viewer: the field frames each viewer received per
 //     second (mean and slowest), against the server's cap of
 //     server.DefaultMaxFPS;
 //   - steps/s-one-viewer and steps/s-watched, and loss-%: the run's speed
-//     with one viewer (a run pauses when nobody watches; the mean of a
-//     window before and a window after the N viewers) against its speed
-//     while the N watch too;
+//     with one viewer (a run pauses when nobody watches) in windows
+//     before, between and after the rounds, against its speed while the
+//     N watch too; the loss is the median over the rounds of each round
+//     against the mean of the windows on either side of it, so that the
+//     machine's drift cancels in part;
 //   - heap-before-MB, heap-after-MB and heap-growth-%: the live heap after
 //     a garbage collection, once the run has played with one viewer and
-//     again after the N have gone (a leak per viewer shows as growth).
+//     again after the last round's viewers have gone (memory kept per
+//     viewer that has left shows as growth that scales with N × R).
 //
-// N and T are GYREBENCH_VIEWERS (default 50) and GYREBENCH_LOAD_S (default
-// 60):
+// N, T and R are GYREBENCH_VIEWERS (default 50), GYREBENCH_LOAD_S
+// (default 60) and GYREBENCH_LOAD_ROUNDS (default 1):
 //
 //	GYREBENCH_VIEWERS=50 GYREBENCH_LOAD_S=60 go test -run '^$' -bench BenchmarkViewers -benchtime 1x ./tests/
 func BenchmarkViewers(b *testing.B) {
 	viewers := envInt(b, "GYREBENCH_VIEWERS", 50)
 	seconds := envInt(b, "GYREBENCH_LOAD_S", 60)
-	window := time.Duration(seconds) * time.Second
+	rounds := envInt(b, "GYREBENCH_LOAD_ROUNDS", 1)
+	window := time.Duration(seconds) * time.Second / time.Duration(rounds)
 	quiet := max(window/4, 5*time.Second) // each window with one viewer
 	for i := 0; i < b.N; i++ {
 		_, base := startServer(b, server.Options{MaxFPS: server.DefaultMaxFPS})
@@ -58,54 +63,61 @@ func BenchmarkViewers(b *testing.B) {
 			b.Fatal(err)
 		}
 		waitRunning(b, info)
-		before := first.stepRate(b, quiet)
+		alone := []float64{first.stepRate(b, quiet)}
 		heapBefore := liveHeap()
 
-		// N viewers for T seconds.
-		vctx, leave := context.WithCancel(ctx)
-		var vwg sync.WaitGroup
-		group := make([]*viewer, viewers)
-		for k := range group {
-			group[k] = watch(b, vctx, &vwg, base, "1")
+		var watched, losses, fps []float64
+		for range rounds {
+			// N viewers for T/R seconds.
+			vctx, leave := context.WithCancel(ctx)
+			var vwg sync.WaitGroup
+			group := make([]*viewer, viewers)
+			for k := range group {
+				group[k] = watch(b, vctx, &vwg, base, "1")
+			}
+			waitSubscribers(b, info, viewers+1)
+			f0 := make([]int64, viewers)
+			for k, v := range group {
+				f0[k] = v.frames.Load()
+			}
+			t0 := time.Now()
+			w := first.stepRate(b, window)
+			elapsed := time.Since(t0).Seconds()
+			for k, v := range group {
+				fps = append(fps, float64(v.frames.Load()-f0[k])/elapsed)
+			}
+			leave()
+			vwg.Wait()
+			waitSubscribers(b, info, 1)
+			alone = append(alone, first.stepRate(b, quiet))
+			k := len(watched)
+			watched = append(watched, w)
+			losses = append(losses, 100*(1-w/((alone[k]+alone[k+1])/2)))
 		}
-		waitSubscribers(b, info, viewers+1)
-		f0 := make([]int64, viewers)
-		for k, v := range group {
-			f0[k] = v.frames.Load()
-		}
-		t0 := time.Now()
-		watched := first.stepRate(b, window)
-		elapsed := time.Since(t0).Seconds()
-		fps := make([]float64, viewers)
-		for k, v := range group {
-			fps[k] = float64(v.frames.Load()-f0[k]) / elapsed
-		}
-		leave()
-		vwg.Wait()
-		waitSubscribers(b, info, 1)
-
-		after := first.stepRate(b, quiet)
 		heapAfter := liveHeap()
 		if s := info().State; s != server.StateRunning {
 			b.Fatalf("the run is %s after the load; want it still running", s)
 		}
 		cancel()
 		wg.Wait()
-		unwatched := (before + after) / 2
-		var sum float64
-		for _, f := range fps {
-			sum += f
-		}
 		b.ReportMetric(float64(viewers), "viewers")
-		b.ReportMetric(sum/float64(viewers), "frames/s-per-viewer")
+		b.ReportMetric(mean(fps), "frames/s-per-viewer")
 		b.ReportMetric(slices.Min(fps), "frames/s-slowest-viewer")
-		b.ReportMetric(unwatched, "steps/s-one-viewer")
-		b.ReportMetric(watched, "steps/s-watched")
-		b.ReportMetric(100*(1-watched/unwatched), "loss-%")
+		b.ReportMetric(mean(alone), "steps/s-one-viewer")
+		b.ReportMetric(mean(watched), "steps/s-watched")
+		b.ReportMetric(median(losses), "loss-%")
 		b.ReportMetric(float64(heapBefore)/(1<<20), "heap-before-MB")
 		b.ReportMetric(float64(heapAfter)/(1<<20), "heap-after-MB")
 		b.ReportMetric(100*(float64(heapAfter)/float64(heapBefore)-1), "heap-growth-%")
 	}
+}
+
+func mean(v []float64) float64 {
+	var s float64
+	for _, x := range v {
+		s += x
+	}
+	return s / float64(len(v))
 }
 
 // viewer is a bare websocket client that reads every message, as a
