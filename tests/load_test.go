@@ -257,7 +257,8 @@ func liveHeap() uint64 {
 	return m.HeapAlloc
 }
 
-// dialViewer connects a bare websocket viewer to run id.
+// dialViewer connects a bare websocket viewer to run id; the caller
+// closes it.
 func dialViewer(b *testing.B, base, id string) *websocket.Conn {
 	b.Helper()
 	ctx, cancel := context.WithTimeout(context.Background(), hang)
@@ -268,6 +269,8 @@ func dialViewer(b *testing.B, base, id string) *websocket.Conn {
 		b.Fatalf("dial %s: %v", u, err)
 	}
 	c.SetReadLimit(64 << 20)
-	b.Cleanup(func() { c.CloseNow() })
+	// No b.Cleanup here: it would hold every connection until the
+	// benchmark ends, in the heap being measured. The viewer's reader
+	// closes it when its context ends.
 	return c
 }
