@@ -36,28 +36,10 @@ import (
 // a final name is whole: atomicfile writes under ".NAME.*.tmp" and
 // renames, so a file is either absent, the old one, or complete.
 
-// killRun is a headless run that writes a snapshot every ten steps, on a
-// grid big enough that each record takes a visible share of the run.
-const killRun = `title = "faults: killed while writing"
-[grid]
-kind = "hex"
-n = 64
-length = 2.0e6
-[physics]
-f0 = 1.0e-4
-depth = 1000.0
-[scheme]
-name = "trisk-energy"
-[time]
-integrator = "rk3"
-dt = 60.0
-duration = %d.0
-[initial]
-case = "shear-layer"
-[output]
-every = 600.0
-snapshots = true
-`
+// killSets make hex64 (live_test.go) a headless run that writes a
+// snapshot every ten steps, on a grid big enough that each record takes a
+// visible share of the run; the duration is added per run.
+var killSets = []string{"--set", "output.every=600", "--set", "output.snapshots=true"}
 
 // gyrebenchBinary builds the gyrebench command into the test's temporary
 // folder (without the race detector: the faults it meets are the
@@ -115,9 +97,9 @@ func TestKillRunWhileWriting(t *testing.T) {
 	// (under its temporary name) holds a few records. A record is h, u
 	// and ζ in doubles: 4096 + 12288 + 8192 values on hex n = 64.
 	const record = (4096 + 12288 + 8192) * 8
-	long := writeScenario(t, "long", fmt.Sprintf(killRun, 60*100000))
+	hex := writeScenario(t, "hex64", hex64)
 	out := filepath.Join(t.TempDir(), "long")
-	seen, killed := killWhen(t, bin, long, out, func(names map[string]int64) bool {
+	seen, killed := killWhen(t, bin, hex, 60*100000, out, func(names map[string]int64) bool {
 		for n, size := range names {
 			if isTemp(n) && tempFinal(n) == "snapshots.nc" && size >= 4*record {
 				return true
@@ -137,11 +119,10 @@ func TestKillRunWhileWriting(t *testing.T) {
 	// its folder (temporaries and final names alike), k = 1, 2, ...:
 	// each kill lands at a later point of the final writes. A run that
 	// ends before its k-th name is seen has written everything.
-	short := writeScenario(t, "short", fmt.Sprintf(killRun, 60*300))
 	var points []string
 	for k := 2; k <= 2*len(runFiles)+1; k++ {
 		out := filepath.Join(t.TempDir(), fmt.Sprintf("short-%d", k))
-		seen, killed := killWhen(t, bin, short, out, func(names map[string]int64) bool { return len(names) >= k })
+		seen, killed := killWhen(t, bin, hex, 60*300, out, func(names map[string]int64) bool { return len(names) >= k })
 		left := checkRunFolder(t, ncdump, out)
 		if !killed {
 			if !slices.Equal(left, slices.Sorted(slices.Values(runFiles))) {
@@ -155,14 +136,16 @@ func TestKillRunWhileWriting(t *testing.T) {
 	t.Logf("kill points:\n%s", strings.Join(points, "\n"))
 }
 
-// killWhen starts 'gyrebench run scenario --out out', polls out until
+// killWhen starts 'gyrebench run scenario' for duration seconds with
+// killSets and --out out, polls out until
 // ready holds for every name seen so far in it (with its latest size),
 // then kills the process with SIGKILL. It reports the names seen and
 // whether the kill came before the run ended by itself. The polling is
 // bounded by hang, a guard against a hang.
-func killWhen(t *testing.T, bin, scenarioFile, out string, ready func(map[string]int64) bool) (map[string]int64, bool) {
+func killWhen(t *testing.T, bin, scenarioFile string, duration int, out string, ready func(map[string]int64) bool) (map[string]int64, bool) {
 	t.Helper()
-	cmd := exec.Command(bin, "run", scenarioFile, "--out", out, "--workers", "1")
+	args := append([]string{"run", scenarioFile, "--out", out, "--workers", "1", "--set", fmt.Sprintf("time.duration=%d", duration)}, killSets...)
+	cmd := exec.Command(bin, args...)
 	var stderr bytes.Buffer
 	cmd.Stdout, cmd.Stderr = io.Discard, &stderr
 	if err := cmd.Start(); err != nil {
