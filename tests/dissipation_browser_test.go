@@ -74,7 +74,7 @@ func TestDissipationBrowser(t *testing.T) {
 	const wait = 300 * time.Second
 
 	do(t, ctx, chromedp.Navigate(base+"/"))
-	poll(t, ctx, "the first frame", role("field-canvas")+`.dataset.frames > 0`, 30*time.Second)
+	poll(t, ctx, "the first frame", role("field-canvas")+`.dataset.frames > 0`, hang)
 	choose(t, ctx, "field-select", "vorticity")
 	if h := eval[string](t, ctx, role("dissipation-hint")+`.textContent`); !strings.Contains(h, "no dissipation") || !strings.Contains(h, "ν₄ = C·d⁴/τ") {
 		t.Errorf("dissipation hint %q: want the scaling and that nothing is damped", h)
@@ -83,18 +83,18 @@ func TestDissipationBrowser(t *testing.T) {
 	const before = 8 * 86400.0
 	poll(t, ctx, "eight simulated days", role("sim-time")+`.dataset.seconds >= `+strconv.Itoa(int(before)), wait)
 	do(t, ctx, chromedp.Click(sel("play-pause")))
-	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, 30*time.Second)
+	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, hang)
 	screenshot(t, ctx, sel("field-canvas"), "dissipation-1-before.png")
 	g0 := gridScaleVorticity(t, base, msh)
 	t0 := simSeconds(t, ctx)
 
 	typeInto(t, ctx, "hyperviscosity-input", strconv.FormatFloat(nu4, 'g', 6, 64))
-	poll(t, ctx, "the hint to show the e-folding time", role("dissipation-hint")+`.textContent.includes('e-folding time now 60 min')`, 30*time.Second)
+	poll(t, ctx, "the hint to show the e-folding time", role("dissipation-hint")+`.textContent.includes('e-folding time now 60 min')`, hang)
 	do(t, ctx, chromedp.Click(sel("play-pause")))
 	poll(t, ctx, "six grid-scale e-folding times", role("sim-time")+`.dataset.seconds >= `+strconv.Itoa(int(t0+6*3600)), wait)
 	do(t, ctx, chromedp.Click(sel("play-pause")))
-	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, 30*time.Second)
-	poll(t, ctx, "the plot to catch up", role("budget-plot")+`.dataset.energyRateDissipation !== ''`, 30*time.Second)
+	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, hang)
+	poll(t, ctx, "the plot to catch up", role("budget-plot")+`.dataset.energyRateDissipation !== ''`, hang)
 	screenshot(t, ctx, sel("field-canvas"), "dissipation-2-after.png")
 	screenshot(t, ctx, "", "dissipation-3-page.png")
 	g1 := gridScaleVorticity(t, base, msh)

@@ -5,7 +5,6 @@ import (
 	"net/url"
 	"strings"
 	"testing"
-	"time"
 
 	"github.com/coder/websocket"
 
@@ -19,7 +18,7 @@ import (
 func TestDissipationCommand(t *testing.T) {
 	srv, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	cl.mustAck("step", nil, nil)
 	before := srv.Run("1").Info()
 	for _, tc := range []struct{ name, raw, field, text string }{
@@ -32,7 +31,7 @@ func TestDissipationCommand(t *testing.T) {
 			cl.t = t
 			cl.sendRaw(websocket.MessageText, []byte(tc.raw))
 			var r msg
-			cl.until(10*time.Second, "an error reply", func(m msg) bool {
+			cl.until(hang, "an error reply", func(m msg) bool {
 				if m.Type == "ack" || m.Type == "marker" || m.Type == "config" {
 					t.Fatalf("%s was accepted (%s)", tc.raw, m.Type)
 				}
