@@ -41,6 +41,13 @@ func serve(ctx context.Context, args []string) int {
 		return nil
 	})
 	maxRuns := fs.Int("max-runs", server.DefaultMaxRuns, fmt.Sprintf("most live runs and pairs held at once (1 to %d)", server.MaxRunsLimit))
+	share := fs.Bool("share", false, "show the runs to a group: everyone watches, only the control URL printed at start drives them (implied by an --addr beyond loopback)")
+	var controlKey string
+	keyGiven := false
+	fs.Func("control-key", fmt.Sprintf("the key of the control URL, at least %d characters (default: a random one); implies --share", server.MinControlKey), func(v string) error {
+		controlKey, keyGiven = v, true
+		return nil
+	})
 	sweeps := fs.String("sweeps", "", "folder for the sweeps started from the workbench, one new folder each (default: gyrebench/sweeps in the user cache folder)")
 	if err := fs.Parse(args); err != nil {
 		return cli.ExitBadInput
@@ -61,7 +68,13 @@ func serve(ctx context.Context, args []string) int {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: --max-runs %d: allowed 1 to %d live runs and pairs\n", *maxRuns, server.MaxRunsLimit)
 		return cli.ExitBadInput
 	}
-	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr, SweepDir: *sweeps, MaxFPS: *fps, Hosts: hosts, MaxRuns: *maxRuns})
+	if keyGiven {
+		if err := server.CheckControlKey(controlKey); err != nil {
+			fmt.Fprintf(os.Stderr, "gyrebench serve: %v\n", err)
+			return cli.ExitBadInput
+		}
+	}
+	err := server.Serve(ctx, server.Options{Addr: *addr, Workers: *workers, RingSize: *ring, Scenario: *scenario, Stderr: os.Stderr, SweepDir: *sweeps, MaxFPS: *fps, Hosts: hosts, MaxRuns: *maxRuns, Share: *share, ControlKey: controlKey})
 	if err != nil {
 		fmt.Fprintf(os.Stderr, "gyrebench serve: %v\n", err)
 		return cli.ExitBadInput

@@ -12,8 +12,10 @@
 // parses a websocket message once (wire.go), turns it into a typed
 // session.Command and applies it with session.Apply; a view (view.go)
 // turns what Apply reports into messages for the watchers. Several
-// websocket clients can watch one run; they all see and control the same
-// thing. A run pauses when its last watcher leaves.
+// websocket clients can watch one run; they all see the same thing, and
+// all control it unless the workbench is shared (roles.go: then only a
+// client holding the control key's cookie does). A run pauses when its
+// last watcher leaves.
 //
 // # Limits
 //
@@ -44,7 +46,9 @@
 // "dissipation" with the grid-scale e-folding time and the hint package
 // dissip writes, and every point its budget (energy_rate_scheme, ...).
 //
-// Server to client, JSON text: hello (names and labels the UI offers),
+// Server to client, JSON text: role (on a shared workbench only, first:
+// {"type": "role", "role": "control" or "watch", "hint"}), hello (names
+// and labels the UI offers),
 // config (the current choices and limits), status (state, steps, time,
 // steps per second, the server's clock wall_s, frames skipped for slow
 // watchers, the blow-up if any), point (one row of invariants as relative

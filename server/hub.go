@@ -62,6 +62,9 @@ type socket struct {
 	tags  []tag
 	sided bool   // commands may name a side
 	what  string // "run", "pair": for close messages
+	// control: the client may send every command (roles.go); set by
+	// serveSocket.
+	control bool
 }
 
 // serveSocket connects a websocket client: a reader (this goroutine)
@@ -89,6 +92,10 @@ func (s *Server) serveSocket(w http.ResponseWriter, req *http.Request, so socket
 	defer cancel()
 
 	cl := newClient(len(so.tags))
+	so.control = s.roles.controls(req)
+	if s.roles != nil {
+		cl.own().send(roleMsg(so.control))
+	}
 	if !so.a.submit(ctx, func() { so.h.join(cl) }) {
 		c.Close(websocket.StatusGoingAway, "the "+so.what+" has stopped")
 		return
@@ -126,6 +133,10 @@ func readLoop(ctx context.Context, c *websocket.Conn, so socket, cl *client) {
 		m, ce := parseMsg(data, so.sided)
 		if ce != nil {
 			cl.own().send(errorReply(m, ce))
+			continue
+		}
+		if r := refusal(so.control, m); r != nil {
+			cl.own().send(*r)
 			continue
 		}
 		if !so.a.submit(ctx, func() { so.h.command(cl, m) }) {

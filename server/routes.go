@@ -27,6 +27,8 @@ import (
 func (s *Server) routes() chi.Router {
 	r := chi.NewRouter()
 	r.Use(s.checkHost) // every route, websockets included (hosts.go)
+	// A shared workbench: the control key, and viewers (roles.go).
+	r.Use(s.roles.check)
 	r.Use(middleware.GetHead)
 	r.Get("/", s.serveIndex)
 	r.Get("/runs", s.serveRuns)

@@ -54,6 +54,13 @@ type Options struct {
 	// MaxRuns bounds the live runs and pairs together (a pair counts
 	// once); 0 = DefaultMaxRuns.
 	MaxRuns int
+	// Share turns on presenter and viewers (roles.go): only a client
+	// holding the control key may change anything. It is implied by
+	// ControlKey and by an address beyond loopback.
+	Share bool
+	// ControlKey is the key of the control URL, at least MinControlKey
+	// characters; "" = a random one (crypto/rand).
+	ControlKey string
 }
 
 // DefaultAddr is where Serve listens when Options.Addr is empty.
@@ -87,6 +94,7 @@ type Server struct {
 	mux    chi.Router
 	files  map[string]staticFile
 	hosts  []string // the Host names it answers to (hosts.go)
+	roles  *roles   // nil: not shared, every client controls (roles.go)
 
 	runs registry[*Run]
 
@@ -138,6 +146,10 @@ func New(opt Options) (*Server, error) {
 	if err != nil {
 		return nil, err
 	}
+	ro, err := newRoles(opt)
+	if err != nil {
+		return nil, err
+	}
 	if opt.Stderr == nil {
 		opt.Stderr = io.Discard
 	}
@@ -154,7 +166,7 @@ func New(opt Options) (*Server, error) {
 		return nil, err
 	}
 	ctx, cancel := context.WithCancel(context.Background())
-	s := &Server{opt: opt, ctx: ctx, cancel: cancel, files: files, hosts: hosts}
+	s := &Server{opt: opt, ctx: ctx, cancel: cancel, files: files, hosts: hosts, roles: ro}
 	if _, err := s.startRun(label, cfg); err != nil {
 		cancel()
 		return nil, err
@@ -289,6 +301,15 @@ func (s *Server) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 	s.mux.ServeHTTP(w, r)
 }
 
+// ControlURL is the control URL of a shared workbench whose watch URL is
+// base (such as "http://127.0.0.1:8080/"), or "" when it is not shared.
+func (s *Server) ControlURL(base string) string {
+	if s.roles == nil {
+		return ""
+	}
+	return s.roles.controlURL(base)
+}
+
 // Close stops every run and websocket connection and waits for them.
 func (s *Server) Close() {
 	s.mu.Lock()
@@ -324,9 +345,13 @@ func Serve(ctx context.Context, opt Options) error {
 		return fmt.Errorf("--addr %q: %w", opt.Addr, err)
 	}
 	if !isLoopback(host) {
-		fmt.Fprintf(opt.Stderr, "warning: listening on %s, which is reachable from the network: anyone who can reach it can watch and control the runs\n", ln.Addr())
+		fmt.Fprintf(opt.Stderr, "warning: listening on %s, which is reachable from the network: anyone who can reach it can watch; only the control URL drives the runs\n", ln.Addr())
 	}
-	fmt.Fprintf(opt.Stderr, "gyrebench workbench: %s\n", browseURL(ln.Addr()))
+	if s.roles == nil {
+		fmt.Fprintf(opt.Stderr, "gyrebench workbench: %s\n", browseURL(ln.Addr()))
+	} else {
+		fmt.Fprintf(opt.Stderr, "gyrebench workbench, shared\n  watch:   %s\n  control: %s  (keep this one to yourself)\n", browseURL(ln.Addr()), s.roles.controlURL(browseURL(ln.Addr())))
+	}
 	hs := s.HTTPServer()
 	errc := make(chan error, 1)
 	go func() { errc <- hs.Serve(ln) }()

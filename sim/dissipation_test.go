@@ -115,6 +115,9 @@ func TestDissipationStepIsUnfusedRK3(t *testing.T) {
 // round-off and the dissipation's is negative at every output time, on
 // the dipole and the shear layer; mass stays exact.
 func TestEnergyBudgetSplit(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long and serial; runs in the full suite")
+	}
 	for _, tc := range []struct {
 		scenario string
 		n        int

@@ -12,7 +12,7 @@ import { StructurePanel } from './structurepanel.js';
 import { BudgetPlot } from './budgetplot.js';
 import { TimelinePanel } from './timeline.js';
 import { drawColourBar, ColourRange } from './colour.js';
-import { MessageLine, showState, numberOrText, commitOnEnter, textScale, isLarge, setLargeType, onKeys } from './controls.js';
+import { MessageLine, showState, showRole, watching, numberOrText, commitOnEnter, textScale, isLarge, setLargeType, onKeys } from './controls.js';
 import { fmtClock, fmtNum } from './format.js';
 
 const $ = (role) => document.querySelector(`[data-role="${role}"]`);
@@ -80,6 +80,7 @@ function send(cmd, value) { conn.send(cmd, value); }
 
 // onJSON applies one of the run's text messages to the page.
 const messages = {
+  role: showRole,
   hello: (m) => { st.fields = m.fields; },
   config: (m) => { st.config = m; showConfig(); },
   status: (m) => { st.status = m; hooks.status = m; showStatus(); },
@@ -286,7 +287,7 @@ function showStatus() {
   } else {
     el.blowup.hidden = true;
   }
-  el.scrub.disabled = s.state === 'running' || st.ring.entries.length === 0;
+  el.scrub.disabled = watching() || s.state === 'running' || st.ring.entries.length === 0;
   scrubLabel();
   schedule('field');
   showRates();
@@ -297,7 +298,7 @@ function showRing() {
   const n = r.entries.length;
   el.scrub.max = String(Math.max(0, n - 1));
   el.scrub.value = String(r.cursor >= 0 ? r.cursor : Math.max(0, n - 1));
-  el.scrub.disabled = !st.status || st.status.state === 'running' || n === 0;
+  el.scrub.disabled = watching() || !st.status || st.status.state === 'running' || n === 0;
   scrubLabel();
 }
 

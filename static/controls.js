@@ -24,13 +24,36 @@ export class MessageLine {
 }
 
 // showState writes state s into the chip el.state and enables the
-// buttons while s is one of live; el.play reads Pause while running.
+// buttons while s is one of live (and the page does not watch); el.play
+// reads Pause while running.
 export function showState(el, s, live, buttons) {
   el.state.textContent = s;
   el.state.dataset.state = s;
   el.play.textContent = s === 'running' ? 'Pause' : 'Play';
-  for (const b of buttons) b.disabled = !live.includes(s);
+  for (const b of buttons) b.disabled = watching() || !live.includes(s);
 }
+
+// Controls that change only this page, which a watching page keeps.
+const OWN_CONTROLS = ['large-type', 'help', 'projection-select', 'log-drift'];
+
+// showRole applies a shared workbench's role message (server/roles.go):
+// the body's data-role is the role; a page that watches shows the chip
+// and its hint and disables every control that would send a command.
+export function showRole(m) {
+  const watch = m.role === 'watch';
+  document.body.dataset.role = m.role;
+  const chip = document.querySelector('[data-role="role-chip"]');
+  const hint = document.querySelector('[data-role="role-hint"]');
+  chip.hidden = !watch;
+  hint.hidden = !watch;
+  hint.textContent = watch ? m.hint : '';
+  for (const c of document.querySelectorAll('.wb button, .wb select, .wb input')) {
+    if (!OWN_CONTROLS.includes(c.dataset.role)) c.disabled = watch || c.disabled;
+  }
+}
+
+// watching reports whether the page only watches (showRole).
+export function watching() { return document.body.dataset.role === 'watch'; }
 
 // numberOrText is what the user typed: a number when it reads as one,
 // otherwise the text itself, so that the server's refusal can quote it.

@@ -15,7 +15,7 @@ import { FieldCanvas } from './fieldcanvas.js';
 import { PROJECTIONS } from './globe.js';
 import { SeriesPlot } from './seriesplot.js';
 import { drawColourBar, ColourRange, DIVERGING, shortLabel } from './colour.js';
-import { MessageLine, showState, numberOrText, commitOnEnter, textScale, isLarge, setLargeType, onKeys } from './controls.js';
+import { MessageLine, showState, showRole, numberOrText, commitOnEnter, textScale, isLarge, setLargeType, onKeys } from './controls.js';
 import { fmtClock, fmtNum } from './format.js';
 
 const q = (role, side) => document.querySelector(side ? `[data-role="${role}"][data-side="${side}"]` : `[data-role="${role}"]`);
@@ -98,6 +98,9 @@ function onSide(s, name, m) {
 
 function onPair(m) {
   switch (m.type) {
+    case 'role':
+      showRole(m);
+      break;
     case 'pair':
       st.pair = m;
       window.gyrebench.pair = m;

@@ -43,6 +43,13 @@ func chromium(t testing.TB) string {
 // context for one tab. Exceptions thrown by the page fail the test.
 func browser(t testing.TB) context.Context {
 	t.Helper()
+	if testing.Short() {
+		// The race stage runs -short: the server's side of what a
+		// browser does is covered there by the websocket tests, and
+		// Chromium under the race detector's slowed server is most of
+		// that stage's time. The full suite runs every browser test.
+		t.Skip("a browser test; runs in the full suite")
+	}
 	opts := []chromedp.ExecAllocatorOption{
 		chromedp.ExecPath(chromium(t)),
 		chromedp.Flag("headless", true),

@@ -7,7 +7,6 @@ import (
 	"image/color"
 	"image/png"
 	"testing"
-	"time"
 
 	"github.com/chromedp/chromedp"
 
@@ -27,7 +26,7 @@ func TestColourBarsMatch(t *testing.T) {
 	ctx := browser(t)
 	_, base := startServer(t, server.Options{Workers: 1})
 	do(t, ctx, chromedp.Navigate(base+"/"))
-	poll(t, ctx, "the first frame", role("field-canvas")+`.dataset.frames > 0`, 30*time.Second)
+	poll(t, ctx, "the first frame", role("field-canvas")+`.dataset.frames > 0`, hang)
 	if f := eval[string](t, ctx, role("field-select")+`.value`); f != "depth" {
 		t.Fatalf("the page opens on field %q; this test compares the depth maps", f)
 	}

@@ -27,7 +27,7 @@ import (
 func TestDissipationCommand(t *testing.T) {
 	srv, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	cl.mustAck("step", nil, nil)
 	before := srv.Run("1").Info()
 	for _, tc := range []struct{ name, raw, field, text string }{
@@ -40,7 +40,7 @@ func TestDissipationCommand(t *testing.T) {
 			cl.t = t
 			cl.sendRaw(websocket.MessageText, []byte(tc.raw))
 			var r msg
-			cl.until(10*time.Second, "an error reply", func(m msg) bool {
+			cl.until(hang, "an error reply", func(m msg) bool {
 				if m.Type == "ack" || m.Type == "marker" || m.Type == "config" {
 					t.Fatalf("%s was accepted (%s)", tc.raw, m.Type)
 				}
@@ -146,7 +146,7 @@ func TestDissipationBrowser(t *testing.T) {
 	const wait = 300 * time.Second
 
 	do(t, ctx, chromedp.Navigate(base+"/"))
-	poll(t, ctx, "the first frame", role("field-canvas")+`.dataset.frames > 0`, 30*time.Second)
+	poll(t, ctx, "the first frame", role("field-canvas")+`.dataset.frames > 0`, hang)
 	choose(t, ctx, "field-select", "vorticity")
 	if h := eval[string](t, ctx, role("dissipation-hint")+`.textContent`); !strings.Contains(h, "no dissipation") || !strings.Contains(h, "ν₄ = C·d⁴/τ") {
 		t.Errorf("dissipation hint %q: want the scaling and that nothing is damped", h)
@@ -155,18 +155,18 @@ func TestDissipationBrowser(t *testing.T) {
 	const before = 8 * 86400.0
 	poll(t, ctx, "eight simulated days", role("sim-time")+`.dataset.seconds >= `+strconv.Itoa(int(before)), wait)
 	do(t, ctx, chromedp.Click(sel("play-pause")))
-	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, 30*time.Second)
+	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, hang)
 	screenshot(t, ctx, sel("field-canvas"), "dissipation-1-before.png")
 	g0 := gridScaleVorticity(t, base, msh)
 	t0 := simSeconds(t, ctx)
 
 	typeInto(t, ctx, "hyperviscosity-input", strconv.FormatFloat(nu4, 'g', 6, 64))
-	poll(t, ctx, "the hint to show the e-folding time", role("dissipation-hint")+`.textContent.includes('e-folding time now 60 min')`, 30*time.Second)
+	poll(t, ctx, "the hint to show the e-folding time", role("dissipation-hint")+`.textContent.includes('e-folding time now 60 min')`, hang)
 	do(t, ctx, chromedp.Click(sel("play-pause")))
 	poll(t, ctx, "six grid-scale e-folding times", role("sim-time")+`.dataset.seconds >= `+strconv.Itoa(int(t0+6*3600)), wait)
 	do(t, ctx, chromedp.Click(sel("play-pause")))
-	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, 30*time.Second)
-	poll(t, ctx, "the plot to catch up", role("budget-plot")+`.dataset.energyRateDissipation !== ''`, 30*time.Second)
+	poll(t, ctx, "the pause", role("run-state")+`.textContent === 'paused'`, hang)
+	poll(t, ctx, "the plot to catch up", role("budget-plot")+`.dataset.energyRateDissipation !== ''`, hang)
 	screenshot(t, ctx, sel("field-canvas"), "dissipation-2-after.png")
 	screenshot(t, ctx, "", "dissipation-3-page.png")
 	g1 := gridScaleVorticity(t, base, msh)

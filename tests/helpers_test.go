@@ -148,6 +148,7 @@ type msg struct {
 	MassAbs   float64 `json:"mass_abs"`
 
 	Hodge string `json:"hodge"` // config
+	Role  string `json:"role"`  // role, on a shared workbench
 
 	// history: the server's series of points and its markers.
 	Points []struct {
@@ -236,10 +237,16 @@ func (cl *client) switchGrid(value map[string]any) (geo *frameHdr, before, after
 // the test.
 func dialWS(t testing.TB, base, path string) (*websocket.Conn, context.Context) {
 	t.Helper()
+	return dialWSWith(t, base, path, nil)
+}
+
+// dialWSWith is dialWS with dial options (an HTTP client with cookies).
+func dialWSWith(t testing.TB, base, path string, opts *websocket.DialOptions) (*websocket.Conn, context.Context) {
+	t.Helper()
 	ctx, cancel := context.WithTimeout(context.Background(), hang)
 	defer cancel()
 	u := "ws" + strings.TrimPrefix(base, "http") + path
-	c, _, err := websocket.Dial(ctx, u, nil)
+	c, _, err := websocket.Dial(ctx, u, opts)
 	if err != nil {
 		t.Fatalf("dial %s: %v", u, err)
 	}

@@ -43,7 +43,7 @@ func TestCubedBrowser(t *testing.T) {
 	if got := eval[string](t, ctx, canvas+`.dataset.cellCorners`); got != "5–6" {
 		t.Errorf("icosahedral cells have %q corners, want 5–6", got)
 	}
-	poll(t, ctx, "the structure report of level 5", panel+`.dataset.state === 'ready' && `+panel+`.dataset.grid === 'icosahedral level 5'`, wait)
+	poll(t, ctx, "the structure report of level 5", panel+`.dataset.state === 'ready' && `+panel+`.dataset.grid === 'icosahedral level 5'`, analysisHang)
 	if eval[string](t, ctx, role("hodge-hint")+`.dataset.orthogonal`) != "true" || eval[string](t, ctx, panel+`.dataset.energyConserving`) != "yes" {
 		t.Errorf("level 5: hint says orthogonal %q, energy conserving %q; want true, yes",
 			eval[string](t, ctx, role("hodge-hint")+`.dataset.orthogonal`), eval[string](t, ctx, panel+`.dataset.energyConserving`))
@@ -71,7 +71,7 @@ func TestCubedBrowser(t *testing.T) {
 	}
 	poll(t, ctx, "frames on the cubed sphere", canvas+`.dataset.frames > 3`, wait)
 	screenshot(t, ctx, sel("field-canvas"), "cubed-01-globe-n48.png")
-	poll(t, ctx, "the structure report of cubed n = 48", panel+`.dataset.state === 'ready' && `+panel+`.dataset.grid === 'cubed n = 48' && `+panel+`.dataset.hodge === 'consistent'`, wait)
+	poll(t, ctx, "the structure report of cubed n = 48", panel+`.dataset.state === 'ready' && `+panel+`.dataset.grid === 'cubed n = 48' && `+panel+`.dataset.hodge === 'consistent'`, analysisHang)
 	if eval[string](t, ctx, role("hodge-hint")+`.dataset.orthogonal`) != "false" {
 		t.Error("the Hodge hint on the cubed sphere says its dual is orthogonal")
 	}
@@ -91,7 +91,7 @@ func TestCubedBrowser(t *testing.T) {
 
 	// The diagonal Hodge star: still energy conserving, no longer consistent.
 	choose(t, ctx, "hodge-select", "diagonal")
-	poll(t, ctx, "the structure report with the diagonal H", panel+`.dataset.state === 'ready' && `+panel+`.dataset.grid === 'cubed n = 48' && `+panel+`.dataset.hodge === 'diagonal'`, wait)
+	poll(t, ctx, "the structure report with the diagonal H", panel+`.dataset.state === 'ready' && `+panel+`.dataset.grid === 'cubed n = 48' && `+panel+`.dataset.hodge === 'diagonal'`, analysisHang)
 	verdicts := eval[string](t, ctx, role("structure-verdicts")+`.textContent`)
 	if !strings.Contains(verdicts, "energy conserving: yes") || !strings.Contains(verdicts, "consistent: no") {
 		t.Errorf("structure verdicts with the diagonal H on cubed n = 48: %q; want energy conserving: yes, consistent: no", verdicts)

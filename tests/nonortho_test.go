@@ -7,7 +7,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-	"time"
 
 	"gyrebench/server"
 )
@@ -50,7 +49,9 @@ type structureReport struct {
 func waitStructure(cl *client, grid, hodge string) structureReport {
 	cl.t.Helper()
 	var rep structureReport
-	cl.until(120*time.Second, "the structure report of "+grid+" with the "+hodge+" Hodge star", func(m msg) bool {
+	// The report is computed at the lowest CPU priority, like the linear
+	// analysis, so its guard is analysisHang.
+	cl.until(analysisHang, "the structure report of "+grid+" with the "+hodge+" Hodge star", func(m msg) bool {
 		var sm struct {
 			Type, State, Hodge string
 			Report             *structureReport
@@ -81,7 +82,7 @@ func waitStructure(cl *client, grid, hodge string) structureReport {
 func TestCubedAndHodgeLive(t *testing.T) {
 	srv, base := startServer(t, server.Options{Workers: 1, RingSize: 8, Scenario: writeScenario(t, "sphere3", sphere3)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	cl.mustAck("structure", nil, nil)
 	if r := waitStructure(cl, "icosahedral 3", "consistent"); !r.EnergyConserving || !r.Consistent || r.HodgeMatrix != "diagonal" {
 		t.Errorf("icosahedral level 3: %+v; want energy conserving and consistent with a diagonal H (orthogonal dual)", r)
@@ -154,7 +155,7 @@ func TestCubedAndHodgeLive(t *testing.T) {
 func TestCubedAndHodgeRefusals(t *testing.T) {
 	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "sphere3", sphere3)})
 	cl := dial(t, base, "1")
-	cl.until(10*time.Second, "the first frame", func(m msg) bool { return m.Type == "frame" })
+	cl.until(hang, "the first frame", func(m msg) bool { return m.Type == "frame" })
 	before := string(get(t, base+"/run/1/timeline.toml"))
 	for _, tc := range []struct {
 		cmd   string

@@ -68,13 +68,14 @@ func Main(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 func usage(w io.Writer) {
 	fmt.Fprint(w, `gyrebench: a workbench for shallow-water discretisations
 
-  gyrebench serve [--addr 127.0.0.1:8080] [--host NAME]... [--max-runs 16]
+  gyrebench serve [--addr 127.0.0.1:8080] [--host NAME]... [--max-runs 16] [--share [--control-key KEY]]
                                               the live workbench in the browser
   gyrebench run FILE_OR_NAME [--set key=value]... [--out DIR] [--workers W]
                                               FILE may be a recorded timeline (saved in the workbench)
   gyrebench scenarios                         list the built-in scenarios
   gyrebench scenarios show NAME               print a built-in scenario
-  gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W]
+  gyrebench bench [--grid hex] [--n 512] [--steps N] [--workers W] [--scheme S] [--integrator I]
+                  [--distort A] [--jitter J] [--hodge consistent|diagonal]
   gyrebench sweep FILE_OR_NAME --vary key=v1,v2,... [--set key=value]... --out DIR [--jobs J] [--jobs-file PATH] | --collect DIR
   gyrebench modes [FILE_OR_NAME] [--grid G] [--n N] [--set key=value]... --out DIR [--verify-dt] [--extreme]
   gyrebench structure [FILE_OR_NAME] [--grid G] [--n N] [--set key=value]... --out DIR
@@ -234,6 +235,9 @@ type BenchResult struct {
 	FastestStepSeconds     float64 `json:"fastest_step_seconds"`
 	FastestCellStepsPerSec float64 `json:"fastest_cell_steps_per_second"`
 	Scheme                 string  `json:"scheme"`
+	Hodge                  string  `json:"hodge"`
+	Distort                float64 `json:"distort"`
+	Jitter                 float64 `json:"jitter"`
 	Integrator             string  `json:"integrator"`
 	GoMaxProcs             int     `json:"gomaxprocs"`
 	MeshBuildSeconds       float64 `json:"mesh_build_seconds"`
@@ -252,6 +256,8 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	workers := fs.Int("workers", 1, "goroutines for the tendency loops")
 	schemeName := fs.String("scheme", "trisk-energy", "scheme")
 	integ := fs.String("integrator", "rk3", "integrator")
+	distort := fs.Float64("distort", 0, "plane only: smooth vertex displacement, 0 ≤ a < 0.3 (grid.distort)")
+	jitter := fs.Float64("jitter", 0, "plane only: random vertex displacement in edge lengths (grid.jitter)")
 	if err := fs.Parse(args); err != nil || fs.NArg() > 0 {
 		if fs.NArg() > 0 {
 			fmt.Fprintf(stderr, "gyrebench bench: unexpected argument %q\n", fs.Arg(0))
@@ -268,6 +274,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 	}
 	cfg := sim.DefaultConfig()
 	cfg.Grid.Kind, cfg.Grid.N = *grid, *n
+	cfg.Grid.Distort, cfg.Grid.Jitter = *distort, *jitter
 	cfg.Scheme.Name, cfg.Time.Integrator, cfg.Scheme.Hodge = *schemeName, *integ, *hodge
 	if !mesh.Kind(*grid).OnSphere() {
 		// Keep the spacing of the default scenario so the step is stable.
@@ -308,6 +315,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 		FastestStepSeconds:     fastest.Seconds(),
 		FastestCellStepsPerSec: float64(msh.NumCells) / fastest.Seconds(),
 		Scheme:                 *schemeName, Integrator: *integ, GoMaxProcs: runtime.GOMAXPROCS(0),
+		Hodge: *hodge, Distort: *distort, Jitter: *jitter,
 		MeshBuildSeconds:    build.Seconds(),
 		PeakHeapMegabytes:   float64(after.HeapSys) / (1 << 20),
 		LiveHeapMegabytes:   float64(before.HeapAlloc) / (1 << 20),

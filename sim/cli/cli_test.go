@@ -270,3 +270,46 @@ func TestBenchJSON(t *testing.T) {
 		t.Errorf("--steps 0: exit %d", code)
 	}
 }
+
+// bench runs on every grid family and every scheme that runs there, with
+// the counts of the mesh it was asked for, and refuses what the grid
+// cannot take with a message naming the key.
+func TestBenchEveryFamily(t *testing.T) {
+	for _, c := range []struct {
+		args  []string
+		cells float64
+	}{
+		{[]string{"--grid", "quad", "--n", "8", "--scheme", "al81"}, 64},
+		{[]string{"--grid", "quad", "--n", "8", "--scheme", "sadourny-enstrophy"}, 64},
+		{[]string{"--grid", "hex", "--n", "8", "--scheme", "trisk-enstrophy"}, 64},
+		{[]string{"--grid", "tri", "--n", "8", "--scheme", "apvm"}, 128},
+		{[]string{"--grid", "icosahedral", "--n", "2"}, 162},
+		{[]string{"--grid", "cubed", "--n", "4", "--hodge", "diagonal"}, 96},
+		{[]string{"--grid", "hex", "--n", "8", "--distort", "0.1", "--jitter", "0.05"}, 64},
+	} {
+		code, out, stderr := gyre(t, append([]string{"bench", "--steps", "2"}, c.args...)...)
+		if code != ExitOK {
+			t.Fatalf("bench %v: exit %d: %s", c.args, code, stderr)
+		}
+		var r BenchResult
+		if err := json.Unmarshal([]byte(out), &r); err != nil {
+			t.Fatalf("bench %v: %v\n%s", c.args, err, out)
+		}
+		if float64(r.Cells) != c.cells || r.Steps != 2 {
+			t.Errorf("bench %v: %d cells, %d steps; want %g cells, 2 steps", c.args, r.Cells, r.Steps, c.cells)
+		}
+	}
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--grid", "cubed", "--n", "4", "--distort", "0.1"}, "grid.distort"},
+		{[]string{"--grid", "quad", "--n", "8", "--distort", "0.1", "--scheme", "al81"}, "trisk-energy"},
+		{[]string{"--grid", "hex", "--n", "8", "--scheme", "nope"}, "allowed"},
+	} {
+		code, _, stderr := gyre(t, append([]string{"bench", "--steps", "2"}, c.args...)...)
+		if code != ExitBadInput || !strings.Contains(stderr, c.want) {
+			t.Errorf("bench %v: exit %d, %q; want a refusal naming %q", c.args, code, stderr, c.want)
+		}
+	}
+}

@@ -417,6 +417,9 @@ func ExampleRender() {
 // map keeps the white background, whatever the scale and however the
 // polygons were unwrapped across the periodic edges or the date line.
 func TestNoSeams(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long and serial; runs in the full suite")
+	}
 	for _, g := range []struct {
 		kind mesh.Kind
 		n    int

@@ -88,14 +88,32 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 	}
 }
 
-// PotentialVorticity sets q_v = (ζ_v + f_v)/h_v for vertices v in [lo, hi)
-// with ζ and h_v as in Vorticity, in one pass: multiplying through by A_v,
-// q_v = (Σ t d u + f_v A_v) / Σ K h. Vertices of three edges (hexagonal and
-// icosahedral grids) take a straight-line path with the same arithmetic.
-func (g Grid) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
-	start, edges, sign, cells := g.VertexEdgeStart, g.VertexEdges, g.VertexEdgeSign, g.VertexCells
-	d, kite, area := g.DualLength, g.VertexKiteArea, g.VertexArea
-	q, f, area = q[:hi-lo], f[lo:hi], area[lo:hi]
+// PVStencil evaluates the potential vorticity q_v = (ζ_v + f_v)/h_v with ζ
+// and h_v as in Vorticity, in one pass: multiplying through by A_v,
+// q_v = (Σ_e t_{e,v} d_e u_e + f_v A_v) / Σ_i K_{i,v} h_i. It stores
+// t_{e,v} d_e per vertex slot, so that each edge costs one gather (u_e)
+// and no sign conversion; (t d) u equals t (d u) exactly, because t is
+// ±1. Vertices of three edges (hexagonal and icosahedral grids) take a
+// straight-line path with the same arithmetic.
+type PVStencil struct {
+	g  Grid
+	td []float64 // per vertex slot: t_{e,v} d_e
+}
+
+// NewPVStencil precomputes the signed dual lengths of g.
+func NewPVStencil(g Grid) *PVStencil {
+	s := &PVStencil{g: g, td: make([]float64, len(g.VertexEdges))}
+	for k, e := range g.VertexEdges {
+		s.td[k] = float64(g.VertexEdgeSign[k]) * g.DualLength[e]
+	}
+	return s
+}
+
+// PotentialVorticity sets q[v-lo] = q_v for v in [lo, hi), with the
+// Coriolis parameter f, the velocity u and the depth h as whole fields.
+func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
+	start, edges, cells, kite, td := s.g.VertexEdgeStart, s.g.VertexEdges, s.g.VertexCells, s.g.VertexKiteArea, s.td
+	q, f, area := q[:hi-lo], f[lo:hi], s.g.VertexArea[lo:hi]
 	f, area = f[:len(q)], area[:len(q)]
 	k1 := int(start[lo])
 	for j := range q {
@@ -104,18 +122,16 @@ func (g Grid) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 		var c, m float64
 		if k1-k0 == 3 {
 			es, cs := (*[3]int32)(edges[k0:k1]), (*[3]int32)(cells[k0:k1])
-			ss, ks := (*[3]int8)(sign[k0:k1]), (*[3]float64)(kite[k0:k1])
-			e0, e1, e2 := es[0], es[1], es[2]
-			c += float64(ss[0]) * (d[e0] * u[e0])
-			c += float64(ss[1]) * (d[e1] * u[e1])
-			c += float64(ss[2]) * (d[e2] * u[e2])
+			ts, ks := (*[3]float64)(td[k0:k1]), (*[3]float64)(kite[k0:k1])
+			c += ts[0] * u[es[0]]
+			c += ts[1] * u[es[1]]
+			c += ts[2] * u[es[2]]
 			m += ks[0] * h[cs[0]]
 			m += ks[1] * h[cs[1]]
 			m += ks[2] * h[cs[2]]
 		} else {
 			for k := k0; k < k1; k++ {
-				e := edges[k]
-				c += float64(sign[k]) * (d[e] * u[e])
+				c += td[k] * u[edges[k]]
 				m += kite[k] * h[cells[k]]
 			}
 		}

@@ -148,6 +148,9 @@ func TestSphereIdentity(t *testing.T) {
 // (−sin α, 0, cos α) (from memory); the third axis is
 // arbitrary.
 func TestSphereSolidBodyExact(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long and serial; runs in the full suite")
+	}
 	u0 := 2 * math.Pi * earthRadius / (12 * 86400)
 	axes := []vec3{{0, 0, 1}, {-math.Sin(math.Pi / 4), 0, math.Cos(math.Pi / 4)}, vec3{0.3, -0.5, 0.8}.Unit()}
 	pairs := append([]spherePair{{5, 6, "none", "none"}, {6, 5, "none", "none"}}, spherePairs...)
@@ -219,6 +222,9 @@ func smoothDepth(x vec3) float64 { return 1000 + 100*x[0]*x[2] + 50*x[2]*x[2] }
 // are well below that size the two grids differ like unrelated ones of the
 // same spacing (measured orders 0.5 to 1.0 between levels 3 and 6).
 func TestSphereSmoothFieldsConverge(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long and serial; runs in the full suite")
+	}
 	// |∇(100 xz + 50 z²)| = 100 |(z, 0, x + z)| ≤ 100√3 per radian.
 	grad := 100 * math.Sqrt(3) / earthRadius
 	diameter := func(m *mesh.Mesh) float64 {

@@ -104,6 +104,9 @@ func referenceF(msh *mesh.Mesh, cfg sim.Config) float64 {
 // truncation error and does not measure balance (0.68 f·max|ζ| measured,
 // against 0.75 for the exactly steady case 2).
 func TestInitialStatesAreBalanced(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long and serial; runs in the full suite")
+	}
 	cases := []struct {
 		scenario string
 		sets     []string

@@ -38,7 +38,11 @@ func reference(f fixture, name string) []float64 {
 		out[i] = -div[i]
 	}
 	q := make([]float64, nv)
-	g.PotentialVorticity(q, f.phys.FVertex, u, h, 0, nv)
+	zeta, hv := make([]float64, nv), make([]float64, nv)
+	g.Vorticity(zeta, hv, u, h, 0, nv)
+	for v := range q {
+		q[v] = (zeta[v] + f.phys.FVertex[v]) / hv[v]
+	}
 	qe, qf := make([]float64, ne), make([]float64, ne)
 	for e := range qe {
 		qe[e] = 0.5 * (q[g.EdgeVertices[2*e]] + q[g.EdgeVertices[2*e+1]])
@@ -135,13 +139,14 @@ func TestStageMatchesTendency(t *testing.T) {
 	}
 }
 
-// The hexagon and quadrilateral kernels are the general cell kernel
+// The hexagon, quadrilateral and triangle kernels are the general cell kernel
 // written out: on their cells all must give the same bits.
 func TestHexagonKernelMatchesGeneral(t *testing.T) {
 	for _, spec := range []mesh.Spec{
 		{Kind: mesh.Hex, N: 16, Length: 2e6}, {Kind: mesh.Icosahedral, N: 2, Radius: 6.37122e6},
 		{Kind: mesh.Quad, N: 16, Length: 2e6}, {Kind: mesh.Cubed, N: 6, Radius: 6.37122e6},
 		{Kind: mesh.Quad, N: 16, Length: 2e6, Jitter: 0.2, Seed: 3},
+		{Kind: mesh.Tri, N: 16, Length: 2e6}, {Kind: mesh.Tri, N: 16, Length: 2e6, Distort: 0.1, Seed: 3},
 	} {
 		f := randomFixtureOn(t, spec, 7)
 		if err := mesh.EnsureHodge(f.m); err != nil {
@@ -159,7 +164,7 @@ func TestHexagonKernelMatchesGeneral(t *testing.T) {
 			s.edgePasses()
 			special := 0
 			for _, r := range s.runs {
-				kernel := map[int32]func(lo, hi int){6: s.cells6, 4: s.cells4}[r.n]
+				kernel := map[int32]func(lo, hi int){6: s.cells6, 4: s.cells4, 3: s.cells3}[r.n]
 				if kernel == nil {
 					continue
 				}
@@ -180,7 +185,7 @@ func TestHexagonKernelMatchesGeneral(t *testing.T) {
 				}
 			}
 			if special == 0 {
-				t.Fatalf("%s: no hexagon or quadrilateral runs", fmt.Sprint(spec.Kind))
+				t.Fatalf("%s: no hexagon, quadrilateral or triangle runs", fmt.Sprint(spec.Kind))
 			}
 		}
 	}

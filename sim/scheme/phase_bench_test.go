@@ -10,7 +10,8 @@ import (
 )
 
 // BenchmarkPhases times each pass of one trisk-energy tendency, one worker,
-// on 16 384 hexagons (in cache) and 262 144 (not). On a shared machine the
+// on 16 384 hexagons (in cache) and 262 144 (not), icosahedral level 6,
+// 16 384 squares, 32 768 triangles and the cubed sphere of 24 576 cells. On a shared machine the
 // mean is noisy; min-ms/op, the fastest of the b.N calls, is the figure to
 // compare.
 func BenchmarkPhases(b *testing.B) {
@@ -18,6 +19,9 @@ func BenchmarkPhases(b *testing.B) {
 		{Kind: mesh.Hex, N: 128, Length: 2e6},
 		{Kind: mesh.Hex, N: 512, Length: 8e6},
 		{Kind: mesh.Icosahedral, N: 6, Radius: 6.37122e6},
+		{Kind: mesh.Quad, N: 128, Length: 2e6},
+		{Kind: mesh.Tri, N: 128, Length: 2e6},
+		{Kind: mesh.Cubed, N: 64, Radius: 6.37122e6},
 	} {
 		f := randomFixtureOn(b, spec, 1)
 		s := newTRiSK(TRiSKEnergy, f.g, f.phys, par.New(1), Options{})

@@ -284,39 +284,6 @@ func TestSadournyEnstrophyIsTRiSK(t *testing.T) {
 	}
 }
 
-func TestBitIdenticalAcrossWorkers(t *testing.T) {
-	for _, name := range Names {
-		for _, general := range []bool{false, true} {
-			spec := mesh.Spec{Kind: mesh.Quad, N: 16, Length: 2e6}
-			f := randomFixtureOn(t, spec, 9)
-			if general {
-				f = distorted(t, spec, 9)
-			}
-			var ref []float64
-			for _, w := range []int{1, 2, 3, 4} {
-				pool := par.New(w)
-				s, err := New(name, f.g, f.phys, pool, Options{})
-				if err != nil {
-					t.Fatal(err)
-				}
-				s.SetDt(50)
-				dx := make([]float64, len(f.x))
-				s.Tendency(dx, f.x)
-				pool.Close()
-				if ref == nil {
-					ref = dx
-					continue
-				}
-				for k := range dx {
-					if math.Float64bits(dx[k]) != math.Float64bits(ref[k]) {
-						t.Fatalf("%s (general Hodge %t): workers=%d differs at %d: %g vs %g", name, general, w, k, dx[k], ref[k])
-					}
-				}
-			}
-		}
-	}
-}
-
 func TestUnsupportedPairs(t *testing.T) {
 	f := randomFixture(t, mesh.Hex, 4, 1)
 	_, err := New(AL81, f.g, f.phys, par.New(1), Options{})
@@ -326,28 +293,5 @@ func TestUnsupportedPairs(t *testing.T) {
 	_, err = New("sadourny-x", f.g, f.phys, par.New(1), Options{})
 	if err == nil || !strings.Contains(err.Error(), "allowed") {
 		t.Errorf("unknown scheme: got %v", err)
-	}
-}
-
-func TestZeroAllocations(t *testing.T) {
-	for _, f := range []fixture{randomFixture(t, mesh.Hex, 16, 2), distorted(t, mesh.Spec{Kind: mesh.Quad, N: 16, Length: 2e6}, 2)} {
-		for _, w := range []int{1, 2} {
-			pool := par.New(w)
-			for _, name := range []string{TRiSKEnergy, TRiSKEnstrophy, APVM} {
-				s, _ := New(name, f.g, f.phys, pool, Options{})
-				dx := make([]float64, len(f.x))
-				if a := testing.AllocsPerRun(20, func() { s.Tendency(dx, f.x) }); a != 0 {
-					t.Errorf("%s workers=%d: %v allocations per tendency", name, w, a)
-				}
-				x, x0 := append([]float64(nil), f.x...), append([]float64(nil), f.x...)
-				st := s.(interface {
-					Stage(x, x0 []float64, a, b, dt float64)
-				})
-				if a := testing.AllocsPerRun(20, func() { st.Stage(x, x0, 0.75, 0.25, 1e-3) }); a != 0 {
-					t.Errorf("%s workers=%d: %v allocations per stage", name, w, a)
-				}
-			}
-			pool.Close()
-		}
 	}
 }

@@ -13,7 +13,7 @@ import (
 type pair [2]float64
 
 // core holds what every scheme computes before its own passes: the
-// potential vorticity on vertices (ops.Grid.PotentialVorticity) and, per
+// potential vorticity on vertices (ops.PVStencil) and, per
 // edge, the volume flux and the edge's share of the kinetic energy. Its
 // passes run on the pool as method values built once, so a tendency
 // allocates nothing.
@@ -21,6 +21,7 @@ type core struct {
 	g    ops.Grid
 	phys Physics
 	pool *par.Pool
+	pv   *ops.PVStencil
 
 	nc, ne, nv int
 	q          []float64 // vertices: PV
@@ -40,7 +41,7 @@ type core struct {
 
 func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 	c := core{
-		g: g, phys: phys, pool: pool,
+		g: g, phys: phys, pool: pool, pv: ops.NewPVStencil(g),
 		nc: g.NumCells, ne: g.NumEdges, nv: g.NumVertices,
 		q:       make([]float64, g.NumVertices),
 		fk:      make([]pair, g.NumEdges),
@@ -126,7 +127,7 @@ func (c *core) doHodge(lo, hi int) {
 
 // doVertices sets q_v = (ζ_v + f_v)/h_v (Ringler et al. 2010, eq. 26).
 func (c *core) doVertices(lo, hi int) {
-	c.g.PotentialVorticity(c.q[lo:hi], c.phys.FVertex, c.x[c.nc:], c.x[:c.nc], lo, hi)
+	c.pv.PotentialVorticity(c.q[lo:hi], c.phys.FVertex, c.x[c.nc:], c.x[:c.nc], lo, hi)
 }
 
 // doEdges sets the volume flux F_e = l_e h_e u_e with the arithmetic-mean
@@ -160,7 +161,7 @@ const maxCellEdges = 16
 // trisk is the TRiSK family: energy-, enstrophy-conserving and APVM.
 //
 // A tendency is four passes (apvm adds two before the cell pass, for q on
-// cells and q̂ on edges). Vertices: q. Edges: F and the kinetic-energy
+// cells and q̂ on edges; a general Hodge star one on edges). Vertices: q. Edges: F and the kinetic-energy
 // shares. Cells: the divergence, the Bernoulli function Φ = K + g(h + b)
 // and the TRiSK sums (ops.TRiSK gives the closed form) of F and of q_e F,
 // which the cell combines with q_e and Φ into its side's share T^i_e of
@@ -169,22 +170,31 @@ const maxCellEdges = 16
 // cell, so the passes split over workers without changing a bit.
 //
 // The cell pass is where the time goes (about half of it on hexagons):
-// it is bound by arithmetic, some 170 floating-point operations per
-// hexagon, while the other passes are bound by the latency of their
-// gathers and by memory traffic.
+// it is bound by arithmetic, some 160 floating-point operations per
+// hexagon with a third as many loads and stores again for the values
+// that do not fit in the sixteen vector registers, while the vertex pass
+// (a quarter) is bound by its division and its gathers of u and h, and
+// the edge and momentum passes by memory traffic. The README's speed
+// section has the measurements. In a Runge–Kutta step (StageThen) the
+// momentum pass also does the next stage's edge pass, so that a stage
+// is three passes.
 type trisk struct {
 	core
 	name      string
 	enstrophy bool   // T = q_e G + Φ instead of ½(q_e G_F + G_qF) + Φ
 	tt        []pair // edges: the momentum shares T^{c0}_e, T^{c1}_e
+	slots     []cellSlot
 
 	runs []run // maximal ranges of cells with the same number of edges
 
-	phaseCells, phaseMomentum, phaseFinish func(lo, hi int)
+	phaseCells, phaseMomentum, phaseFinish, phaseFinishEdges func(lo, hi int)
 
 	// Stage: x ← a x0 + b (x + Δt f(x))
 	x0                      []float64
 	stageA, stageB, stageDt float64
+	// ahead is the state whose edge pass (or circulation pass) the last
+	// StageThen already did, nil when none.
+	ahead *float64
 
 	// apvm only
 	apvm   float64 // c in q̂ = q − c Δt u·∇q
@@ -207,10 +217,12 @@ func newTRiSK(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options
 		}
 	}
 	s.runs = cellRuns(g)
+	s.slots = cellSlots(g, s.invArea)
 	s.bind()
 	s.phaseCells = s.doCells
 	s.phaseMomentum = s.doMomentum
 	s.phaseFinish = s.doFinish
+	s.phaseFinishEdges = s.doFinishEdges
 	if name == APVM {
 		s.apvm = opt.APVMFactor
 		s.perp = ops.NewTRiSK(g)
@@ -238,11 +250,37 @@ func (s *trisk) Tendency(dst, x []float64) {
 // finishing the stage for h and u instead of storing f. After the vertex
 // and edge passes only the cell pass reads h, and only its own cell's,
 // just before replacing it; nothing reads u after them.
-func (s *trisk) Stage(x, x0 []float64, a, b, dt float64) {
+func (s *trisk) Stage(x, x0 []float64, a, b, dt float64) { s.stage(x, x0, a, b, dt, false) }
+
+// StageThen is Stage, for a caller that promises to call Stage or
+// StageThen next on the same x, changed by nothing in between (the
+// step.ChainStager contract): the last pass then also does the next
+// stage's edge pass, block by block while the new u_e are in cache, and
+// the next stage skips it. The edge pass reads h only at the two cells
+// of its edge, which the cell pass has finished, and u only at its own
+// edge, just written, so it computes the same values as in the next
+// stage.
+func (s *trisk) StageThen(x, x0 []float64, a, b, dt float64) { s.stage(x, x0, a, b, dt, true) }
+
+func (s *trisk) stage(x, x0 []float64, a, b, dt float64, then bool) {
 	s.x, s.x0 = x, x0
 	s.stageA, s.stageB, s.stageDt = a, b, dt
-	s.passes()
-	s.pool.For(s.ne, s.phaseFinish)
+	ahead := s.ahead == &x[0]
+	s.ahead = nil
+	s.pool.For(s.nv, s.phaseVertices)
+	switch {
+	case !ahead:
+		s.edgePasses()
+	case s.hodge != nil:
+		s.pool.For(s.ne, s.phaseHodge)
+	}
+	s.lastPasses()
+	if then {
+		s.pool.For(s.ne, s.phaseFinishEdges)
+		s.ahead = &x[0]
+	} else {
+		s.pool.For(s.ne, s.phaseFinish)
+	}
 	s.x, s.x0 = nil, nil
 }
 
@@ -257,8 +295,15 @@ func stageValue(x, x0, f, a, b, dt float64) float64 {
 
 // passes runs every pass up to the cell pass.
 func (s *trisk) passes() {
+	s.ahead = nil
 	s.pool.For(s.nv, s.phaseVertices)
 	s.edgePasses()
+	s.lastPasses()
+}
+
+// lastPasses runs the passes after the vertex and edge passes up to the
+// cell pass (apvm's two, then the cell pass).
+func (s *trisk) lastPasses() {
 	if s.corr != nil {
 		s.pool.For(s.nc, s.phaseQ)
 		s.pool.For(s.ne, s.phaseA)
@@ -291,6 +336,8 @@ func (s *trisk) doCells(lo, hi int) {
 			s.cells6(a, b)
 		case r.n == 4 && s.corr == nil:
 			s.cells4(a, b)
+		case r.n == 3 && s.corr == nil:
+			s.cells3(a, b)
 		default:
 			s.cellsAny(a, b)
 		}
@@ -313,79 +360,103 @@ func cellRuns(g ops.Grid) []run {
 	return rs
 }
 
+// cellSlot is one edge of a cell as the cell pass reads it, so that one
+// stream carries what the CSR arrays spread over four: r = K_{i,v}/A_i,
+// the kite fraction of the vertex v that ends the edge anticlockwise
+// (computed once, as the kernels computed it each time: K × (1/A_i)), the
+// edge's side index 2e + o, with o = 0 where n_e points out of the cell
+// and 1 where it points in (the slot of tt it writes and the ±1 sign of
+// its flux), and v.
+type cellSlot struct {
+	r          float64
+	side, vert int32
+}
+
+func cellSlots(g ops.Grid, invArea []float64) []cellSlot {
+	out := make([]cellSlot, len(g.CellEdges))
+	for i := 0; i < g.NumCells; i++ {
+		for k := g.CellEdgeStart[i]; k < g.CellEdgeStart[i+1]; k++ {
+			o := int32(g.CellEdgeSign[k]>>1) & 1
+			out[k] = cellSlot{r: g.CellKiteArea[k] * invArea[i], side: 2*g.CellEdges[k] + o, vert: g.CellVertices[k]}
+		}
+	}
+	return out
+}
+
+// sgn is the sign of a side's flux: multiplying by it is exact and avoids
+// a branch that the orientation pattern makes unpredictable.
+var sgn = [2]float64{1, -1}
+
+// cellRange returns what a cell kernel reads for the cells [lo, hi): the
+// depths (to replace, in a stage), 1/A, where ∂h/∂t goes (nil in a stage)
+// or the stage's x0 (nil in a tendency), the bottom (nil if flat) and the
+// cells' slots.
+func (s *trisk) cellRange(lo, hi int) (h, invA, dh, x0, b []float64, slots []cellSlot) {
+	h, invA = s.x[lo:hi], s.invArea[lo:hi]
+	invA = invA[:len(h)]
+	if s.dh != nil {
+		dh = s.dh[lo:hi]
+		dh = dh[:len(h)]
+	} else {
+		x0 = s.x0[lo:hi]
+		x0 = x0[:len(h)]
+	}
+	if s.phys.Bottom != nil {
+		b = s.phys.Bottom[lo:hi]
+		b = b[:len(h)]
+	}
+	return h, invA, dh, x0, b, s.slots[s.g.CellEdgeStart[lo]:s.g.CellEdgeStart[hi]]
+}
+
+// bernoulli returns Φ_i = K_i + g(h_i + b_i), K_i = (1/4A_i) ke, from
+// ke = Σ_e l_e d_e u_e² over the cell's edges (read before setDepth).
+func (s *trisk) bernoulli(h, invA, b []float64, i int, ke float64) float64 {
+	hb := h[i]
+	if b != nil {
+		hb += b[i]
+	}
+	return 0.25*ke*invA[i] + s.phys.G*hb
+}
+
+// setDepth stores the cell pass's ∂h_i/∂t = f in a tendency (dh), or
+// replaces h_i by its stage value.
+func (s *trisk) setDepth(h, dh, x0 []float64, i int, f float64) {
+	if dh != nil {
+		dh[i] = f
+		return
+	}
+	h[i] = stageValue(h[i], x0[i], f, s.stageA, s.stageB, s.stageDt)
+}
+
+// share is T^i_e for edge e of cell i from q_e, the cell's sums G[F]
+// and G[qF] and Φ_i.
+func share(enst bool, qe, ga, gb, phi float64) float64 {
+	if enst {
+		return qe*ga + phi
+	}
+	return 0.5*(qe*ga+gb) + phi
+}
+
 // cells6 is cellsAny for hexagons, written out for six edges: the same
 // arithmetic in the same order, with every value in a register or a
 // named stack slot instead of an indexed array. Per edge m of the cell:
-// o_m is 0 where n_e points out of the cell and 1 where it points in (the
-// ±1 sign shifted right), a_m = ±F_e, qe_m the edge's q from the cell's two
-// vertices, b_m = qe_m a_m, r_m the kite fraction after the edge and c_m
-// the fractions before it; sa, sb are A of ops.TRiSK for a and b, ta, tb
-// its B, and ga_m, gb_m the cell's sums G_m.
+// a_m = ±F_e, qe_m the edge's q from the cell's two vertices, b_m =
+// qe_m a_m, r_m the kite fraction after the edge and c_m the fractions
+// before it; sa, sb are A of ops.TRiSK for a and b, ta, tb its B, and
+// ga_m, gb_m the cell's sums G_m.
 func (s *trisk) cells6(lo, hi int) {
-	h, invA := s.x[lo:hi], s.invArea[lo:hi]
-	invA = invA[:len(h)]
-	dh, x0 := s.dh, s.x0
-	if dh != nil {
-		dh = dh[lo:hi]
-		dh = dh[:len(h)]
-	} else {
-		x0 = x0[lo:hi]
-		x0 = x0[:len(h)]
-	}
-	stA, stB, stDt := s.stageA, s.stageB, s.stageDt
-	k0 := int(s.g.CellEdgeStart[lo])
-	n6 := k0 + 6*len(h)
-	edges, signs, verts, kite := s.g.CellEdges[k0:n6], s.g.CellEdgeSign[k0:n6], s.g.CellVertices[k0:n6], s.g.CellKiteArea[k0:n6]
-	q, fk, tt := s.q, s.fk, s.tt
-	b, grav, enst := s.phys.Bottom, s.phys.G, s.enstrophy
-	if b != nil {
-		b = b[lo:hi]
-		b = b[:len(h)]
-	}
-	sgn := [2]float64{1, -1}
+	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
+	slots = slots[:6*len(h)]
+	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
 	for i := range h {
-		es := (*[6]int32)(edges[6*i : 6*i+6])
-		ss := (*[6]int8)(signs[6*i : 6*i+6])
-		vs := (*[6]int32)(verts[6*i : 6*i+6])
-		ks := (*[6]float64)(kite[6*i : 6*i+6])
-		inv := invA[i]
-		q5 := q[vs[5]]
-		p0 := &fk[es[0]]
-		o0 := int(ss[0]>>1) & 1
-		q0 := q[vs[0]]
-		p1 := &fk[es[1]]
-		o1 := int(ss[1]>>1) & 1
-		q1 := q[vs[1]]
-		p2 := &fk[es[2]]
-		o2 := int(ss[2]>>1) & 1
-		q2 := q[vs[2]]
-		p3 := &fk[es[3]]
-		o3 := int(ss[3]>>1) & 1
-		q3 := q[vs[3]]
-		p4 := &fk[es[4]]
-		o4 := int(ss[4]>>1) & 1
-		q4 := q[vs[4]]
-		p5 := &fk[es[5]]
-		o5 := int(ss[5]>>1) & 1
-		qe0 := 0.5 * (q5 + q0)
-		qe1 := 0.5 * (q0 + q1)
-		qe2 := 0.5 * (q1 + q2)
-		qe3 := 0.5 * (q2 + q3)
-		qe4 := 0.5 * (q3 + q4)
-		qe5 := 0.5 * (q4 + q5)
-		a0 := sgn[o0] * p0[0]
-		b0 := qe0 * a0
-		a1 := sgn[o1] * p1[0]
-		b1 := qe1 * a1
-		a2 := sgn[o2] * p2[0]
-		b2 := qe2 * a2
-		a3 := sgn[o3] * p3[0]
-		b3 := qe3 * a3
-		a4 := sgn[o4] * p4[0]
-		b4 := qe4 * a4
-		a5 := sgn[o5] * p5[0]
-		b5 := qe5 * a5
-		r0, r1, r2, r3, r4 := ks[0]*inv, ks[1]*inv, ks[2]*inv, ks[3]*inv, ks[4]*inv
+		sl := (*[6]cellSlot)(slots[6*i : 6*i+6])
+		s0, s1, s2, s3, s4, s5 := sl[0].side, sl[1].side, sl[2].side, sl[3].side, sl[4].side, sl[5].side
+		q5, q0, q1, q2, q3, q4 := q[sl[5].vert], q[sl[0].vert], q[sl[1].vert], q[sl[2].vert], q[sl[3].vert], q[sl[4].vert]
+		p0, p1, p2, p3, p4, p5 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1], &fk[s3>>1], &fk[s4>>1], &fk[s5>>1]
+		qe0, qe1, qe2, qe3, qe4, qe5 := 0.5*(q5+q0), 0.5*(q0+q1), 0.5*(q1+q2), 0.5*(q2+q3), 0.5*(q3+q4), 0.5*(q4+q5)
+		a0, a1, a2, a3, a4, a5 := sgn[s0&1]*p0[0], sgn[s1&1]*p1[0], sgn[s2&1]*p2[0], sgn[s3&1]*p3[0], sgn[s4&1]*p4[0], sgn[s5&1]*p5[0]
+		b0, b1, b2, b3, b4, b5 := qe0*a0, qe1*a1, qe2*a2, qe3*a3, qe4*a4, qe5*a5
+		r0, r1, r2, r3, r4 := sl[0].r, sl[1].r, sl[2].r, sl[3].r, sl[4].r
 		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
 		c2 := c1 + r1
 		c3 := c2 + r2
@@ -396,44 +467,20 @@ func (s *trisk) cells6(lo, hi int) {
 		ta := c1*a1 + c2*a2 + c3*a3 + c4*a4 + c5*a5
 		tb := c1*b1 + c2*b2 + c3*b3 + c4*b4 + c5*b5
 		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1] + p4[1] + p5[1]
-		h0 := h[i]
-		hb := h0
-		if b != nil {
-			hb += b[i]
-		}
-		phi := 0.25*ke*inv + grav*hb
-		if dh != nil {
-			dh[i] = -(sa * inv)
-		} else {
-			h[i] = stageValue(h0, x0[i], -(sa * inv), stA, stB, stDt)
-		}
-		ga0 := 0.5*(sa-a0) - ta
-		gb0 := 0.5*(sb-b0) - tb
-		ga1 := ga0 + (r0*sa - 0.5*(a0+a1))
-		gb1 := gb0 + (r0*sb - 0.5*(b0+b1))
-		ga2 := ga1 + (r1*sa - 0.5*(a1+a2))
-		gb2 := gb1 + (r1*sb - 0.5*(b1+b2))
-		ga3 := ga2 + (r2*sa - 0.5*(a2+a3))
-		gb3 := gb2 + (r2*sb - 0.5*(b2+b3))
-		ga4 := ga3 + (r3*sa - 0.5*(a3+a4))
-		gb4 := gb3 + (r3*sb - 0.5*(b3+b4))
-		ga5 := ga4 + (r4*sa - 0.5*(a4+a5))
-		gb5 := gb4 + (r4*sb - 0.5*(b4+b5))
-		if enst {
-			tt[es[0]][o0] = qe0*ga0 + phi
-			tt[es[1]][o1] = qe1*ga1 + phi
-			tt[es[2]][o2] = qe2*ga2 + phi
-			tt[es[3]][o3] = qe3*ga3 + phi
-			tt[es[4]][o4] = qe4*ga4 + phi
-			tt[es[5]][o5] = qe5*ga5 + phi
-		} else {
-			tt[es[0]][o0] = 0.5*(qe0*ga0+gb0) + phi
-			tt[es[1]][o1] = 0.5*(qe1*ga1+gb1) + phi
-			tt[es[2]][o2] = 0.5*(qe2*ga2+gb2) + phi
-			tt[es[3]][o3] = 0.5*(qe3*ga3+gb3) + phi
-			tt[es[4]][o4] = 0.5*(qe4*ga4+gb4) + phi
-			tt[es[5]][o5] = 0.5*(qe5*ga5+gb5) + phi
-		}
+		phi := s.bernoulli(h, invA, b, i, ke)
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
+		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
+		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
+		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
+		ga3, gb3 := ga2+(r2*sa-0.5*(a2+a3)), gb2+(r2*sb-0.5*(b2+b3))
+		ga4, gb4 := ga3+(r3*sa-0.5*(a3+a4)), gb3+(r3*sb-0.5*(b3+b4))
+		ga5, gb5 := ga4+(r4*sa-0.5*(a4+a5)), gb4+(r4*sb-0.5*(b4+b5))
+		tt[s0>>1][s0&1] = share(enst, qe0, ga0, gb0, phi)
+		tt[s1>>1][s1&1] = share(enst, qe1, ga1, gb1, phi)
+		tt[s2>>1][s2&1] = share(enst, qe2, ga2, gb2, phi)
+		tt[s3>>1][s3&1] = share(enst, qe3, ga3, gb3, phi)
+		tt[s4>>1][s4&1] = share(enst, qe4, ga4, gb4, phi)
+		tt[s5>>1][s5&1] = share(enst, qe5, ga5, gb5, phi)
 	}
 }
 
@@ -441,58 +488,18 @@ func (s *trisk) cells6(lo, hi int) {
 // sphere), written out like cells6 with the same arithmetic in the same
 // order.
 func (s *trisk) cells4(lo, hi int) {
-	h, invA := s.x[lo:hi], s.invArea[lo:hi]
-	invA = invA[:len(h)]
-	dh, x0 := s.dh, s.x0
-	if dh != nil {
-		dh = dh[lo:hi]
-		dh = dh[:len(h)]
-	} else {
-		x0 = x0[lo:hi]
-		x0 = x0[:len(h)]
-	}
-	stA, stB, stDt := s.stageA, s.stageB, s.stageDt
-	k0 := int(s.g.CellEdgeStart[lo])
-	n4 := k0 + 4*len(h)
-	edges, signs, verts, kite := s.g.CellEdges[k0:n4], s.g.CellEdgeSign[k0:n4], s.g.CellVertices[k0:n4], s.g.CellKiteArea[k0:n4]
-	q, fk, tt := s.q, s.fk, s.tt
-	b, grav, enst := s.phys.Bottom, s.phys.G, s.enstrophy
-	if b != nil {
-		b = b[lo:hi]
-		b = b[:len(h)]
-	}
-	sgn := [2]float64{1, -1}
+	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
+	slots = slots[:4*len(h)]
+	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
 	for i := range h {
-		es := (*[4]int32)(edges[4*i : 4*i+4])
-		ss := (*[4]int8)(signs[4*i : 4*i+4])
-		vs := (*[4]int32)(verts[4*i : 4*i+4])
-		ks := (*[4]float64)(kite[4*i : 4*i+4])
-		inv := invA[i]
-		q3 := q[vs[3]]
-		p0 := &fk[es[0]]
-		o0 := int(ss[0]>>1) & 1
-		q0 := q[vs[0]]
-		p1 := &fk[es[1]]
-		o1 := int(ss[1]>>1) & 1
-		q1 := q[vs[1]]
-		p2 := &fk[es[2]]
-		o2 := int(ss[2]>>1) & 1
-		q2 := q[vs[2]]
-		p3 := &fk[es[3]]
-		o3 := int(ss[3]>>1) & 1
-		qe0 := 0.5 * (q3 + q0)
-		qe1 := 0.5 * (q0 + q1)
-		qe2 := 0.5 * (q1 + q2)
-		qe3 := 0.5 * (q2 + q3)
-		a0 := sgn[o0] * p0[0]
-		b0 := qe0 * a0
-		a1 := sgn[o1] * p1[0]
-		b1 := qe1 * a1
-		a2 := sgn[o2] * p2[0]
-		b2 := qe2 * a2
-		a3 := sgn[o3] * p3[0]
-		b3 := qe3 * a3
-		r0, r1, r2 := ks[0]*inv, ks[1]*inv, ks[2]*inv
+		sl := (*[4]cellSlot)(slots[4*i : 4*i+4])
+		s0, s1, s2, s3 := sl[0].side, sl[1].side, sl[2].side, sl[3].side
+		q3, q0, q1, q2 := q[sl[3].vert], q[sl[0].vert], q[sl[1].vert], q[sl[2].vert]
+		p0, p1, p2, p3 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1], &fk[s3>>1]
+		qe0, qe1, qe2, qe3 := 0.5*(q3+q0), 0.5*(q0+q1), 0.5*(q1+q2), 0.5*(q2+q3)
+		a0, a1, a2, a3 := sgn[s0&1]*p0[0], sgn[s1&1]*p1[0], sgn[s2&1]*p2[0], sgn[s3&1]*p3[0]
+		b0, b1, b2, b3 := qe0*a0, qe1*a1, qe2*a2, qe3*a3
+		r0, r1, r2 := sl[0].r, sl[1].r, sl[2].r
 		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
 		c2 := c1 + r1
 		c3 := c2 + r2
@@ -501,106 +508,93 @@ func (s *trisk) cells4(lo, hi int) {
 		ta := c1*a1 + c2*a2 + c3*a3
 		tb := c1*b1 + c2*b2 + c3*b3
 		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1]
-		h0 := h[i]
-		hb := h0
-		if b != nil {
-			hb += b[i]
-		}
-		phi := 0.25*ke*inv + grav*hb
-		if dh != nil {
-			dh[i] = -(sa * inv)
-		} else {
-			h[i] = stageValue(h0, x0[i], -(sa * inv), stA, stB, stDt)
-		}
-		ga0 := 0.5*(sa-a0) - ta
-		gb0 := 0.5*(sb-b0) - tb
-		ga1 := ga0 + (r0*sa - 0.5*(a0+a1))
-		gb1 := gb0 + (r0*sb - 0.5*(b0+b1))
-		ga2 := ga1 + (r1*sa - 0.5*(a1+a2))
-		gb2 := gb1 + (r1*sb - 0.5*(b1+b2))
-		ga3 := ga2 + (r2*sa - 0.5*(a2+a3))
-		gb3 := gb2 + (r2*sb - 0.5*(b2+b3))
-		if enst {
-			tt[es[0]][o0] = qe0*ga0 + phi
-			tt[es[1]][o1] = qe1*ga1 + phi
-			tt[es[2]][o2] = qe2*ga2 + phi
-			tt[es[3]][o3] = qe3*ga3 + phi
-		} else {
-			tt[es[0]][o0] = 0.5*(qe0*ga0+gb0) + phi
-			tt[es[1]][o1] = 0.5*(qe1*ga1+gb1) + phi
-			tt[es[2]][o2] = 0.5*(qe2*ga2+gb2) + phi
-			tt[es[3]][o3] = 0.5*(qe3*ga3+gb3) + phi
-		}
+		phi := s.bernoulli(h, invA, b, i, ke)
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
+		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
+		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
+		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
+		ga3, gb3 := ga2+(r2*sa-0.5*(a2+a3)), gb2+(r2*sb-0.5*(b2+b3))
+		tt[s0>>1][s0&1] = share(enst, qe0, ga0, gb0, phi)
+		tt[s1>>1][s1&1] = share(enst, qe1, ga1, gb1, phi)
+		tt[s2>>1][s2&1] = share(enst, qe2, ga2, gb2, phi)
+		tt[s3>>1][s3&1] = share(enst, qe3, ga3, gb3, phi)
+	}
+}
+
+// cells3 is cellsAny for triangles (the triangular planes), written out
+// like cells6 with the same arithmetic in the same order.
+func (s *trisk) cells3(lo, hi int) {
+	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
+	slots = slots[:3*len(h)]
+	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
+	for i := range h {
+		sl := (*[3]cellSlot)(slots[3*i : 3*i+3])
+		s0, s1, s2 := sl[0].side, sl[1].side, sl[2].side
+		q2, q0, q1 := q[sl[2].vert], q[sl[0].vert], q[sl[1].vert]
+		p0, p1, p2 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1]
+		qe0, qe1, qe2 := 0.5*(q2+q0), 0.5*(q0+q1), 0.5*(q1+q2)
+		a0, a1, a2 := sgn[s0&1]*p0[0], sgn[s1&1]*p1[0], sgn[s2&1]*p2[0]
+		b0, b1, b2 := qe0*a0, qe1*a1, qe2*a2
+		r0, r1 := sl[0].r, sl[1].r
+		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
+		c2 := c1 + r1
+		sa, sb := 0.0+a0+a1+a2, 0.0+b0+b1+b2
+		ta, tb := c1*a1+c2*a2, c1*b1+c2*b2
+		phi := s.bernoulli(h, invA, b, i, 0.0+p0[1]+p1[1]+p2[1])
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
+		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
+		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
+		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
+		tt[s0>>1][s0&1] = share(enst, qe0, ga0, gb0, phi)
+		tt[s1>>1][s1&1] = share(enst, qe1, ga1, gb1, phi)
+		tt[s2>>1][s2&1] = share(enst, qe2, ga2, gb2, phi)
 	}
 }
 
 // cellsAny is the cell pass for cells of any number of edges.
 func (s *trisk) cellsAny(lo, hi int) {
-	h, dh, x0 := s.x[:s.nc], s.dh, s.x0
-	stA, stB, stDt := s.stageA, s.stageB, s.stageDt
-	start, edges, signs := s.g.CellEdgeStart, s.g.CellEdges, s.g.CellEdgeSign
-	verts, kite := s.g.CellVertices, s.g.CellKiteArea
-	q, fk, tt, corr := s.q, s.fk, s.tt, s.corr
-	invA, b, grav, enst := s.invArea, s.phys.Bottom, s.phys.G, s.enstrophy
-	sgn := [2]float64{1, -1}
+	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
+	start := s.g.CellEdgeStart[lo : hi+1]
+	k0 := int(start[0])
+	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy
 	var a, bq, r, qe [maxCellEdges]float64
-	for i := lo; i < hi; i++ {
-		k0, k1 := int(start[i]), int(start[i+1])
-		es := edges[k0:k1]
-		n := len(es)
-		ss, vs, ks := signs[k0:k1], verts[k0:k1], kite[k0:k1]
-		ss, vs, ks = ss[:n], vs[:n], ks[:n]
+	for i := range h {
+		sl := slots[int(start[i])-k0 : int(start[i+1])-k0]
+		n := len(sl)
 		aa, bb, rr, qq := a[:n], bq[:n], r[:n], qe[:n]
-		inv := invA[i]
-		qprev := q[vs[n-1]]
+		qprev := q[sl[n-1].vert]
 		var sa, ta, sb, tb, ke, cm float64
-		for m, e := range es {
-			p := &fk[e]
-			qm := q[vs[m]]
+		for m, c := range sl {
+			p := &fk[c.side>>1]
+			qm := q[c.vert]
 			qem := 0.5 * (qprev + qm)
 			qprev = qm
 			if corr != nil {
-				qem -= corr[e]
+				qem -= corr[c.side>>1]
 			}
-			// Multiplying by the ±1 sign is exact and avoids a branch that
-			// the orientation pattern makes unpredictable.
-			am := sgn[int(ss[m]>>1)&1] * p[0]
+			am := sgn[c.side&1] * p[0]
 			bm := qem * am
-			rm := ks[m] * inv
-			aa[m], bb[m], rr[m], qq[m] = am, bm, rm, qem
+			aa[m], bb[m], rr[m], qq[m] = am, bm, c.r, qem
 			sa += am
 			sb += bm
 			ta += cm * am
 			tb += cm * bm
 			ke += p[1]
-			cm += rm
+			cm += c.r
 		}
-		h0 := h[i]
-		hb := h0
-		if b != nil {
-			hb += b[i]
-		}
-		phi := 0.25*ke*inv + grav*hb
-		if dh != nil {
-			dh[i] = -(sa * inv)
-		} else {
-			h[i] = stageValue(h0, x0[i], -(sa * inv), stA, stB, stDt)
-		}
+		phi := s.bernoulli(h, invA, b, i, ke)
+		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
 		// The cell's sums G_j = Σ_k w_{j,j+k} a_{j+k}, by
 		// G_0 = ½(A − a_0) − B and G_{j+1} = G_j + R_j A − ½(a_j + a_{j+1}),
 		// which follows from the closed form of ops.TRiSK.
 		ga := 0.5*(sa-aa[0]) - ta
 		gb := 0.5*(sb-bb[0]) - tb
-		for j, e := range es {
+		for j, c := range sl {
 			if j > 0 {
 				ga += rr[j-1]*sa - 0.5*(aa[j-1]+aa[j])
 				gb += rr[j-1]*sb - 0.5*(bb[j-1]+bb[j])
 			}
-			t := 0.5*(qq[j]*ga+gb) + phi
-			if enst {
-				t = qq[j]*ga + phi
-			}
-			tt[e][int(ss[j]>>1)&1] = t
+			tt[c.side>>1][c.side&1] = share(enst, qq[j], ga, gb, phi)
 		}
 	}
 }
@@ -634,6 +628,25 @@ func (s *trisk) doFinish(lo, hi int) {
 	x0 = x0[:len(x)]
 	for e := range x {
 		x[e] = a*x0[e] + b*(x[e]+dt*((tt[e][0]-tt[e][1])/d[e]))
+	}
+}
+
+// finishBlock is how many edges doFinishEdges finishes before it runs
+// the next stage's edge pass on them: their u_e, d_e and l_e are still in
+// the first-level cache (16 KB of them).
+const finishBlock = 512
+
+// doFinishEdges is doFinish and then the next stage's edge pass (the
+// circulations, with a general Hodge star) on [lo, hi), block by block.
+func (s *trisk) doFinishEdges(lo, hi int) {
+	for b := lo; b < hi; b += finishBlock {
+		e := min(b+finishBlock, hi)
+		s.doFinish(b, e)
+		if s.hodge == nil {
+			s.doEdges(b, e)
+		} else {
+			s.doCirculation(b, e)
+		}
 	}
 }
 

@@ -60,6 +60,16 @@ type Stager interface {
 	Stage(x, x0 []float64, a, b, dt float64)
 }
 
+// ChainStager is a Stager that can start the next stage inside this one.
+// StageThen does what Stage does; the caller promises that its next call
+// is Stage or StageThen on the same x, changed by nothing in between, so
+// that work of the next stage done now (on values just written) stays
+// valid. The results are those of Stage, bit for bit.
+type ChainStager interface {
+	Stager
+	StageThen(x, x0 []float64, a, b, dt float64)
+}
+
 // StagedStepper is implemented by integrators whose every stage has the
 // form of Stager (rk3). StepStaged advances x exactly as Step does with the
 // stager's tendency, and needs no tendency vector.
@@ -211,8 +221,12 @@ func (s *ssprk3) StepStaged(st Stager, x []float64, dt float64) {
 	s.x = x
 	s.loop(len(x), s.save)
 	s.x = nil
-	st.Stage(x, s.x0, 0, 1, dt)
-	st.Stage(x, s.x0, 0.75, 0.25, dt)
+	then := st.Stage
+	if c, ok := st.(ChainStager); ok {
+		then = c.StageThen
+	}
+	then(x, s.x0, 0, 1, dt)
+	then(x, s.x0, 0.75, 0.25, dt)
 	st.Stage(x, s.x0, 1.0/3, 2.0/3, dt)
 }
 

@@ -110,6 +110,9 @@ func TestReportDiagonalVersusConsistent(t *testing.T) {
 
 // The Lanczos extremes agree with the dense spectrum.
 func TestLanczosMatchesDense(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long and serial; runs in the full suite")
+	}
 	m, err := mesh.New(mesh.Spec{Kind: mesh.Hex, N: 16, Length: 1e6, Jitter: 0.2, Seed: 2})
 	if err != nil {
 		t.Fatal(err)
