@@ -10,6 +10,7 @@ import (
 
 	"gyrebench/sim"
 	"gyrebench/sim/session"
+	"gyrebench/web"
 )
 
 // Lockstep pairs.
@@ -72,16 +73,8 @@ var (
 	sideCommands = []string{"set-scheme", "set-hodge", "set-integrator", "set-dt", "set-grid", "set-dissipation"}
 )
 
-// PairInfo is a read-only snapshot of a pair, for pages.
-type PairInfo struct {
-	ID       string
-	Scenario string
-	Title    string
-	Sides    [2]RunInfo
-	State    string
-	SameGrid bool
-	Clients  int
-}
+// PairInfo is a read-only snapshot of a pair, for pages (web.PairInfo).
+type PairInfo = web.PairInfo
 
 // Pair is two sessions in lockstep, owned by the pair's actor.
 type Pair struct {

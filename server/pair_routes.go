@@ -115,25 +115,8 @@ func (ps *pairs) serveNew(w http.ResponseWriter, req *http.Request) {
 }
 
 func (ps *pairs) renderNew(w http.ResponseWriter, req *http.Request, base, msg string, code int) {
-	bases := ps.s.baseOptions(base, false)
-	same := web.Option{Value: "", Label: "as the base", Selected: true}
-	v := web.PairNewView{
-		Bases:       bases,
-		Schemes:     append([]web.Option{same}, web.SchemeOptions("")...),
-		Integrators: append([]web.Option{same}, web.IntegratorOptions("")...),
-		Grids:       append([]web.Option{same}, web.GridOptions("")...),
-		Message:     msg,
-	}
-	for _, p := range ps.list() {
-		in := p.Info()
-		v.Pairs = append(v.Pairs, web.PairRow{ID: in.ID, Title: in.Title, A: sideSummary(in.Sides[0]), B: sideSummary(in.Sides[1]), State: in.State})
-	}
 	w.WriteHeader(code)
-	render(w, req, web.PairNewPage(v))
-}
-
-func sideSummary(in RunInfo) string {
-	return fmt.Sprintf("%s n = %d · %s · %s · Δt = %g s", in.Grid, in.N, in.Scheme, in.Integrator, in.Dt)
+	render(w, req, web.PairNewPage(web.PairNewOf(ps.s.baseOptions(base, false), infosOf(&ps.registry, (*Pair).Info), msg)))
 }
 
 func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {
@@ -142,21 +125,7 @@ func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {
 		http.Error(w, "no pair "+strconv.Quote(chi.URLParam(req, "id"))+"; open pairs are listed at /pairs/new", http.StatusNotFound)
 		return
 	}
-	in := p.Info()
-	v := web.PairView{ID: in.ID, Title: in.Title, Scenario: in.Scenario, Fields: fieldOptions(in.Sides[0].Field), State: in.State}
-	for i, s := range in.Sides {
-		v.Sides[i] = web.PairSide{
-			Side:        sideNames[i],
-			Name:        strings.ToUpper(sideNames[i]),
-			Schemes:     web.SchemeOptions(s.Scheme),
-			Integrators: web.IntegratorOptions(s.Integrator),
-			Grids:       web.GridOptions(s.Grid),
-			Dt:          strconv.FormatFloat(s.Dt, 'g', -1, 64),
-			N:           strconv.Itoa(s.N),
-			Summary:     sideSummary(s),
-		}
-	}
-	render(w, req, web.PairPage(v))
+	render(w, req, web.PairPage(web.PairPageOf(p.Info())))
 }
 
 func (ps *pairs) serveJSON(w http.ResponseWriter, req *http.Request) {

@@ -80,14 +80,19 @@ func (g *registry[T]) removeLocked(id string) {
 	g.order = out
 }
 
-// serveInfos answers with the snapshots of the registry's entries as a
-// JSON list ([] when there are none).
-func serveInfos[T, I any](w http.ResponseWriter, g *registry[T], info func(T) I) {
+// infosOf returns the snapshots of the registry's entries, oldest first
+// ([] when there are none).
+func infosOf[T, I any](g *registry[T], info func(T) I) []I {
 	infos := []I{}
 	for _, v := range g.list() {
 		infos = append(infos, info(v))
 	}
-	writeJSON(w, infos)
+	return infos
+}
+
+// serveInfos answers with the snapshots as a JSON list.
+func serveInfos[T, I any](w http.ResponseWriter, g *registry[T], info func(T) I) {
+	writeJSON(w, infosOf(g, info))
 }
 
 // writeJSON answers with v as JSON.

@@ -64,21 +64,7 @@ func (s *Server) serveRunPage(w http.ResponseWriter, req *http.Request) {
 	if run == nil {
 		return
 	}
-	in := run.Info()
-	v := web.RunView{
-		ID: in.ID, Title: in.Title, Scenario: in.Scenario,
-		Scenarios:   web.ScenarioOptions(in.Scenario),
-		Schemes:     web.SchemeOptions(in.Scheme),
-		Integrators: web.IntegratorOptions(in.Integrator),
-		Grids:       web.GridOptions(in.Grid),
-		Fields:      fieldOptions(in.Field),
-		Dt:          strconv.FormatFloat(in.Dt, 'g', -1, 64),
-		N:           strconv.Itoa(in.N),
-		State:       in.State,
-		Time:        session.FmtTime(in.Time),
-		RingSize:    s.opt.RingSize,
-	}
-	render(w, req, web.RunPage(v))
+	render(w, req, web.RunPage(web.RunPageOf(run.Info(), s.opt.RingSize)))
 }
 
 func (s *Server) serveRuns(w http.ResponseWriter, req *http.Request) {
@@ -97,13 +83,7 @@ func (s *Server) renderRuns(w http.ResponseWriter, req *http.Request, msg string
 	}
 	v := web.RunsView{Scenarios: web.ScenarioOptions(pick), Message: msg}
 	for _, r := range runs {
-		in := r.Info()
-		v.Runs = append(v.Runs, web.RunRow{
-			ID: in.ID, Scenario: in.Scenario, Title: in.Title,
-			Grid:   in.Grid + " n = " + strconv.Itoa(in.N),
-			Scheme: in.Scheme, Integrator: in.Integrator, State: in.State,
-			Time: session.FmtTime(in.Time), Watchers: in.Subscribers,
-		})
+		v.Runs = append(v.Runs, web.RunRowOf(r.Info()))
 	}
 	w.WriteHeader(code)
 	render(w, req, web.RunsPage(v))
@@ -181,11 +161,7 @@ func sameOrigin(req *http.Request) bool {
 }
 
 func (s *Server) serveRunsJSON(w http.ResponseWriter, req *http.Request) {
-	var infos []RunInfo
-	for _, r := range s.Runs() {
-		infos = append(infos, r.Info())
-	}
-	writeJSON(w, infos)
+	serveInfos(w, &s.runs, (*Run).Info)
 }
 
 func (s *Server) serveStatic(w http.ResponseWriter, req *http.Request) {
@@ -267,24 +243,9 @@ func (s *Server) base(ctx context.Context, field, base string) (run, label, desc
 	return "", base, sc.Description, sc.Config, nil
 }
 
-// baseOptions is the menu of a form's base: the open runs' current
-// choices (with Δt when withDt), then the built-in scenarios.
+// baseOptions is the menu of a form's base (web.BaseOptions).
 func (s *Server) baseOptions(selected string, withDt bool) []web.Option {
-	var opts []web.Option
-	for _, r := range s.Runs() {
-		in := r.Info()
-		v := "run:" + in.ID
-		label := fmt.Sprintf("run %s now: %s, %s n = %d, %s", in.ID, in.Scenario, in.Grid, in.N, in.Scheme)
-		if withDt {
-			label += fmt.Sprintf(", Δt = %g s", in.Dt)
-		}
-		opts = append(opts, web.Option{Value: v, Label: label, Title: "the run's current choices, from its initial state", Selected: v == selected})
-	}
-	for _, o := range web.ScenarioOptions(selected) {
-		o.Label = "scenario " + o.Label
-		opts = append(opts, o)
-	}
-	return opts
+	return web.BaseOptions(infosOf(&s.runs, (*Run).Info), selected, withDt)
 }
 
 // runOf returns the run the request's path names, and its id, or answers

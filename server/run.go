@@ -6,6 +6,7 @@ import (
 
 	"gyrebench/sim"
 	"gyrebench/sim/session"
+	"gyrebench/web"
 )
 
 // Run states, shown verbatim in the browser's run-state.
@@ -30,24 +31,9 @@ const (
 	MaxFPSLimit = 120
 )
 
-// RunInfo is a read-only snapshot of a run, for pages and listings. The run
-// publishes a new one after every change.
-type RunInfo struct {
-	ID          string
-	Scenario    string
-	Title       string
-	Grid        string
-	N           int
-	Cells       int
-	Scheme      string
-	Integrator  string
-	Dt          float64
-	Field       string
-	State       string
-	Time        float64
-	Steps       int64
-	Subscribers int
-}
+// RunInfo is a read-only snapshot of a run, for pages and listings
+// (web.RunInfo). The run publishes a new one after every change.
+type RunInfo = web.RunInfo
 
 // runLimits are the server's settings every session is built with.
 type runLimits struct {
