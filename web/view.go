@@ -6,6 +6,12 @@
 //
 // The pages carry stable data-role hooks (DEVELOPERS.md "Pages and their
 // hooks"); the browser code in package static fills and drives them.
+//
+// The package also owns what the pages show and how it is worded: the
+// snapshots of runs and pairs the server publishes (RunInfo, PairInfo),
+// the menus and their labels, and the view models built from them and
+// from a sweep's status (RunPageOf, PairPageOf, SweepPageOf, …). The
+// server only fetches the snapshots and renders.
 package web
 
 // Option is one entry of a menu.

@@ -14,6 +14,10 @@
 // runs finish in. Every run's config is validated before anything is
 // written, and a sweep is capped at MaxRuns runs.
 //
+// PlanForm validates the same choices typed into the workbench's form (a
+// text area of vary lines and one of set lines), within the workbench's
+// bounds, naming the form field a refusal is about.
+//
 // # Running here or elsewhere
 //
 // Execute runs the plan in this process, a few runs at a time, each one
@@ -55,5 +59,8 @@
 //   - error.png, error.svg (when some curve has two spacings or more),
 //     energy-drift.png/.svg and enstrophy-drift.png/.svg.
 //
-// Every file is written under a temporary name and renamed.
+// Every file is written under a temporary name and renamed. What a sweep
+// offers to readers (TopFiles, and RunOutputs of each run folder), their
+// media types (ContentType) and the zip of them all (WriteZip) are said
+// here too, so that the workbench serves exactly those.
 package sweep
