@@ -431,15 +431,7 @@ func TestShutdownLeavesCompleteFiles(t *testing.T) {
 	}
 	p.body.Close()
 
-	cancel()
-	select {
-	case err := <-served:
-		if err != nil {
-			t.Fatalf("Serve: %v", err)
-		}
-	case <-time.After(hang):
-		t.Fatalf("Serve did not return within %v of its context ending (a hang guard)", hang)
-	}
+	stopServe(t, cancel, served)
 	for i, cl := range viewers {
 		closed := false
 		for !closed {

@@ -98,6 +98,21 @@ var smallHex = fPlaneScenario("test: small hexagonal bump", "hex", 16, "1.0e6", 
 var hex128 = fPlaneScenario("speed: shear layers on hex n = 128", "hex", 128, "2.0e6", "rk3", "60.0", "1728000.0", `case = "shear-layer"
 `)
 
+// stopServe ends the context of a server.Serve (cancel) and waits, with
+// hang as the guard, for it to return on done: nil, or the test fails.
+func stopServe(t testing.TB, cancel context.CancelFunc, done <-chan error) {
+	t.Helper()
+	cancel()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Fatalf("Serve returned %v after its context ended, want nil", err)
+		}
+	case <-time.After(hang):
+		t.Fatalf("Serve did not return within %v of its context ending (a guard against a hang)", hang)
+	}
+}
+
 // writeScenario writes a scenario file for the test and returns its path.
 func writeScenario(t testing.TB, name, text string) string {
 	t.Helper()

@@ -85,15 +85,7 @@ func TestServe(t *testing.T) {
 				t.Fatal(err)
 			}
 			defer c.CloseNow()
-			cancel()
-			select {
-			case err := <-done:
-				if err != nil {
-					t.Errorf("Serve returned %v after its context ended, want nil", err)
-				}
-			case <-time.After(hang):
-				t.Fatalf("Serve did not return within %v of its context ending (a guard against a hang)", hang)
-			}
+			stopServe(t, cancel, done)
 		})
 	}
 }

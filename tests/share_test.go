@@ -9,7 +9,6 @@ import (
 	"net/url"
 	"strings"
 	"testing"
-	"time"
 
 	"github.com/coder/websocket"
 
@@ -246,13 +245,5 @@ func TestShareServePrints(t *testing.T) {
 	if r := roleOf(t, cl); r != "control" {
 		t.Errorf("after the printed control URL: role %q, want control", r)
 	}
-	cancel()
-	select {
-	case err := <-done:
-		if err != nil {
-			t.Errorf("Serve: %v", err)
-		}
-	case <-time.After(hang):
-		t.Fatalf("Serve did not return within %v of its context ending (a guard against a hang)", hang)
-	}
+	stopServe(t, cancel, done)
 }
