@@ -60,15 +60,7 @@ func RayLimit(name string, opt Options, lambda complex128) float64 {
 	lo := 0.0
 	for t := h; t <= top; t += h {
 		if !stable(t) {
-			hi := t
-			for range 80 {
-				mid := (lo + hi) / 2
-				if stable(mid) {
-					lo = mid
-				} else {
-					hi = mid
-				}
-			}
+			lo = bisect(lo, t, 80, stable)
 			if lo < 1e-3 {
 				return 0
 			}

@@ -104,13 +104,18 @@ func leapfrogLimit(nu float64) float64 {
 		d := cmplx.Sqrt(b*b - 4*c)
 		return max(cmplx.Abs((-b+d)/2), cmplx.Abs((-b-d)/2)) > 1+1e-12
 	}
-	lo, hi := 0.0, 1.0
-	for range 60 {
+	return bisect(0, 1, 60, func(z float64) bool { return !unstable(z) })
+}
+
+// bisect halves [lo, hi] n times, keeping ok true at lo and false at hi,
+// and returns the final lo.
+func bisect(lo, hi float64, n int, ok func(float64) bool) float64 {
+	for range n {
 		mid := (lo + hi) / 2
-		if unstable(mid) {
-			hi = mid
-		} else {
+		if ok(mid) {
 			lo = mid
+		} else {
+			hi = mid
 		}
 	}
 	return lo
@@ -233,14 +238,7 @@ func (s *ssprk3) StepStaged(st Stager, x []float64, dt float64) {
 func (s *ssprk3) doSave(lo, hi int) { copy(s.x0[lo:hi], s.x[lo:hi]) }
 
 // stage1 also saves the start of the step, which f(k, x) has only read.
-func (s *ssprk3) stage1(lo, hi int) {
-	x, x0, k, dt := s.x[lo:hi], s.x0[lo:hi], s.k[lo:hi], s.dt
-	x0, k = x0[:len(x)], k[:len(x)]
-	for i, xi := range x {
-		x0[i] = xi
-		x[i] = xi + dt*k[i]
-	}
-}
+func (s *ssprk3) stage1(lo, hi int) { saveThenEuler(s.x[lo:hi], s.x0[lo:hi], s.k[lo:hi], s.dt) }
 
 func (s *ssprk3) stage2(lo, hi int) {
 	x, x0, k, dt := s.x[lo:hi], s.x0[lo:hi], s.k[lo:hi], s.dt
@@ -346,14 +344,7 @@ func (s *leapfrog) Step(f Tendency, x []float64, dt float64) {
 	s.x = nil
 }
 
-func (s *leapfrog) doFirst(lo, hi int) {
-	x, prev, k, dt := s.x[lo:hi], s.prev[lo:hi], s.k[lo:hi], s.dt
-	prev, k = prev[:len(x)], k[:len(x)]
-	for i, xn := range x {
-		prev[i] = xn
-		x[i] = xn + dt*k[i]
-	}
-}
+func (s *leapfrog) doFirst(lo, hi int) { saveThenEuler(s.x[lo:hi], s.prev[lo:hi], s.k[lo:hi], s.dt) }
 
 func (s *leapfrog) doNext(lo, hi int) {
 	x, prev, k, dt, nu := s.x[lo:hi], s.prev[lo:hi], s.k[lo:hi], s.dt, s.nu
@@ -387,5 +378,15 @@ func (s *euler) doUpdate(lo, hi int) {
 	k = k[:len(x)]
 	for i := range x {
 		x[i] += dt * k[i]
+	}
+}
+
+// saveThenEuler copies x into save and then takes the forward Euler step
+// x += dt·k: the first stage of ssprk3 and the first leapfrog step.
+func saveThenEuler(x, save, k []float64, dt float64) {
+	save, k = save[:len(x)], k[:len(x)]
+	for i, xi := range x {
+		save[i] = xi
+		x[i] = xi + dt*k[i]
 	}
 }
