@@ -62,6 +62,20 @@ func distorted(t testing.TB, spec mesh.Spec, seed uint64) fixture {
 	return f
 }
 
+// ratesOf is rates of the tendency that scheme name, with Δt = 100 s,
+// gives at the fixture's state.
+func ratesOf(t *testing.T, name string, f fixture, pool *par.Pool) (dm, sm, de, se, dz, sz float64) {
+	t.Helper()
+	s, err := New(name, f.g, f.phys, pool, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s.SetDt(100)
+	dx := make([]float64, len(f.x))
+	s.Tendency(dx, f.x)
+	return rates(f, dx)
+}
+
 // rates returns dM/dt, dE/dt and dZ/dt from the tendency, each with the sum
 // of the absolute values of its terms, by the chain rule through the
 // gradients of mass, energy E = ½ Σ_e h_e v_e (H v)_e + Σ_i A_i g (h²/2 + h b)
@@ -179,14 +193,7 @@ func TestSemiDiscreteConservation(t *testing.T) {
 					// A distorted grid with its general Hodge star.
 					f = distorted(t, spec, seed)
 				}
-				s, err := New(c.scheme, f.g, f.phys, pool, Options{})
-				if err != nil {
-					t.Fatal(err)
-				}
-				s.SetDt(100)
-				dx := make([]float64, len(f.x))
-				s.Tendency(dx, f.x)
-				dm, sm, de, se, dz, sz := rates(f, dx)
+				dm, sm, de, se, dz, sz := ratesOf(t, c.scheme, f, pool)
 				if math.Abs(dm) > tol*sm {
 					t.Errorf("%s on %s: dM/dt = %g with Σ|terms| = %g", c.scheme, kind, dm, sm)
 				}
@@ -226,14 +233,7 @@ func TestSemiDiscreteConservationCubed(t *testing.T) {
 					t.Fatalf("no general Hodge star on the cubed sphere (%v)", err)
 				}
 			}
-			s, err := New(c.scheme, f.g, f.phys, pool, Options{})
-			if err != nil {
-				t.Fatal(err)
-			}
-			s.SetDt(100)
-			dx := make([]float64, len(f.x))
-			s.Tendency(dx, f.x)
-			dm, sm, de, se, dz, sz := rates(f, dx)
+			dm, sm, de, se, dz, sz := ratesOf(t, c.scheme, f, pool)
 			for _, r := range []struct {
 				name      string
 				conserved bool
