@@ -9,16 +9,19 @@ import (
 // trisk-energy) on a mesh of every family, and reports cell-steps per
 // second.
 func BenchmarkStep(b *testing.B) {
-	for _, c := range []struct {
-		kind string
-		n    int
-	}{{"hex", 128}, {"hex", 512}, {"quad", 128}, {"tri", 128}, {"icosahedral", 6}, {"cubed", 64}} {
+	for _, g := range []GridConfig{
+		{Kind: "hex", N: 128, Length: 2e6},
+		{Kind: "hex", N: 512, Length: 8e6},
+		{Kind: "quad", N: 128, Length: 2e6},
+		{Kind: "tri", N: 128, Length: 2e6},
+		{Kind: "icosahedral", N: 6},
+		{Kind: "cubed", N: 64},
+	} {
 		for _, w := range []int{1, 2} {
-			b.Run(fmt.Sprintf("%s-n%d-rk3-trisk-energy-w%d", c.kind, c.n, w), func(b *testing.B) {
+			b.Run(fmt.Sprintf("%s-n%d-rk3-trisk-energy-w%d", g.Kind, g.N, w), func(b *testing.B) {
 				cfg := DefaultConfig()
-				cfg.Grid = GridConfig{Kind: c.kind, N: c.n, Length: 1e6 * float64(c.n) / 64}
-				if c.kind == "icosahedral" || c.kind == "cubed" {
-					cfg.Grid.Length = 0
+				cfg.Grid = g
+				if g.Kind == "icosahedral" || g.Kind == "cubed" {
 					cfg.Initial.Case = "williamson-2"
 				}
 				cfg.Time.Dt = 30
