@@ -94,10 +94,8 @@ func newSquare(name string, g ops.Grid, phys Physics, pool *par.Pool) *square {
 	switch name {
 	case AL81:
 		s.phaseMomentum = s.momentumAL81
-	case SadournyEnergy:
-		s.phaseMomentum = s.momentumEnergy
 	default:
-		s.phaseMomentum = s.momentumEnstrophy
+		s.phaseMomentum = s.momentumSadourny
 	}
 	return s
 }
@@ -164,26 +162,25 @@ func (s *square) northSouth(e int) (qn, qs float64) {
 	return s.q[c[0]], s.q[c[3]]
 }
 
-func (s *square) momentumEnergy(lo, hi int) {
+// momentumSadourny is the momentum pass of both Sadourny schemes: the
+// energy one weights each end's pair of cross fluxes with that end's q,
+// the enstrophy one all four with their mean (the branch is the same for
+// every edge of a pass).
+func (s *square) momentumSadourny(lo, hi int) {
 	du := s.dst[s.nc:]
 	fk := s.fk
 	cells := s.g.EdgeCells
+	enstrophy := s.name == SadournyEnstrophy
 	for e := lo; e < hi; e++ {
 		qn, qs := s.northSouth(e)
 		nb, sg := &s.nb[e], &s.sg[e]
-		du[e] = 0.25*(qn*(sg[0]*fk[nb[0]][0]+sg[1]*fk[nb[1]][0])+qs*(sg[2]*fk[nb[2]][0]+sg[3]*fk[nb[3]][0])) -
-			(s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
-	}
-}
-
-func (s *square) momentumEnstrophy(lo, hi int) {
-	du := s.dst[s.nc:]
-	fk := s.fk
-	cells := s.g.EdgeCells
-	for e := lo; e < hi; e++ {
-		qn, qs := s.northSouth(e)
-		nb, sg := &s.nb[e], &s.sg[e]
-		du[e] = 0.125*(qn+qs)*(sg[0]*fk[nb[0]][0]+sg[1]*fk[nb[1]][0]+sg[2]*fk[nb[2]][0]+sg[3]*fk[nb[3]][0]) -
-			(s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
+		vne, vnw, vsw, vse := sg[0]*fk[nb[0]][0], sg[1]*fk[nb[1]][0], sg[2]*fk[nb[2]][0], sg[3]*fk[nb[3]][0]
+		var qv float64
+		if enstrophy {
+			qv = 0.125 * (qn + qs) * (vne + vnw + vsw + vse)
+		} else {
+			qv = 0.25 * (qn*(vne+vnw) + qs*(vsw+vse))
+		}
+		du[e] = qv - (s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
 	}
 }
