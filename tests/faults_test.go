@@ -6,7 +6,6 @@ import (
 	"context"
 	"encoding/csv"
 	"encoding/json"
-	"encoding/xml"
 	"errors"
 	"fmt"
 	"image/png"
@@ -24,6 +23,7 @@ import (
 	"testing"
 	"time"
 
+	"gyrebench/internal/svgtest"
 	"gyrebench/server"
 	"gyrebench/sim/batch"
 	"gyrebench/sim/ncout"
@@ -268,16 +268,8 @@ func checkComplete(t *testing.T, ncdump, path string) {
 			t.Errorf("%s: %v", path, err)
 		}
 	case strings.HasSuffix(name, ".svg"):
-		d := xml.NewDecoder(bytes.NewReader(b))
-		for {
-			_, err := d.Token()
-			if err == io.EOF {
-				break
-			}
-			if err != nil {
-				t.Errorf("%s: %v", path, err)
-				break
-			}
+		if _, _, err := svgtest.Parse(b); err != nil {
+			t.Errorf("%s: %v", path, err)
 		}
 		if !bytes.Contains(b, []byte("</svg>")) {
 			t.Errorf("%s: no closing </svg>", path)

@@ -4,11 +4,9 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
-	"encoding/xml"
 	"errors"
 	"fmt"
 	"image/png"
-	"io"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -20,6 +18,7 @@ import (
 
 	"gonum.org/v1/gonum/stat"
 
+	"gyrebench/internal/svgtest"
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
 	"gyrebench/sim/diag"
@@ -236,7 +235,10 @@ func checkPlots(t *testing.T, dir string, names ...string) {
 				t.Errorf("%s: %v, want %d × %d", n, sz, PlotWidth, PlotHeight)
 			}
 		case ".svg":
-			root, texts := parseSVG(t, n, b)
+			root, texts, err := svgtest.Parse(b)
+			if err != nil {
+				t.Fatalf("%s: %v", n, err)
+			}
 			if root != "svg" {
 				t.Errorf("%s: root element %q, want svg", n, root)
 			}
@@ -245,33 +247,6 @@ func checkPlots(t *testing.T, dir string, names ...string) {
 			}
 		}
 	}
-}
-
-// parseSVG walks the whole document with encoding/xml and returns the
-// root element's name and the text content.
-func parseSVG(t *testing.T, name string, b []byte) (string, string) {
-	t.Helper()
-	d := xml.NewDecoder(bytes.NewReader(b))
-	root := ""
-	var text strings.Builder
-	for {
-		tok, err := d.Token()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			t.Fatalf("%s: %v", name, err)
-		}
-		switch e := tok.(type) {
-		case xml.StartElement:
-			if root == "" {
-				root = e.Name.Local
-			}
-		case xml.CharData:
-			text.Write(e)
-		}
-	}
-	return root, text.String()
 }
 
 // Steady geostrophic flow after one hour on quad and hex, n = 8, 16, 32:
