@@ -50,17 +50,28 @@ func (s *Session) load(c Load, res *Result) error {
 	return nil
 }
 
-func (s *Session) setScheme(c SetScheme, res *Result) error {
-	cfg := s.m.Config()
-	if c.Name == cfg.Scheme.Name {
+// switchName is a switch of a choice known by name (the scheme, the Hodge
+// star, the integrator): nothing when name is the one in use (now),
+// check's refusal when it refuses name, else the change that set makes,
+// with a marker that reads label + name.
+func (s *Session) switchName(res *Result, kind, label, name, now string, check, set func() error, event func() timeline.Event) error {
+	if name == now {
 		return nil
 	}
-	try := cfg
-	try.Scheme.Name = c.Name
-	if err := try.Validate(); err != nil {
-		return refuseErr("scheme.name", c.Name, err)
+	if err := check(); err != nil {
+		return err
 	}
-	return s.change(res, "scheme", "scheme: "+c.Name,
+	return s.change(res, kind, label+name, set, event)
+}
+
+func (s *Session) setScheme(c SetScheme, res *Result) error {
+	cfg := s.m.Config()
+	return s.switchName(res, "scheme", "scheme: ", c.Name, cfg.Scheme.Name,
+		func() error {
+			try := cfg
+			try.Scheme.Name = c.Name
+			return engine("scheme.name", c.Name, try.Validate())
+		},
 		func() error { return engine("scheme.name", c.Name, s.m.SetScheme(c.Name)) },
 		func() timeline.Event {
 			return timeline.Event{Cmd: timeline.SetScheme, Scheme: s.m.Config().Scheme.Name}
@@ -70,14 +81,14 @@ func (s *Session) setScheme(c SetScheme, res *Result) error {
 // setHodge switches the edge Hodge star on the same state
 // (sim.Model.SetHodge).
 func (s *Session) setHodge(c SetHodge, res *Result) error {
-	if c.Name == HodgeName(s.m.Config().Scheme.Hodge) {
-		return nil
-	}
-	if !contains(HodgeStars(), c.Name) {
-		return refuse("scheme.hodge", c.Name, "scheme.hodge = %q: unknown Hodge star; allowed: %s (the two are the same where the dual is orthogonal)",
-			c.Name, strings.Join(HodgeStars(), ", "))
-	}
-	return s.change(res, "hodge", "Hodge star: "+c.Name,
+	return s.switchName(res, "hodge", "Hodge star: ", c.Name, HodgeName(s.m.Config().Scheme.Hodge),
+		func() error {
+			if !contains(HodgeStars(), c.Name) {
+				return refuse("scheme.hodge", c.Name, "scheme.hodge = %q: unknown Hodge star; allowed: %s (the two are the same where the dual is orthogonal)",
+					c.Name, strings.Join(HodgeStars(), ", "))
+			}
+			return nil
+		},
 		func() error { return engine("scheme.hodge", c.Name, s.m.SetHodge(c.Name)) },
 		func() timeline.Event {
 			return timeline.Event{Cmd: timeline.SetHodge, Hodge: HodgeName(s.m.Config().Scheme.Hodge)}
@@ -85,13 +96,11 @@ func (s *Session) setHodge(c SetHodge, res *Result) error {
 }
 
 func (s *Session) setIntegrator(c SetIntegrator, res *Result) error {
-	if c.Name == s.m.Config().Time.Integrator {
-		return nil
-	}
-	if _, err := step.New(c.Name, 0, step.Options{}); err != nil {
-		return refuseErr("time.integrator", c.Name, err)
-	}
-	return s.change(res, "integrator", "integrator: "+c.Name,
+	return s.switchName(res, "integrator", "integrator: ", c.Name, s.m.Config().Time.Integrator,
+		func() error {
+			_, err := step.New(c.Name, 0, step.Options{})
+			return engine("time.integrator", c.Name, err)
+		},
 		func() error { return engine("time.integrator", c.Name, s.m.SetIntegrator(c.Name)) },
 		func() timeline.Event {
 			return timeline.Event{Cmd: timeline.SetIntegrator, Integrator: s.m.Config().Time.Integrator}
@@ -212,7 +221,8 @@ func (s *Session) setDissipation(c SetDissipation, res *Result) error {
 		})
 }
 
-// engine turns an engine's refusal into an *Error.
+// engine turns a refusal of the engine (or of the check of a choice)
+// into an *Error; nil stays nil.
 func engine(field, value string, err error) error {
 	if err == nil {
 		return nil
