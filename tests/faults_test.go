@@ -23,9 +23,9 @@ import (
 	"testing"
 	"time"
 
-	"gyrebench/internal/svgtest"
 	"gyrebench/server"
 	"gyrebench/sim/batch"
+	"gyrebench/sim/figure/figuretest"
 	"gyrebench/sim/ncout"
 	"gyrebench/sim/scenario"
 	"gyrebench/sim/timeline"
@@ -268,7 +268,7 @@ func checkComplete(t *testing.T, ncdump, path string) {
 			t.Errorf("%s: %v", path, err)
 		}
 	case strings.HasSuffix(name, ".svg"):
-		if _, _, err := svgtest.Parse(b); err != nil {
+		if _, _, err := figuretest.Parse(b); err != nil {
 			t.Errorf("%s: %v", path, err)
 		}
 		if !bytes.Contains(b, []byte("</svg>")) {

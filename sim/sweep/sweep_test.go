@@ -18,10 +18,10 @@ import (
 
 	"gonum.org/v1/gonum/stat"
 
-	"gyrebench/internal/svgtest"
 	"gyrebench/sim"
 	"gyrebench/sim/batch"
 	"gyrebench/sim/diag"
+	"gyrebench/sim/figure/figuretest"
 	"gyrebench/sim/internal/testcheck"
 )
 
@@ -235,7 +235,7 @@ func checkPlots(t *testing.T, dir string, names ...string) {
 				t.Errorf("%s: %v, want %d × %d", n, sz, PlotWidth, PlotHeight)
 			}
 		case ".svg":
-			root, texts, err := svgtest.Parse(b)
+			root, texts, err := figuretest.Parse(b)
 			if err != nil {
 				t.Fatalf("%s: %v", n, err)
 			}

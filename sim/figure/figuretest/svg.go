@@ -1,8 +1,10 @@
-// Package svgtest reads an SVG document the way the tests of every
-// package check one: the whole document through encoding/xml. It is
-// imported by tests only, from sim's packages and from the end-to-end
-// tests alike (which sim/internal may not serve).
-package svgtest
+// Package figuretest provides utilities for testing figures, in the
+// manner of net/http/httptest: it reads an SVG document the way the tests
+// of every package check one, the whole document through encoding/xml.
+// It is imported by tests only, from sim's packages and from the
+// end-to-end tests in tests/ alike (which a sim/internal package may not
+// serve).
+package figuretest
 
 import (
 	"bytes"

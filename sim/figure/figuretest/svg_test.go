@@ -1,4 +1,4 @@
-package svgtest
+package figuretest
 
 import (
 	"strings"
