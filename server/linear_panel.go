@@ -60,11 +60,14 @@ func panelOn(raw json.RawMessage, name, what string, active *bool, changed func(
 }
 
 // background runs work on its own goroutine at the lowest priority (the
-// run and its watchers come first) and applies the closure it returns on
-// the actor's goroutine, unless ctx ended first.
+// run and its watchers come first; Options.AnalysisAtNormalPriority keeps
+// it at normal priority) and applies the closure it returns on the
+// actor's goroutine, unless ctx ended first.
 func (v *view) background(ctx context.Context, work func(context.Context) func()) {
 	go func() {
-		lowPriority()
+		if !v.analysisNormal {
+			lowPriority()
+		}
 		if apply := work(ctx); ctx.Err() == nil {
 			v.post(apply)
 		}

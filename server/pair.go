@@ -115,7 +115,7 @@ func newPair(ctx context.Context, id, scenario string, cfg [2]sim.Config, lim ru
 	}
 	for i, s := range ss {
 		label := fmt.Sprintf("pair %s %s", id, strings.ToUpper(sideNames[i]))
-		p.side[i] = newView(ctx, id+sideNames[i], s, helloMsg(label), lim.frameEvery, p.post(ctx))
+		p.side[i] = newView(ctx, id+sideNames[i], s, helloMsg(label), lim, p.post(ctx))
 	}
 	p.checkGrid()
 	p.publishInfo()

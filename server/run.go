@@ -37,8 +37,9 @@ type RunInfo = web.RunInfo
 
 // runLimits are the server's settings every session is built with.
 type runLimits struct {
-	session    session.Options
-	frameEvery time.Duration // least time between two field frames
+	session        session.Options
+	frameEvery     time.Duration // least time between two field frames
+	analysisNormal bool          // Options.AnalysisAtNormalPriority
 }
 
 // Run is one session and its watchers, owned by its actor's goroutine.
@@ -56,7 +57,7 @@ func newRun(ctx context.Context, id, scenario string, cfg sim.Config, lim runLim
 		return nil, err
 	}
 	r := &Run{actor: newActor(), id: id}
-	r.v = newView(ctx, id, s, helloMsg(id), lim.frameEvery, r.post(ctx))
+	r.v = newView(ctx, id, s, helloMsg(id), lim, r.post(ctx))
 	go r.loop(ctx, r)
 	return r, nil
 }

@@ -61,6 +61,13 @@ type Options struct {
 	// ControlKey is the key of the control URL, at least MinControlKey
 	// characters; "" = a random one (crypto/rand).
 	ControlKey string
+	// AnalysisAtNormalPriority runs the linear analysis and the structure
+	// report at the run's own CPU priority instead of the lowest (nice
+	// 19). At nice 19 they take only the time other work leaves idle,
+	// which is what a workbench wants beside its runs, but on a machine
+	// kept busy by other programs they may wait for minutes; tests, which
+	// wait for their results beside other CPU-bound work, set it.
+	AnalysisAtNormalPriority bool
 }
 
 // DefaultAddr is where Serve listens when Options.Addr is empty.
@@ -112,7 +119,7 @@ type staticFile struct {
 
 // runLimits are the settings every run is built with.
 func (s *Server) runLimits() runLimits {
-	return runLimits{session: session.Options{Workers: s.opt.Workers, RingSize: s.opt.RingSize}, frameEvery: time.Second / time.Duration(s.opt.MaxFPS)}
+	return runLimits{session: session.Options{Workers: s.opt.Workers, RingSize: s.opt.RingSize}, frameEvery: time.Second / time.Duration(s.opt.MaxFPS), analysisNormal: s.opt.AnalysisAtNormalPriority}
 }
 
 // New builds the workbench and its first run. It does not listen; use it

@@ -27,7 +27,10 @@ type view struct {
 	id         string
 	hello      outMsg
 	frameEvery time.Duration // least time between two field frames
-	ctx        context.Context
+	// analysisNormal keeps background analysis at normal CPU priority
+	// (Options.AnalysisAtNormalPriority).
+	analysisNormal bool
+	ctx            context.Context
 	// post runs fn on the actor's goroutine later: the results of
 	// background work (the panels).
 	post func(fn func()) bool
@@ -51,9 +54,9 @@ type view struct {
 	skipped                          int64 // frames replaced unsent, all watchers together
 }
 
-func newView(ctx context.Context, id string, s *session.Session, hello []byte, frameEvery time.Duration, post func(func()) bool) *view {
+func newView(ctx context.Context, id string, s *session.Session, hello []byte, lim runLimits, post func(func()) bool) *view {
 	v := &view{
-		s: s, id: id, hello: outMsg{typ: textMsg, data: hello}, frameEvery: frameEvery, ctx: ctx, post: post,
+		s: s, id: id, hello: outMsg{typ: textMsg, data: hello}, frameEvery: lim.frameEvery, analysisNormal: lim.analysisNormal, ctx: ctx, post: post,
 		field: display.Fields()[0], subs: map[*subscriber]struct{}{}, frames: make(chan *frame, 4), born: time.Now(),
 	}
 	v.lin.init()
