@@ -33,7 +33,7 @@ const (
 )
 
 // WatchHint is what a viewer is told when it tries to change something.
-const WatchHint = "this page is watching: open the control URL printed by `gyrebench serve` to drive the run"
+const WatchHint = "this page is watching: open the control URL printed by `gyrebench serve` to drive the workbench"
 
 // readOnly reports whether a viewer may send websocket command cmd: each
 // such command turns on a panel that only computes what the page shows

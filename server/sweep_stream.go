@@ -26,7 +26,11 @@ func (sw *sweeps) servePage(w http.ResponseWriter, req *http.Request) {
 	if j == nil {
 		return
 	}
-	render(w, req, web.SweepPage(web.SweepPageOf(j.Status())))
+	v := web.SweepPageOf(j.Status())
+	if !sw.s.roles.controls(req) {
+		v.Watching, v.WatchHint = true, WatchHint
+	}
+	render(w, req, web.SweepPage(v))
 }
 
 func (sw *sweeps) serveResults(w http.ResponseWriter, req *http.Request) {

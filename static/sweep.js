@@ -14,6 +14,8 @@ const el = {
   meter: q('sweep-meter'), message: q('sweep-message'), stop: q('sweep-stop'), runs: q('sweep-runs'),
   results: q('sweep-results'),
 };
+// A viewer of a shared workbench (server/roles.go) may not stop the sweep.
+const watching = 'watching' in root.dataset;
 const ENDED = new Set(['finished', 'stopped', 'failed']);
 const RUN_FILES = ['summary.json', 'series.csv', 'final.nc', 'recipe.toml'];
 
@@ -90,7 +92,7 @@ function update(info) {
   el.message.dataset.state = info.state;
   clock = { base: info.elapsed_s, at: performance.now(), running: !ENDED.has(info.state) };
   el.elapsed.textContent = fmtWall(info.elapsed_s);
-  el.stop.disabled = info.state !== 'running';
+  el.stop.disabled = watching || info.state !== 'running';
   for (const r of info.runs) {
     const tr = el.runs.querySelector(`tr[data-run="${r.index}"]`);
     if (tr) updateRun(tr, r);
@@ -126,6 +128,6 @@ el.stop.form.addEventListener('submit', async (ev) => {
   } catch (err) {
     el.message.hidden = false;
     el.message.textContent = `Stop was refused: ${err.message}`;
-    el.stop.disabled = false;
+    el.stop.disabled = watching;
   }
 });

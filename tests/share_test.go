@@ -183,6 +183,34 @@ func TestShareRoles(t *testing.T) {
 	if code, body := post(t, presenter, base, "/runs", url.Values{"scenario": {"dipole"}}); code != http.StatusSeeOther {
 		t.Errorf("POST /runs with the cookie: %d %q, want 303", code, body)
 	}
+
+	// A sweep's page: the viewer sees the watching chip and a Stop it
+	// cannot press; the presenter's page has no chip.
+	if code, body := post(t, presenter, base, "/sweeps", url.Values{"scenario": {"dipole"}, "vary": {"time.integrator=rk3,rk4"}}); code != http.StatusSeeOther {
+		t.Fatalf("POST /sweeps with the cookie: %d %q, want 303", code, body)
+	}
+	page := func(hc *http.Client) string {
+		t.Helper()
+		resp, err := hc.Get(base + "/sweep/1")
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer resp.Body.Close()
+		b, _ := io.ReadAll(resp.Body)
+		if resp.StatusCode != http.StatusOK {
+			t.Fatalf("GET /sweep/1: %s %q", resp.Status, b)
+		}
+		return string(b)
+	}
+	if v := page(anon); !strings.Contains(v, `data-role="sweep-stop" disabled`) || !strings.Contains(v, `data-role="role-chip">watching<`) || !strings.Contains(v, "control URL") {
+		t.Errorf("viewer's sweep page lacks the disabled Stop, the watching chip or the hint:\n%s", v)
+	}
+	if v := page(presenter); strings.Contains(v, `data-role="role-chip"`) {
+		t.Errorf("presenter's sweep page shows the watching chip")
+	}
+	if code, body := post(t, presenter, base, "/sweep/1/stop", url.Values{}); code != http.StatusSeeOther {
+		t.Errorf("presenter's stop: %d %q, want 303", code, body)
+	}
 }
 
 // TestShareRoleOptions: a control key too short is refused with a message
