@@ -44,10 +44,16 @@ type Model struct {
 	tendS, tendD []float64      // scratch of Rates
 	scale        *dissip.GridScale
 
-	x     []float64 // state [h | u]
-	good  []float64 // the state before the step in progress, when rewind is nil
-	time  float64
-	steps int64
+	x    []float64 // state [h | u]
+	good []float64 // the state before the step in progress, when rewind is nil
+
+	// blockBad[k] is whether block k of x failed the last check; checkFn
+	// and keepFn are the pool's loop bodies for the check and for copying
+	// x into good, built once so that a step allocates nothing.
+	blockBad        []bool
+	checkFn, keepFn func(lo, hi int)
+	time            float64
+	steps           int64
 
 	calc     *diag.Calculator
 	initial  diag.Invariants
@@ -360,7 +366,7 @@ func (m *Model) SetDt(dt float64) error {
 // was and a *BlowUpError is returned.
 func (m *Model) Step() error {
 	if m.rewind == nil {
-		copy(m.good, m.x)
+		m.pool.For(len(m.x), m.keepFn)
 	}
 	if m.staged != nil && m.stager != nil {
 		m.staged.StepStaged(m.stager, m.x, m.cfg.Time.Dt)
@@ -382,46 +388,104 @@ func (m *Model) Step() error {
 	return nil
 }
 
-// check returns the first bad value of the state, or nil. It scans blocks
-// without a branch per value and looks for the culprit only in a block
-// that failed: the scan runs after every step.
+// checkBlock is the number of values check scans as one block.
+const checkBlock = 512
+
+// check returns the first bad value of the state, or nil. It runs after
+// every step, on the pool: each block is scanned without a branch per
+// value, and the culprit is looked for only in the first block that
+// failed. Before the pool exists (the initial state) it runs serially.
 func (m *Model) check() *BlowUpError {
-	nc := m.mesh.NumCells
-	const block = 512
-	h, u := m.x[:nc], m.x[nc:]
-	for lo := 0; lo < len(h); lo += block {
-		b := h[lo:min(lo+block, len(h))]
-		// min catches h ≤ 0 and −Inf, the sum of h − h a NaN or +Inf.
-		low, nan := math.Inf(1), 0.0
-		for _, v := range b {
-			low = min(low, v)
-			nan += v - v
-		}
-		if low > 0 && nan == 0 {
-			continue
-		}
-		for i, v := range b {
-			if !(v > 0 && v <= math.MaxFloat64) {
-				return &BlowUpError{Cell: lo + i, Edge: -1, Value: v}
-			}
-		}
+	nb := m.depthBlocks() + (len(m.x)-m.mesh.NumCells+checkBlock-1)/checkBlock
+	if len(m.blockBad) != nb {
+		m.blockBad = make([]bool, nb)
+		m.checkFn = m.checkBlocks
+		m.keepFn = func(lo, hi int) { copy(m.good[lo:hi], m.x[lo:hi]) }
 	}
-	for lo := 0; lo < len(u); lo += block {
-		b := u[lo:min(lo+block, len(u))]
-		nan := 0.0
-		for _, v := range b {
-			nan += v - v // NaN for NaN and ±Inf, else 0
-		}
-		if nan == 0 {
-			continue
-		}
-		for e, v := range b {
-			if v-v != 0 {
-				return &BlowUpError{Cell: -1, Edge: lo + e, Value: v}
-			}
+	if m.pool != nil {
+		m.pool.For(nb, m.checkFn)
+	} else {
+		m.checkBlocks(0, nb)
+	}
+	for k, bad := range m.blockBad {
+		if bad {
+			return m.culprit(k)
 		}
 	}
 	return nil
+}
+
+// depthBlocks is the number of blocks of the depths; the velocities' blocks
+// follow them.
+func (m *Model) depthBlocks() int { return (m.mesh.NumCells + checkBlock - 1) / checkBlock }
+
+// block returns the values of block k and whether they are depths.
+func (m *Model) block(k int) (lo int, b []float64, depth bool) {
+	nc, nh := m.mesh.NumCells, m.depthBlocks()
+	if k < nh {
+		lo = k * checkBlock
+		return lo, m.x[lo:min(lo+checkBlock, nc)], true
+	}
+	lo = nc + (k-nh)*checkBlock
+	return lo, m.x[lo:min(lo+checkBlock, len(m.x))], false
+}
+
+// checkBlocks marks the blocks in [lo, hi) that hold a bad value.
+func (m *Model) checkBlocks(lo, hi int) {
+	for k := lo; k < hi; k++ {
+		_, b, depth := m.block(k)
+		if depth {
+			m.blockBad[k] = !allPositive(b)
+		} else {
+			m.blockBad[k] = !allFinite(b)
+		}
+	}
+}
+
+// culprit is the first bad value in block k, which failed the check.
+func (m *Model) culprit(k int) *BlowUpError {
+	lo, b, depth := m.block(k)
+	for i, v := range b {
+		if depth && !(v > 0 && v <= math.MaxFloat64) {
+			return &BlowUpError{Cell: lo + i, Edge: -1, Value: v}
+		}
+		if !depth && v-v != 0 {
+			return &BlowUpError{Cell: -1, Edge: lo + i - m.mesh.NumCells, Value: v}
+		}
+	}
+	return nil // not reached: the block failed the check
+}
+
+// allPositive reports whether every value of b is positive and finite.
+// The minimum catches v ≤ 0 and −Inf, the sum of v − v a NaN or +Inf; four
+// independent lanes keep the additions from waiting on each other.
+func allPositive(b []float64) bool {
+	l0, l1, l2, l3 := math.Inf(1), math.Inf(1), math.Inf(1), math.Inf(1)
+	var n0, n1, n2, n3 float64
+	i := 0
+	for ; i+4 <= len(b); i += 4 {
+		v0, v1, v2, v3 := b[i], b[i+1], b[i+2], b[i+3]
+		l0, l1, l2, l3 = min(l0, v0), min(l1, v1), min(l2, v2), min(l3, v3)
+		n0, n1, n2, n3 = n0+(v0-v0), n1+(v1-v1), n2+(v2-v2), n3+(v3-v3)
+	}
+	for ; i < len(b); i++ {
+		l0, n0 = min(l0, b[i]), n0+(b[i]-b[i])
+	}
+	return min(l0, l1, l2, l3) > 0 && n0+n1+n2+n3 == 0
+}
+
+// allFinite reports whether every value of b is finite: v − v is NaN for
+// NaN and ±Inf, else 0.
+func allFinite(b []float64) bool {
+	var n0, n1, n2, n3 float64
+	i := 0
+	for ; i+4 <= len(b); i += 4 {
+		n0, n1, n2, n3 = n0+(b[i]-b[i]), n1+(b[i+1]-b[i+1]), n2+(b[i+2]-b[i+2]), n3+(b[i+3]-b[i+3])
+	}
+	for ; i < len(b); i++ {
+		n0 += b[i] - b[i]
+	}
+	return n0+n1+n2+n3 == 0
 }
 
 // SetState replaces the state (for example from a ring buffer of earlier

@@ -8,11 +8,18 @@ import (
 
 // The blow-up scan reports the first bad value: a non-positive or
 // non-finite depth, else a non-finite velocity, wherever it sits in its
-// block, and nothing for a good state.
+// block and in whichever of the scan's four lanes, with any number of
+// workers, and nothing for a good state.
 func TestCheckFindsFirstBadValue(t *testing.T) {
+	for _, w := range []int{1, 2, 3} {
+		checkFindsFirstBadValue(t, w)
+	}
+}
+
+func checkFindsFirstBadValue(t *testing.T, workers int) {
 	cfg := DefaultConfig()
 	cfg.Grid = GridConfig{Kind: "hex", N: 32, Length: 1e6}
-	m := mustModel(t, cfg, 1)
+	m := mustModel(t, cfg, workers)
 	nc := m.Mesh().NumCells
 	good := append([]float64(nil), m.State()...)
 	type bad struct {
@@ -29,6 +36,9 @@ func TestCheckFindsFirstBadValue(t *testing.T) {
 		{"negative zero depth", []bad{{3, math.Copysign(0, -1)}}, 3, -1},
 		{"negative depth", []bad{{nc - 1, -1}}, nc - 1, -1},
 		{"NaN depth", []bad{{513, math.NaN()}}, 513, -1},
+		{"NaN depth, third lane", []bad{{514, math.NaN()}}, 514, -1},
+		{"zero depth, fourth lane", []bad{{519, 0}}, 519, -1},
+		{"infinite velocity, second lane", []bad{{nc + 2049, math.Inf(1)}}, -1, 2049},
 		{"infinite depth", []bad{{0, math.Inf(1)}}, 0, -1},
 		{"minus infinite depth", []bad{{600, math.Inf(-1)}}, 600, -1},
 		{"NaN velocity", []bad{{nc + 1000, math.NaN()}}, -1, 1000},
@@ -47,12 +57,12 @@ func TestCheckFindsFirstBadValue(t *testing.T) {
 		switch {
 		case c.cell < 0 && c.edge < 0:
 			if got != nil {
-				t.Errorf("%s: got %v, want no error", c.name, got)
+				t.Errorf("%d workers, %s: got %v, want no error", workers, c.name, got)
 			}
 		case got == nil:
-			t.Errorf("%s: no error, want cell %d edge %d", c.name, c.cell, c.edge)
+			t.Errorf("%d workers, %s: no error, want cell %d edge %d", workers, c.name, c.cell, c.edge)
 		case got.Cell != c.cell || got.Edge != c.edge:
-			t.Errorf("%s: got cell %d edge %d, want cell %d edge %d", c.name, got.Cell, got.Edge, c.cell, c.edge)
+			t.Errorf("%d workers, %s: got cell %d edge %d, want cell %d edge %d", workers, c.name, got.Cell, got.Edge, c.cell, c.edge)
 		}
 	}
 	copy(m.x, good)
@@ -135,4 +145,24 @@ func steppedModel(t *testing.T, cfg Config, workers, n int) *Model {
 		}
 	}
 	return m
+}
+
+// A step, its blow-up check and the copy it keeps of the last good state
+// allocate nothing, with one worker or several.
+func TestStepAllocatesNothing(t *testing.T) {
+	for _, integ := range []string{"rk3", "rk4", "leapfrog", "euler"} {
+		for _, w := range []int{1, 2} {
+			cfg := DefaultConfig()
+			cfg.Grid = GridConfig{Kind: "hex", N: 16, Length: 1e6}
+			cfg.Time.Integrator = integ
+			m := mustModel(t, cfg, w)
+			if a := testing.AllocsPerRun(20, func() {
+				if err := m.Step(); err != nil {
+					t.Fatal(err)
+				}
+			}); a != 0 {
+				t.Errorf("%s, %d workers: %v allocations per step, want 0", integ, w, a)
+			}
+		}
+	}
 }
