@@ -44,16 +44,16 @@ type Model struct {
 	tendS, tendD []float64      // scratch of Rates
 	scale        *dissip.GridScale
 
-	x    []float64 // state [h | u]
-	good []float64 // the state before the step in progress, when rewind is nil
+	x     []float64 // state [h | u]
+	good  []float64 // the state before the step in progress, when rewind is nil
+	time  float64
+	steps int64
 
 	// blockBad[k] is whether block k of x failed the last check; checkFn
 	// and keepFn are the pool's loop bodies for the check and for copying
 	// x into good, built once so that a step allocates nothing.
 	blockBad        []bool
 	checkFn, keepFn func(lo, hi int)
-	time            float64
-	steps           int64
 
 	calc     *diag.Calculator
 	initial  diag.Invariants
