@@ -23,7 +23,13 @@ func stateHash(x []float64) uint64 {
 // On grids whose dual is orthogonal both Hodge choices take the diagonal
 // fast path, and the state after 20 steps is bit for bit what the code
 // gave before the general Hodge star existed (hashes recorded from that
-// version, for one worker).
+// version, for one worker). The icosahedral hash was recorded again when
+// that mesh was renumbered for locality, which changes the order of the
+// sums: the renumbered runs agreed with the old ones to round-off (case 2
+// of Williamson et al. 1992 at level 4, 100 steps of 600 s:
+// Σ A (h − h_exact)² / Σ A h_exact² was 1.266401689942676e-06 against
+// 1.266401689942668e-06 for trisk-energy, and the same to 14 digits for
+// apvm).
 func TestOrthogonalGridsUnchanged(t *testing.T) {
 	for _, c := range []struct {
 		kind   string
@@ -35,7 +41,7 @@ func TestOrthogonalGridsUnchanged(t *testing.T) {
 		{"quad", 16, scheme.TRiSKEnergy, 0xad84a9463cb783d1},
 		{"quad", 16, scheme.TRiSKEnstrophy, 0xd8688a73dd736719},
 		{"quad", 16, scheme.AL81, 0x31c7bffc3d12e71d},
-		{"icosahedral", 3, scheme.APVM, 0x7b5725331b93646f},
+		{"icosahedral", 3, scheme.APVM, 0x1c04a4ad05605182},
 	} {
 		for _, hodge := range scheme.HodgeNames {
 			cfg := DefaultConfig()

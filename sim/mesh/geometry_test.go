@@ -33,14 +33,7 @@ func maxAbs(a []float64) float64 {
 // icosahedral mesh as its generator computes them (dividing the stored
 // metres by the radius would round them again).
 func icosahedralPoints(m *Mesh, opt string) (x, p []vec3) {
-	tr := icosahedron()
-	for l := 0; l < m.N; l++ {
-		if opt == OptimizeLloyd {
-			t := voronoiTopology(tr)
-			lloyd(&t, tr, tr.pt)
-		}
-		tr = tr.bisect()
-	}
+	tr := bisected(m.N, opt)
 	if opt == OptimizeLloyd {
 		t := voronoiTopology(tr)
 		lloyd(&t, tr, tr.pt)

@@ -383,9 +383,12 @@ func cellSlots(g ops.Grid, invArea []float64) []cellSlot {
 	return out
 }
 
-// sgn is the sign of a side's flux: multiplying by it is exact and avoids
-// a branch that the orientation pattern makes unpredictable.
-var sgn = [2]float64{1, -1}
+// quarterSign is a quarter of the sign of a side's flux. Multiplying by
+// it is exact and avoids a branch that the orientation pattern makes
+// unpredictable; the quarter makes the halvings of the cell sums exact
+// scalings of the kernels' inputs instead of multiplications in them (see
+// doCells).
+var quarterSign = [2]float64{0.25, -0.25}
 
 // cellRange returns what a cell kernel reads for the cells [lo, hi): the
 // depths (to replace, in a stage), 1/A, where ∂h/∂t goes (nil in a stage)
@@ -428,13 +431,14 @@ func (s *trisk) setDepth(h, dh, x0 []float64, i int, f float64) {
 	h[i] = stageValue(h[i], x0[i], f, s.stageA, s.stageB, s.stageDt)
 }
 
-// share is T^i_e for edge e of cell i from q_e, the cell's sums G[F]
-// and G[qF] and Φ_i.
+// share is T^i_e for edge e of cell i from q_e, half the cell's sums
+// G[F] and G[qF], and Φ_i.
 func share(enst bool, qe, ga, gb, phi float64) float64 {
 	if enst {
-		return qe*ga + phi
+		p := qe * ga
+		return (p + p) + phi
 	}
-	return 0.5*(qe*ga+gb) + phi
+	return (qe*ga + gb) + phi
 }
 
 // cells6 is cellsAny for hexagons, written out for six edges: the same
@@ -454,7 +458,7 @@ func (s *trisk) cells6(lo, hi int) {
 		q5, q0, q1, q2, q3, q4 := q[sl[5].vert], q[sl[0].vert], q[sl[1].vert], q[sl[2].vert], q[sl[3].vert], q[sl[4].vert]
 		p0, p1, p2, p3, p4, p5 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1], &fk[s3>>1], &fk[s4>>1], &fk[s5>>1]
 		qe0, qe1, qe2, qe3, qe4, qe5 := 0.5*(q5+q0), 0.5*(q0+q1), 0.5*(q1+q2), 0.5*(q2+q3), 0.5*(q3+q4), 0.5*(q4+q5)
-		a0, a1, a2, a3, a4, a5 := sgn[s0&1]*p0[0], sgn[s1&1]*p1[0], sgn[s2&1]*p2[0], sgn[s3&1]*p3[0], sgn[s4&1]*p4[0], sgn[s5&1]*p5[0]
+		a0, a1, a2, a3, a4, a5 := quarterSign[s0&1]*p0[0], quarterSign[s1&1]*p1[0], quarterSign[s2&1]*p2[0], quarterSign[s3&1]*p3[0], quarterSign[s4&1]*p4[0], quarterSign[s5&1]*p5[0]
 		b0, b1, b2, b3, b4, b5 := qe0*a0, qe1*a1, qe2*a2, qe3*a3, qe4*a4, qe5*a5
 		r0, r1, r2, r3, r4 := sl[0].r, sl[1].r, sl[2].r, sl[3].r, sl[4].r
 		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
@@ -468,13 +472,14 @@ func (s *trisk) cells6(lo, hi int) {
 		tb := c1*b1 + c2*b2 + c3*b3 + c4*b4 + c5*b5
 		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1] + p4[1] + p5[1]
 		phi := s.bernoulli(h, invA, b, i, ke)
-		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
-		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
-		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
-		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
-		ga3, gb3 := ga2+(r2*sa-0.5*(a2+a3)), gb2+(r2*sb-0.5*(b2+b3))
-		ga4, gb4 := ga3+(r3*sa-0.5*(a3+a4)), gb3+(r3*sb-0.5*(b3+b4))
-		ga5, gb5 := ga4+(r4*sa-0.5*(a4+a5)), gb4+(r4*sb-0.5*(b4+b5))
+		ha, hb := sa+sa, sb+sb
+		s.setDepth(h, dh, x0, i, -((ha + ha) * invA[i]))
+		ga0, gb0 := (sa-a0)-(ta+ta), (sb-b0)-(tb+tb)
+		ga1, gb1 := ga0+(r0*ha-(a0+a1)), gb0+(r0*hb-(b0+b1))
+		ga2, gb2 := ga1+(r1*ha-(a1+a2)), gb1+(r1*hb-(b1+b2))
+		ga3, gb3 := ga2+(r2*ha-(a2+a3)), gb2+(r2*hb-(b2+b3))
+		ga4, gb4 := ga3+(r3*ha-(a3+a4)), gb3+(r3*hb-(b3+b4))
+		ga5, gb5 := ga4+(r4*ha-(a4+a5)), gb4+(r4*hb-(b4+b5))
 		tt[s0>>1][s0&1] = share(enst, qe0, ga0, gb0, phi)
 		tt[s1>>1][s1&1] = share(enst, qe1, ga1, gb1, phi)
 		tt[s2>>1][s2&1] = share(enst, qe2, ga2, gb2, phi)
@@ -497,7 +502,7 @@ func (s *trisk) cells4(lo, hi int) {
 		q3, q0, q1, q2 := q[sl[3].vert], q[sl[0].vert], q[sl[1].vert], q[sl[2].vert]
 		p0, p1, p2, p3 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1], &fk[s3>>1]
 		qe0, qe1, qe2, qe3 := 0.5*(q3+q0), 0.5*(q0+q1), 0.5*(q1+q2), 0.5*(q2+q3)
-		a0, a1, a2, a3 := sgn[s0&1]*p0[0], sgn[s1&1]*p1[0], sgn[s2&1]*p2[0], sgn[s3&1]*p3[0]
+		a0, a1, a2, a3 := quarterSign[s0&1]*p0[0], quarterSign[s1&1]*p1[0], quarterSign[s2&1]*p2[0], quarterSign[s3&1]*p3[0]
 		b0, b1, b2, b3 := qe0*a0, qe1*a1, qe2*a2, qe3*a3
 		r0, r1, r2 := sl[0].r, sl[1].r, sl[2].r
 		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
@@ -509,11 +514,12 @@ func (s *trisk) cells4(lo, hi int) {
 		tb := c1*b1 + c2*b2 + c3*b3
 		ke := 0.0 + p0[1] + p1[1] + p2[1] + p3[1]
 		phi := s.bernoulli(h, invA, b, i, ke)
-		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
-		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
-		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
-		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
-		ga3, gb3 := ga2+(r2*sa-0.5*(a2+a3)), gb2+(r2*sb-0.5*(b2+b3))
+		ha, hb := sa+sa, sb+sb
+		s.setDepth(h, dh, x0, i, -((ha + ha) * invA[i]))
+		ga0, gb0 := (sa-a0)-(ta+ta), (sb-b0)-(tb+tb)
+		ga1, gb1 := ga0+(r0*ha-(a0+a1)), gb0+(r0*hb-(b0+b1))
+		ga2, gb2 := ga1+(r1*ha-(a1+a2)), gb1+(r1*hb-(b1+b2))
+		ga3, gb3 := ga2+(r2*ha-(a2+a3)), gb2+(r2*hb-(b2+b3))
 		tt[s0>>1][s0&1] = share(enst, qe0, ga0, gb0, phi)
 		tt[s1>>1][s1&1] = share(enst, qe1, ga1, gb1, phi)
 		tt[s2>>1][s2&1] = share(enst, qe2, ga2, gb2, phi)
@@ -533,7 +539,7 @@ func (s *trisk) cells3(lo, hi int) {
 		q2, q0, q1 := q[sl[2].vert], q[sl[0].vert], q[sl[1].vert]
 		p0, p1, p2 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1]
 		qe0, qe1, qe2 := 0.5*(q2+q0), 0.5*(q0+q1), 0.5*(q1+q2)
-		a0, a1, a2 := sgn[s0&1]*p0[0], sgn[s1&1]*p1[0], sgn[s2&1]*p2[0]
+		a0, a1, a2 := quarterSign[s0&1]*p0[0], quarterSign[s1&1]*p1[0], quarterSign[s2&1]*p2[0]
 		b0, b1, b2 := qe0*a0, qe1*a1, qe2*a2
 		r0, r1 := sl[0].r, sl[1].r
 		c1 := r0 // C_0 = 0 drops out of every sum below, exactly
@@ -541,10 +547,11 @@ func (s *trisk) cells3(lo, hi int) {
 		sa, sb := 0.0+a0+a1+a2, 0.0+b0+b1+b2
 		ta, tb := c1*a1+c2*a2, c1*b1+c2*b2
 		phi := s.bernoulli(h, invA, b, i, 0.0+p0[1]+p1[1]+p2[1])
-		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
-		ga0, gb0 := 0.5*(sa-a0)-ta, 0.5*(sb-b0)-tb
-		ga1, gb1 := ga0+(r0*sa-0.5*(a0+a1)), gb0+(r0*sb-0.5*(b0+b1))
-		ga2, gb2 := ga1+(r1*sa-0.5*(a1+a2)), gb1+(r1*sb-0.5*(b1+b2))
+		ha, hb := sa+sa, sb+sb
+		s.setDepth(h, dh, x0, i, -((ha + ha) * invA[i]))
+		ga0, gb0 := (sa-a0)-(ta+ta), (sb-b0)-(tb+tb)
+		ga1, gb1 := ga0+(r0*ha-(a0+a1)), gb0+(r0*hb-(b0+b1))
+		ga2, gb2 := ga1+(r1*ha-(a1+a2)), gb1+(r1*hb-(b1+b2))
 		tt[s0>>1][s0&1] = share(enst, qe0, ga0, gb0, phi)
 		tt[s1>>1][s1&1] = share(enst, qe1, ga1, gb1, phi)
 		tt[s2>>1][s2&1] = share(enst, qe2, ga2, gb2, phi)
@@ -572,7 +579,7 @@ func (s *trisk) cellsAny(lo, hi int) {
 			if corr != nil {
 				qem -= corr[c.side>>1]
 			}
-			am := sgn[c.side&1] * p[0]
+			am := quarterSign[c.side&1] * p[0]
 			bm := qem * am
 			aa[m], bb[m], rr[m], qq[m] = am, bm, c.r, qem
 			sa += am
@@ -583,16 +590,18 @@ func (s *trisk) cellsAny(lo, hi int) {
 			cm += c.r
 		}
 		phi := s.bernoulli(h, invA, b, i, ke)
-		s.setDepth(h, dh, x0, i, -(sa * invA[i]))
-		// The cell's sums G_j = Σ_k w_{j,j+k} a_{j+k}, by
+		ha, hb := sa+sa, sb+sb
+		s.setDepth(h, dh, x0, i, -((ha + ha) * invA[i]))
+		// Half the cell's sums G_j = Σ_k w_{j,j+k} a_{j+k}, by
 		// G_0 = ½(A − a_0) − B and G_{j+1} = G_j + R_j A − ½(a_j + a_{j+1}),
-		// which follows from the closed form of ops.TRiSK.
-		ga := 0.5*(sa-aa[0]) - ta
-		gb := 0.5*(sb-bb[0]) - tb
+		// which follows from the closed form of ops.TRiSK, from a quarter of
+		// a, A and B.
+		ga := (sa - aa[0]) - (ta + ta)
+		gb := (sb - bb[0]) - (tb + tb)
 		for j, c := range sl {
 			if j > 0 {
-				ga += rr[j-1]*sa - 0.5*(aa[j-1]+aa[j])
-				gb += rr[j-1]*sb - 0.5*(bb[j-1]+bb[j])
+				ga += rr[j-1]*ha - (aa[j-1] + aa[j])
+				gb += rr[j-1]*hb - (bb[j-1] + bb[j])
 			}
 			tt[c.side>>1][c.side&1] = share(enst, qq[j], ga, gb, phi)
 		}
