@@ -93,8 +93,9 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 // q_v = (Σ_e t_{e,v} d_e u_e + f_v A_v) / Σ_i K_{i,v} h_i. It stores
 // t_{e,v} d_e per vertex slot, so that each edge costs one gather (u_e)
 // and no sign conversion; (t d) u equals t (d u) exactly, because t is
-// ±1. Vertices of three edges (hexagonal and icosahedral grids) take a
-// straight-line path with the same arithmetic.
+// ±1. Vertices of three, four and six edges (the vertices of the
+// hexagonal and icosahedral, the quadrilateral and cubed, and the
+// triangular grids) take straight-line paths with the same arithmetic.
 type PVStencil struct {
 	g  Grid
 	td []float64 // per vertex slot: t_{e,v} d_e
@@ -120,7 +121,8 @@ func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 		k0 := k1
 		k1 = int(start[lo+j+1])
 		var c, m float64
-		if k1-k0 == 3 {
+		switch k1 - k0 {
+		case 3:
 			es, cs := (*[3]int32)(edges[k0:k1]), (*[3]int32)(cells[k0:k1])
 			ts, ks := (*[3]float64)(td[k0:k1]), (*[3]float64)(kite[k0:k1])
 			c += ts[0] * u[es[0]]
@@ -129,7 +131,33 @@ func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 			m += ks[0] * h[cs[0]]
 			m += ks[1] * h[cs[1]]
 			m += ks[2] * h[cs[2]]
-		} else {
+		case 4:
+			es, cs := (*[4]int32)(edges[k0:k1]), (*[4]int32)(cells[k0:k1])
+			ts, ks := (*[4]float64)(td[k0:k1]), (*[4]float64)(kite[k0:k1])
+			c += ts[0] * u[es[0]]
+			c += ts[1] * u[es[1]]
+			c += ts[2] * u[es[2]]
+			c += ts[3] * u[es[3]]
+			m += ks[0] * h[cs[0]]
+			m += ks[1] * h[cs[1]]
+			m += ks[2] * h[cs[2]]
+			m += ks[3] * h[cs[3]]
+		case 6:
+			es, cs := (*[6]int32)(edges[k0:k1]), (*[6]int32)(cells[k0:k1])
+			ts, ks := (*[6]float64)(td[k0:k1]), (*[6]float64)(kite[k0:k1])
+			c += ts[0] * u[es[0]]
+			c += ts[1] * u[es[1]]
+			c += ts[2] * u[es[2]]
+			c += ts[3] * u[es[3]]
+			c += ts[4] * u[es[4]]
+			c += ts[5] * u[es[5]]
+			m += ks[0] * h[cs[0]]
+			m += ks[1] * h[cs[1]]
+			m += ks[2] * h[cs[2]]
+			m += ks[3] * h[cs[3]]
+			m += ks[4] * h[cs[4]]
+			m += ks[5] * h[cs[5]]
+		default:
 			for k := k0; k < k1; k++ {
 				c += td[k] * u[edges[k]]
 				m += kite[k] * h[cells[k]]

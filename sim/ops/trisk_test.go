@@ -51,7 +51,8 @@ func TestTRiSKRecurrenceMatchesWeights(t *testing.T) {
 // PVStencil stores t_{e,v} d_e per vertex slot; since t = ±1 its
 // potential vorticity is, bit for bit, that of the formula summed in slot
 // order, q_v = (Σ t (d u) + f A_v) / Σ K h, on every grid family
-// (three-edge vertices take their own path).
+// (vertices of three, four and six edges take their own paths; no grid
+// of the package has vertices of another degree, for the general loop).
 func TestPVStencilMatchesGrid(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, spec := range []mesh.Spec{
