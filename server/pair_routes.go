@@ -116,7 +116,9 @@ func (ps *pairs) serveNew(w http.ResponseWriter, req *http.Request) {
 
 func (ps *pairs) renderNew(w http.ResponseWriter, req *http.Request, base, msg string, code int) {
 	w.WriteHeader(code)
-	render(w, req, web.PairNewPage(web.PairNewOf(ps.s.baseOptions(base, false), infosOf(&ps.registry, (*Pair).Info), msg)))
+	v := web.PairNewOf(ps.s.baseOptions(base, false), infosOf(&ps.registry, (*Pair).Info), msg)
+	v.Watch = ps.s.roles.watch(req)
+	render(w, req, web.PairNewPage(v))
 }
 
 func (ps *pairs) servePage(w http.ResponseWriter, req *http.Request) {

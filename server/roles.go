@@ -11,6 +11,8 @@ import (
 	"net/http"
 	"net/url"
 	"strings"
+
+	"gyrebench/web"
 )
 
 // Presenter and viewers. When the workbench is shared (Options.Share, or
@@ -98,6 +100,15 @@ func (ro *roles) controls(req *http.Request) bool {
 	}
 	c, err := req.Cookie(ro.cookie)
 	return err == nil && ro.matches(c.Value)
+}
+
+// watch is what a server-rendered page tells req: nothing for a page
+// that controls, the chip and WatchHint for a viewer's.
+func (ro *roles) watch(req *http.Request) web.Watch {
+	if ro.controls(req) {
+		return web.Watch{}
+	}
+	return web.Watch{Watching: true, WatchHint: WatchHint}
 }
 
 func (ro *roles) matches(key string) bool {

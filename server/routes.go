@@ -81,7 +81,7 @@ func (s *Server) renderRuns(w http.ResponseWriter, req *http.Request, msg string
 			pick = name
 		}
 	}
-	v := web.RunsView{Scenarios: web.ScenarioOptions(pick), Message: msg}
+	v := web.RunsView{Scenarios: web.ScenarioOptions(pick), Message: msg, Watch: s.roles.watch(req)}
 	for _, r := range runs {
 		v.Runs = append(v.Runs, web.RunRowOf(r.Info()))
 	}

@@ -88,6 +88,7 @@ func (sw *sweeps) renderNew(w http.ResponseWriter, req *http.Request, f sweepFor
 	if ferr != nil {
 		v.Message, v.Field = ferr.Msg, ferr.Field
 	}
+	v.Watch = sw.s.roles.watch(req)
 	v.Bases = sw.s.baseOptions(f.Base, true)
 	for _, j := range sw.list() {
 		in := j.Status()

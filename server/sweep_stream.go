@@ -27,9 +27,7 @@ func (sw *sweeps) servePage(w http.ResponseWriter, req *http.Request) {
 		return
 	}
 	v := web.SweepPageOf(j.Status())
-	if !sw.s.roles.controls(req) {
-		v.Watching, v.WatchHint = true, WatchHint
-	}
+	v.Watch = sw.s.roles.watch(req)
 	render(w, req, web.SweepPage(v))
 }
 

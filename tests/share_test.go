@@ -184,28 +184,45 @@ func TestShareRoles(t *testing.T) {
 		t.Errorf("POST /runs with the cookie: %d %q, want 303", code, body)
 	}
 
-	// A sweep's page: the viewer sees the watching chip and a Stop it
-	// cannot press; the presenter's page has no chip.
-	if code, body := post(t, presenter, base, "/sweeps", url.Values{"scenario": {"dipole"}, "vary": {"time.integrator=rk3,rk4"}}); code != http.StatusSeeOther {
-		t.Fatalf("POST /sweeps with the cookie: %d %q, want 303", code, body)
-	}
-	page := func(hc *http.Client) string {
+	get := func(hc *http.Client, path string) string {
 		t.Helper()
-		resp, err := hc.Get(base + "/sweep/1")
+		resp, err := hc.Get(base + path)
 		if err != nil {
 			t.Fatal(err)
 		}
 		defer resp.Body.Close()
 		b, _ := io.ReadAll(resp.Body)
 		if resp.StatusCode != http.StatusOK {
-			t.Fatalf("GET /sweep/1: %s %q", resp.Status, b)
+			t.Fatalf("GET %s: %s %q", path, resp.Status, b)
 		}
 		return string(b)
 	}
-	if v := page(anon); !strings.Contains(v, `data-role="sweep-stop" disabled`) || !strings.Contains(v, `data-role="role-chip">watching<`) || !strings.Contains(v, "control URL") {
+	// The forms that start things: the viewer sees the watching chip, the
+	// hint and a Start it cannot press; the presenter sees neither chip
+	// nor a disabled Start.
+	for _, f := range []struct{ path, start string }{
+		{"/runs", `data-role="new-run-start"`},
+		{"/pairs/new", `data-role="start-pair"`},
+		{"/sweeps/new", `data-role="sweep-start"`},
+	} {
+		if v := get(anon, f.path); !strings.Contains(v, f.start+" disabled") || !strings.Contains(v, `data-role="role-chip">watching<`) || !strings.Contains(v, "control URL") {
+			t.Errorf("viewer's %s lacks the disabled Start, the watching chip or the hint:\n%s", f.path, v)
+		}
+		v := get(presenter, f.path)
+		if strings.Contains(v, `data-role="role-chip"`) || strings.Contains(v, f.start+" disabled") || !strings.Contains(v, f.start) {
+			t.Errorf("presenter's %s shows the watching chip or a disabled Start, or no Start:\n%s", f.path, v)
+		}
+	}
+
+	// A sweep's page: the viewer sees the watching chip and a Stop it
+	// cannot press; the presenter's page has no chip.
+	if code, body := post(t, presenter, base, "/sweeps", url.Values{"scenario": {"dipole"}, "vary": {"time.integrator=rk3,rk4"}}); code != http.StatusSeeOther {
+		t.Fatalf("POST /sweeps with the cookie: %d %q, want 303", code, body)
+	}
+	if v := get(anon, "/sweep/1"); !strings.Contains(v, `data-role="sweep-stop" disabled`) || !strings.Contains(v, `data-role="role-chip">watching<`) || !strings.Contains(v, "control URL") {
 		t.Errorf("viewer's sweep page lacks the disabled Stop, the watching chip or the hint:\n%s", v)
 	}
-	if v := page(presenter); strings.Contains(v, `data-role="role-chip"`) {
+	if v := get(presenter, "/sweep/1"); strings.Contains(v, `data-role="role-chip"`) {
 		t.Errorf("presenter's sweep page shows the watching chip")
 	}
 	if code, body := post(t, presenter, base, "/sweep/1/stop", url.Values{}); code != http.StatusSeeOther {

@@ -28,4 +28,5 @@ type PairNewView struct {
 	Schemes, Integrators, Grids []Option // "" first: as the base
 	Pairs                       []PairRow
 	Message                     string
+	Watch                       // for a viewer of a shared workbench, Start is disabled
 }

@@ -50,4 +50,5 @@ type RunsView struct {
 	Runs      []RunRow
 	Scenarios []Option
 	Message   string
+	Watch     // for a viewer of a shared workbench, Start is disabled
 }
