@@ -33,8 +33,9 @@ type core struct {
 	dh     []float64 // where the cell pass puts ∂h/∂t (dst[:nc]); nil in a stage
 
 	// General Hodge star (the grid's Metric.Hodge), nil for diag(l/d).
-	hodge *mesh.Hodge
-	vh    []pair // edges: v_e = d_e u_e and ĥ_e v_e, only with hodge
+	hodge     *mesh.Hodge
+	hodgeRuns []run  // maximal ranges of edges whose rows of H have the same length
+	vh        []pair // edges: v_e = d_e u_e and ĥ_e v_e, only with hodge
 
 	phaseVertices, phaseEdges, phaseCirc, phaseHodge func(lo, hi int)
 }
@@ -56,6 +57,7 @@ func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 		c.hodge = g.Hodge
 		c.vh = make([]pair, g.NumEdges)
 		touch(c.vh)
+		c.hodgeRuns = rowRuns(g.Hodge.Start)
 	}
 	return c
 }
@@ -107,21 +109,102 @@ func (c *core) doCirculation(lo, hi int) {
 // (the Hamiltonian form: Thuburn & Cotter 2012, SIAM J. Sci. Comput. 34,
 // B203–B225, from memory). With H = diag(l/d) both reduce to doEdges.
 // For apvm, l u becomes H v, the flux per unit thickness.
+//
+// Rows of five, seven and eleven entries (distorted hexagons;
+// quadrilaterals and the cubed sphere; distorted triangles) go to
+// written-out kernels that sum the same products in the same order: the
+// row loop's counter and bounds checks were a fifth of the pass.
 func (c *core) doHodge(lo, hi int) {
+	for _, r := range c.hodgeRuns {
+		a, b := max(lo, int(r.lo)), min(hi, int(r.hi))
+		if a >= b {
+			continue
+		}
+		switch r.n {
+		case 5:
+			c.hodgeRows5(a, b)
+		case 7:
+			c.hodgeRows7(a, b)
+		case 11:
+			c.hodgeRows11(a, b)
+		default:
+			c.hodgeRows(a, b)
+		}
+	}
+}
+
+// hodgeRows is doHodge for the edges [lo, hi), rows of any length.
+func (c *core) hodgeRows(lo, hi int) {
 	st, col, val := c.hodge.Start, c.hodge.Col, c.hodge.Val
-	vh, fk, h, cells := c.vh, c.fk, c.x[:c.nc], c.g.EdgeCells
+	vh := c.vh
 	for e := lo; e < hi; e++ {
+		cs := col[st[e]:st[e+1]]
+		vs := val[st[e]:st[e+1]]
+		vs = vs[:len(cs)]
 		var hv, hhv float64
-		for k := st[e]; k < st[e+1]; k++ {
-			p := &vh[col[k]]
-			hv += val[k] * p[0]
-			hhv += val[k] * p[1]
+		for k, j := range cs {
+			p := &vh[j]
+			hv += vs[k] * p[0]
+			hhv += vs[k] * p[1]
 		}
-		he := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
-		fk[e] = pair{0.5 * (he*hv + hhv), vh[e][0] * hv}
-		if c.lu != nil {
-			c.lu[e] = hv
-		}
+		c.hodgeFlux(e, hv, hhv)
+	}
+}
+
+// hodgeFlux stores edge e's flux and kinetic-energy share from its row
+// sums hv = (H v)_e and hhv = (H (ĥ ∘ v))_e.
+func (c *core) hodgeFlux(e int, hv, hhv float64) {
+	ce := c.g.EdgeCells[2*e : 2*e+2 : 2*e+2]
+	h := c.x[:c.nc]
+	he := 0.5 * (h[ce[0]] + h[ce[1]])
+	c.fk[e] = pair{0.5 * (he*hv + hhv), c.vh[e][0] * hv}
+	if c.lu != nil {
+		c.lu[e] = hv
+	}
+}
+
+// hodgeRows5 is hodgeRows for rows of five entries, written out: the
+// same products summed in the same order.
+func (c *core) hodgeRows5(lo, hi int) {
+	st, col, val, vh := c.hodge.Start, c.hodge.Col, c.hodge.Val, c.vh
+	for e := lo; e < hi; e++ {
+		k := st[e]
+		cs, vs := (*[5]int32)(col[k:k+5]), (*[5]float64)(val[k:k+5])
+		p0, p1, p2, p3, p4 := &vh[cs[0]], &vh[cs[1]], &vh[cs[2]], &vh[cs[3]], &vh[cs[4]]
+		hv := 0.0 + vs[0]*p0[0] + vs[1]*p1[0] + vs[2]*p2[0] + vs[3]*p3[0] + vs[4]*p4[0]
+		hhv := 0.0 + vs[0]*p0[1] + vs[1]*p1[1] + vs[2]*p2[1] + vs[3]*p3[1] + vs[4]*p4[1]
+		c.hodgeFlux(e, hv, hhv)
+	}
+}
+
+// hodgeRows7 is hodgeRows for rows of seven entries (the quadrilaterals
+// of the cubed sphere), written out like hodgeRows5.
+func (c *core) hodgeRows7(lo, hi int) {
+	st, col, val, vh := c.hodge.Start, c.hodge.Col, c.hodge.Val, c.vh
+	for e := lo; e < hi; e++ {
+		k := st[e]
+		cs, vs := (*[7]int32)(col[k:k+7]), (*[7]float64)(val[k:k+7])
+		p0, p1, p2, p3, p4, p5, p6 := &vh[cs[0]], &vh[cs[1]], &vh[cs[2]], &vh[cs[3]], &vh[cs[4]], &vh[cs[5]], &vh[cs[6]]
+		hv := 0.0 + vs[0]*p0[0] + vs[1]*p1[0] + vs[2]*p2[0] + vs[3]*p3[0] + vs[4]*p4[0] + vs[5]*p5[0] + vs[6]*p6[0]
+		hhv := 0.0 + vs[0]*p0[1] + vs[1]*p1[1] + vs[2]*p2[1] + vs[3]*p3[1] + vs[4]*p4[1] + vs[5]*p5[1] + vs[6]*p6[1]
+		c.hodgeFlux(e, hv, hhv)
+	}
+}
+
+// hodgeRows11 is hodgeRows for rows of eleven entries (the triangles of
+// a distorted triangle grid), written out like hodgeRows5.
+func (c *core) hodgeRows11(lo, hi int) {
+	st, col, val, vh := c.hodge.Start, c.hodge.Col, c.hodge.Val, c.vh
+	for e := lo; e < hi; e++ {
+		k := st[e]
+		cs, vs := (*[11]int32)(col[k:k+11]), (*[11]float64)(val[k:k+11])
+		p0, p1, p2, p3, p4, p5 := &vh[cs[0]], &vh[cs[1]], &vh[cs[2]], &vh[cs[3]], &vh[cs[4]], &vh[cs[5]]
+		p6, p7, p8, p9, p10 := &vh[cs[6]], &vh[cs[7]], &vh[cs[8]], &vh[cs[9]], &vh[cs[10]]
+		hv := 0.0 + vs[0]*p0[0] + vs[1]*p1[0] + vs[2]*p2[0] + vs[3]*p3[0] + vs[4]*p4[0] + vs[5]*p5[0] +
+			vs[6]*p6[0] + vs[7]*p7[0] + vs[8]*p8[0] + vs[9]*p9[0] + vs[10]*p10[0]
+		hhv := 0.0 + vs[0]*p0[1] + vs[1]*p1[1] + vs[2]*p2[1] + vs[3]*p3[1] + vs[4]*p4[1] + vs[5]*p5[1] +
+			vs[6]*p6[1] + vs[7]*p7[1] + vs[8]*p8[1] + vs[9]*p9[1] + vs[10]*p10[1]
+		c.hodgeFlux(e, hv, hhv)
 	}
 }
 
@@ -353,11 +436,15 @@ func (s *trisk) doCells(lo, hi int) {
 // run is a range of cells [lo, hi) that all have n edges.
 type run struct{ lo, hi, n int32 }
 
-func cellRuns(g ops.Grid) []run {
+func cellRuns(g ops.Grid) []run { return rowRuns(g.CellEdgeStart) }
+
+// rowRuns returns the maximal ranges of rows of a compressed sparse row
+// layout (row r holds the entries start[r] to start[r+1]) that have the
+// same number of entries.
+func rowRuns(start []int32) []run {
 	var rs []run
-	for i := 0; i < g.NumCells; i++ {
-		lo, hi := g.EdgesOfCell(i)
-		if n := int32(hi - lo); len(rs) > 0 && rs[len(rs)-1].n == n {
+	for i := 0; i+1 < len(start); i++ {
+		if n := start[i+1] - start[i]; len(rs) > 0 && rs[len(rs)-1].n == n {
 			rs[len(rs)-1].hi++
 		} else {
 			rs = append(rs, run{int32(i), int32(i + 1), n})
