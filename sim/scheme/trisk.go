@@ -421,11 +421,11 @@ func (s *trisk) doCells(lo, hi int) {
 			continue
 		}
 		switch {
-		case r.n == 6 && s.corr == nil:
+		case r.n == 6:
 			s.cells6(a, b)
-		case r.n == 4 && s.corr == nil:
+		case r.n == 4:
 			s.cells4(a, b)
-		case r.n == 3 && s.corr == nil:
+		case r.n == 3:
 			s.cells3(a, b)
 		default:
 			s.cellsAny(a, b)
@@ -537,7 +537,8 @@ func share(enst bool, qe, ga, gb, phi float64) float64 {
 // cells6 is cellsAny for hexagons, written out for six edges: the same
 // arithmetic in the same order, with every value in a register or a
 // named stack slot instead of an indexed array. Per edge m of the cell:
-// a_m = ±F_e/4, qe_m the edge's q from the cell's two vertices, b_m =
+// a_m = ±F_e/4, qe_m the edge's q from the cell's two vertices (less
+// apvm's correction q_e − q̂_e, as in cellsAny), b_m =
 // qe_m a_m, r_m the kite fraction after the edge and c_m the fractions
 // before it; sa, sb are A of ops.TRiSK for a and b (a quarter of it, as
 // a and b are), ta, tb its B, ha, hb half of A, and ga_m, gb_m half the
@@ -545,13 +546,16 @@ func share(enst bool, qe, ga, gb, phi float64) float64 {
 func (s *trisk) cells6(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:6*len(h)]
-	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
+	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy
 	for i := range h {
 		sl := (*[6]cellSlot)(slots[6*i : 6*i+6])
 		s0, s1, s2, s3, s4, s5 := sl[0].side, sl[1].side, sl[2].side, sl[3].side, sl[4].side, sl[5].side
 		q5, q0, q1, q2, q3, q4 := q[sl[5].vert], q[sl[0].vert], q[sl[1].vert], q[sl[2].vert], q[sl[3].vert], q[sl[4].vert]
 		p0, p1, p2, p3, p4, p5 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1], &fk[s3>>1], &fk[s4>>1], &fk[s5>>1]
 		qe0, qe1, qe2, qe3, qe4, qe5 := 0.5*(q5+q0), 0.5*(q0+q1), 0.5*(q1+q2), 0.5*(q2+q3), 0.5*(q3+q4), 0.5*(q4+q5)
+		if corr != nil {
+			qe0, qe1, qe2, qe3, qe4, qe5 = qe0-corr[s0>>1], qe1-corr[s1>>1], qe2-corr[s2>>1], qe3-corr[s3>>1], qe4-corr[s4>>1], qe5-corr[s5>>1]
+		}
 		a0, a1, a2, a3, a4, a5 := quarterSign[s0&1]*p0[0], quarterSign[s1&1]*p1[0], quarterSign[s2&1]*p2[0], quarterSign[s3&1]*p3[0], quarterSign[s4&1]*p4[0], quarterSign[s5&1]*p5[0]
 		b0, b1, b2, b3, b4, b5 := qe0*a0, qe1*a1, qe2*a2, qe3*a3, qe4*a4, qe5*a5
 		r0, r1, r2, r3, r4 := sl[0].r, sl[1].r, sl[2].r, sl[3].r, sl[4].r
@@ -589,13 +593,16 @@ func (s *trisk) cells6(lo, hi int) {
 func (s *trisk) cells4(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:4*len(h)]
-	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
+	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy
 	for i := range h {
 		sl := (*[4]cellSlot)(slots[4*i : 4*i+4])
 		s0, s1, s2, s3 := sl[0].side, sl[1].side, sl[2].side, sl[3].side
 		q3, q0, q1, q2 := q[sl[3].vert], q[sl[0].vert], q[sl[1].vert], q[sl[2].vert]
 		p0, p1, p2, p3 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1], &fk[s3>>1]
 		qe0, qe1, qe2, qe3 := 0.5*(q3+q0), 0.5*(q0+q1), 0.5*(q1+q2), 0.5*(q2+q3)
+		if corr != nil {
+			qe0, qe1, qe2, qe3 = qe0-corr[s0>>1], qe1-corr[s1>>1], qe2-corr[s2>>1], qe3-corr[s3>>1]
+		}
 		a0, a1, a2, a3 := quarterSign[s0&1]*p0[0], quarterSign[s1&1]*p1[0], quarterSign[s2&1]*p2[0], quarterSign[s3&1]*p3[0]
 		b0, b1, b2, b3 := qe0*a0, qe1*a1, qe2*a2, qe3*a3
 		r0, r1, r2 := sl[0].r, sl[1].r, sl[2].r
@@ -626,13 +633,16 @@ func (s *trisk) cells4(lo, hi int) {
 func (s *trisk) cells3(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:3*len(h)]
-	q, fk, tt, enst := s.q, s.fk, s.tt, s.enstrophy
+	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy
 	for i := range h {
 		sl := (*[3]cellSlot)(slots[3*i : 3*i+3])
 		s0, s1, s2 := sl[0].side, sl[1].side, sl[2].side
 		q2, q0, q1 := q[sl[2].vert], q[sl[0].vert], q[sl[1].vert]
 		p0, p1, p2 := &fk[s0>>1], &fk[s1>>1], &fk[s2>>1]
 		qe0, qe1, qe2 := 0.5*(q2+q0), 0.5*(q0+q1), 0.5*(q1+q2)
+		if corr != nil {
+			qe0, qe1, qe2 = qe0-corr[s0>>1], qe1-corr[s1>>1], qe2-corr[s2>>1]
+		}
 		a0, a1, a2 := quarterSign[s0&1]*p0[0], quarterSign[s1&1]*p1[0], quarterSign[s2&1]*p2[0]
 		b0, b1, b2 := qe0*a0, qe1*a1, qe2*a2
 		r0, r1 := sl[0].r, sl[1].r
