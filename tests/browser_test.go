@@ -10,6 +10,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"testing"
 	"time"
 
@@ -100,12 +101,32 @@ func do(t testing.TB, ctx context.Context, actions ...chromedp.Action[chromedp.V
 	}
 }
 
-// poll waits until the JavaScript expression is truthy, within d.
+// poll waits until the JavaScript expression is truthy, within d. A
+// page that is still being replaced (after a form's POST and redirect,
+// say) has for a moment no JavaScript context to evaluate in; Chromium
+// then answers that the context it was asked for is gone, and the poll
+// starts again in the new page's context, within the same d.
 func poll(t testing.TB, ctx context.Context, what, expr string, d time.Duration) {
 	t.Helper()
-	if _, err := chromedp.Run(ctx, chromedp.Poll[chromedp.Void](expr, chromedp.WithPollingTimeout(d))); err != nil {
-		t.Fatalf("waiting for %s (%s): %v", what, expr, err)
+	deadline := time.Now().Add(d)
+	for {
+		_, err := chromedp.Run(ctx, chromedp.Poll[chromedp.Void](expr, chromedp.WithPollingTimeout(time.Until(deadline))))
+		if err == nil {
+			return
+		}
+		if !pageBeingReplaced(err) || !time.Now().Before(deadline) {
+			t.Fatalf("waiting for %s (%s): %v", what, expr, err)
+		}
 	}
+}
+
+// pageBeingReplaced reports whether err is Chromium's answer to an
+// evaluation in a JavaScript context that a navigation has just torn
+// down ("Cannot find context with specified id", "Execution context was
+// destroyed").
+func pageBeingReplaced(err error) bool {
+	msg := err.Error()
+	return strings.Contains(msg, "Cannot find context with specified id") || strings.Contains(msg, "Execution context was destroyed")
 }
 
 func eval[T any](t testing.TB, ctx context.Context, expr string) T {
