@@ -254,3 +254,47 @@ func TestHodgeRowKernelsMatchGeneral(t *testing.T) {
 		}
 	}
 }
+
+// apvm's cell pass (q on cells and the TRiSK sums of l u, stored beside
+// each edge) gives, bit for bit, what ops.TRiSK's CellSums and Edge give
+// and what the direct sum (1/A_i) Σ_v K_{i,v} q_v gives, for the
+// written-out kernels (six, four and three edges) and the general one.
+func TestAPVMCellPassMatchesTRiSK(t *testing.T) {
+	for _, spec := range []mesh.Spec{
+		{Kind: mesh.Hex, N: 16, Length: 2e6}, {Kind: mesh.Icosahedral, N: 2, Radius: 6.37122e6},
+		{Kind: mesh.Quad, N: 16, Length: 2e6}, {Kind: mesh.Cubed, N: 6, Radius: 6.37122e6},
+		{Kind: mesh.Tri, N: 16, Length: 2e6, Distort: 0.1, Seed: 3},
+	} {
+		f := randomFixtureOn(t, spec, 11)
+		s := newTRiSK(APVM, f.g, f.phys, par.New(1), Options{APVMFactor: 0.5})
+		dx := make([]float64, len(f.x))
+		s.x, s.dst, s.dh = f.x, dx, dx[:s.nc]
+		s.phaseVertices(0, s.nv)
+		s.edgePasses()
+		tr := ops.NewTRiSK(f.g)
+		G := make([]float64, tr.Slots())
+		tr.CellSums(G, s.lu, 0, s.nc)
+		for _, kernel := range []struct {
+			name string
+			fn   func(lo, hi int)
+		}{{"dispatched", s.cellPV}, {"general", s.cellPVAny}} {
+			clear(s.qcell)
+			clear(s.gv)
+			kernel.fn(0, s.nc)
+			for i := 0; i < s.nc; i++ {
+				m := 0.0
+				for k := f.g.CellEdgeStart[i]; k < f.g.CellEdgeStart[i+1]; k++ {
+					m += f.g.CellKiteArea[k] * s.q[f.g.CellVertices[k]]
+				}
+				if want := m * (1 / f.g.CellArea[i]); math.Float64bits(s.qcell[i]) != math.Float64bits(want) {
+					t.Fatalf("%s, %s kernel: cell %d: q %g, want %g", spec.Kind, kernel.name, i, s.qcell[i], want)
+				}
+			}
+			for e := 0; e < s.ne; e++ {
+				if got, want := s.gv[e][0]-s.gv[e][1], tr.Edge(G, e); math.Float64bits(got) != math.Float64bits(want) {
+					t.Fatalf("%s, %s kernel: edge %d: Σ W l u %g, ops.TRiSK %g", spec.Kind, kernel.name, e, got, want)
+				}
+			}
+		}
+	}
+}

@@ -282,8 +282,7 @@ type trisk struct {
 	// apvm only
 	apvm   float64 // c in q̂ = q − c Δt u·∇q
 	dt     float64
-	perp   *ops.TRiSK
-	gu     []float64 // cell-slot sums of l u
+	gv     []pair    // edges: each side's cell sum G^i_e[l u] (ops.TRiSK), as tt
 	qcell  []float64 // PV at cells
 	corr   []float64 // edges: q_e − q̂_e
 	phaseQ func(lo, hi int)
@@ -308,10 +307,9 @@ func newTRiSK(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options
 	s.phaseFinishEdges = s.doFinishEdges
 	if name == APVM {
 		s.apvm = opt.APVMFactor
-		s.perp = ops.NewTRiSK(g)
 		s.qcell = make([]float64, g.NumCells)
 		s.lu = make([]float64, g.NumEdges)
-		s.gu = make([]float64, s.perp.Slots())
+		s.gv = make([]pair, g.NumEdges)
 		s.corr = make([]float64, g.NumEdges)
 		s.phaseQ = s.cellPV
 		s.phaseA = s.anticipate
@@ -760,35 +758,5 @@ func (s *trisk) doFinishEdges(lo, hi int) {
 		} else {
 			s.doCirculation(b, e)
 		}
-	}
-}
-
-// cellPV sets q_i = (1/A_i) Σ_v K_{i,v} q_v, for the normal PV gradient, and
-// the TRiSK cell sums of l u for the tangential velocity.
-func (s *trisk) cellPV(lo, hi int) {
-	start, verts, kite := s.g.CellEdgeStart, s.g.CellVertices, s.g.CellKiteArea
-	for i := lo; i < hi; i++ {
-		m := 0.0
-		for k := start[i]; k < start[i+1]; k++ {
-			m += kite[k] * s.q[verts[k]]
-		}
-		s.qcell[i] = m * s.invArea[i]
-	}
-	s.perp.CellSums(s.gu, s.lu, lo, hi)
-}
-
-// anticipate sets the APVM correction q_e − q̂_e = c Δt (u_e ∂q/∂n + v_e ∂q/∂t),
-// with v_e the TRiSK tangential velocity (Sadourny & Basdevant 1985; as
-// used by Ringler et al. 2010, §5: from memory).
-func (s *trisk) anticipate(lo, hi int) {
-	u := s.x[s.nc:]
-	cells, verts := s.g.EdgeCells, s.g.EdgeVertices
-	l, d := s.g.EdgeLength, s.g.DualLength
-	cdt := s.apvm * s.dt
-	for e := lo; e < hi; e++ {
-		dqn := (s.qcell[cells[2*e+1]] - s.qcell[cells[2*e]]) / d[e]
-		dqt := (s.q[verts[2*e+1]] - s.q[verts[2*e]]) / l[e]
-		v := s.perp.Edge(s.gu, e) / d[e]
-		s.corr[e] = cdt * (u[e]*dqn + v*dqt)
 	}
 }
