@@ -108,7 +108,7 @@ func TestStageMatchesTendency(t *testing.T) {
 		for k, v := range f.x {
 			x0[k] = v * (1 + 1e-3*math.Sin(float64(k)))
 		}
-		for _, name := range []string{TRiSKEnergy, TRiSKEnstrophy, APVM} {
+		for _, name := range schemesOn(f) {
 			for _, w := range []int{1, 2, 3} {
 				pool := par.New(w)
 				s, err := New(name, f.g, f.phys, pool, Options{})

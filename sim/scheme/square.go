@@ -41,23 +41,28 @@ import (
 // so for uniform q all three reduce to TRiSK on the square grid.
 type square struct {
 	core
-	name    string
-	phi     []float64 // cells: Bernoulli function K + g(h + b)
-	invDual []float64
-	nb      [][6]int32   // V_NE, V_NW, V_SW, V_SE, U_E, U_W
-	sg      [][6]float64 // sign into the local frame / d_e (fluxes are volume fluxes)
-	corner  [][8]int32   // c0: NE, NW, SW, SE; c1: NE, NW, SW, SE
+	name  string
+	phi   []float64    // cells: Bernoulli function K + g(h + b)
+	edges []squareEdge // what the momentum pass reads, one stream
 
 	phaseCells, phaseMomentum func(lo, hi int)
+}
+
+// squareEdge is what the momentum pass reads for one edge e, in one
+// stream: the six neighbours' fluxes enter the local frame with the sign
+// of n_{e'} there and a division by d_e, which coef holds.
+type squareEdge struct {
+	coef   [6]float64 // ±1/d_e of V_NE, V_NW, V_SW, V_SE, U_E, U_W
+	inv    float64    // 1/d_e
+	nb     [6]int32   // e' of V_NE, V_NW, V_SW, V_SE, U_E, U_W
+	corner [8]int32   // c0: NE, NW, SW, SE; c1: NE, NW, SW, SE
+	cells  [2]int32   // c0, c1
 }
 
 func newSquare(name string, g ops.Grid, phys Physics, pool *par.Pool) *square {
 	s := &square{core: newCore(g, phys, pool), name: name}
 	ne := g.NumEdges
-	s.invDual = make([]float64, ne)
-	s.nb = make([][6]int32, ne)
-	s.sg = make([][6]float64, ne)
-	s.corner = make([][8]int32, ne)
+	s.edges = make([]squareEdge, ne)
 	at := func(i int32, e int, sign int8) (lo, j int) {
 		lo = int(g.CellEdgeStart[i])
 		for g.CellEdges[lo+j] != int32(e) || g.CellEdgeSign[lo+j] != sign {
@@ -66,27 +71,28 @@ func newSquare(name string, g ops.Grid, phys Physics, pool *par.Pool) *square {
 		return lo, j
 	}
 	for e := 0; e < ne; e++ {
-		s.invDual[e] = 1 / g.DualLength[e]
 		c0, c1 := g.EdgeCells[2*e], g.EdgeCells[2*e+1]
 		lo0, j0 := at(c0, e, 1)
 		lo1, j1 := at(c1, e, -1)
 		k0 := func(m int) int { return lo0 + (j0+m)%4 }
 		k1 := func(m int) int { return lo1 + (j1+m)%4 }
 		side := func(k int, s float64) (int32, float64) {
-			ep := g.CellEdges[k]
-			return ep, s * float64(g.CellEdgeSign[k]) / g.DualLength[e]
+			return g.CellEdges[k], s * float64(g.CellEdgeSign[k]) / g.DualLength[e]
 		}
-		s.nb[e][0], s.sg[e][0] = side(k1(3), 1)  // V_NE: north of c1
-		s.nb[e][1], s.sg[e][1] = side(k0(1), 1)  // V_NW: north of c0
-		s.nb[e][2], s.sg[e][2] = side(k0(3), -1) // V_SW: south of c0
-		s.nb[e][3], s.sg[e][3] = side(k1(1), -1) // V_SE: south of c1
-		s.nb[e][4], s.sg[e][4] = side(k1(2), 1)  // U_E: east of c1
-		s.nb[e][5], s.sg[e][5] = side(k0(2), -1) // U_W: west of c0
 		cv := g.CellVertices
-		s.corner[e] = [8]int32{
+		se := &s.edges[e]
+		se.nb[0], se.coef[0] = side(k1(3), 1)  // V_NE: north of c1
+		se.nb[1], se.coef[1] = side(k0(1), 1)  // V_NW: north of c0
+		se.nb[2], se.coef[2] = side(k0(3), -1) // V_SW: south of c0
+		se.nb[3], se.coef[3] = side(k1(1), -1) // V_SE: south of c1
+		se.nb[4], se.coef[4] = side(k1(2), 1)  // U_E: east of c1
+		se.nb[5], se.coef[5] = side(k0(2), -1) // U_W: west of c0
+		se.inv = 1 / g.DualLength[e]
+		se.corner = [8]int32{
 			cv[k0(0)], cv[k0(1)], cv[k0(2)], cv[k0(3)], // c0: NE, NW, SW, SE
 			cv[k1(2)], cv[k1(3)], cv[k1(0)], cv[k1(1)], // c1: NE, NW, SW, SE
 		}
+		se.cells = [2]int32{c0, c1}
 	}
 	s.phi = make([]float64, g.NumCells)
 	s.bind()
@@ -97,49 +103,71 @@ func newSquare(name string, g ops.Grid, phys Physics, pool *par.Pool) *square {
 	default:
 		s.phaseMomentum = s.momentumSadourny
 	}
+	s.phaseLast = s.lastPasses
+	s.phaseFinish = s.phaseMomentum
 	return s
 }
 
 func (s *square) Name() string  { return s.name }
 func (s *square) SetDt(float64) {}
 func (s *square) Tendency(dst, x []float64) {
-	s.x, s.dst = x, dst
+	s.x, s.dst, s.dh = x, dst, dst[:s.nc]
+	s.ahead = nil
 	s.pool.For(s.nv, s.phaseVertices)
 	s.edgePasses()
-	s.pool.For(s.nc, s.phaseCells)
+	s.lastPasses()
 	s.pool.For(s.ne, s.phaseMomentum)
-	s.x, s.dst = nil, nil
+	s.x, s.dst, s.dh = nil, nil, nil
 }
 
-// cells sets ∂h/∂t = −div F and Φ = K + g(h + b), as trisk's cell pass.
+// lastPasses runs the cell pass, the one pass between the edge passes
+// and the momentum pass. In a stage (core.Stage) the cell pass finishes
+// h and the momentum pass u: after the vertex and edge passes only the
+// cell pass reads h, its own cell's, and the momentum pass reads q, the
+// fluxes and Φ, none of x.
+func (s *square) lastPasses() { s.pool.For(s.nc, s.phaseCells) }
+
+// cells sets ∂h/∂t = −div F (or, in a stage, h's stage value) and
+// Φ = K + g(h + b), as trisk's cell pass, written out for the four edges
+// every cell of a square grid has (isSquare).
 func (s *square) cells(lo, hi int) {
-	h, dh := s.x[:s.nc], s.dst[:s.nc]
-	start, edges, sign := s.g.CellEdgeStart, s.g.CellEdges, s.g.CellEdgeSign
-	b, grav := s.phys.Bottom, s.phys.G
+	h, dh, x0 := s.x[:s.nc], s.dh, s.x0
+	k0 := int(s.g.CellEdgeStart[lo])
+	edges, sign := s.g.CellEdges[k0:k0+4*(hi-lo)], s.g.CellEdgeSign[k0:k0+4*(hi-lo)]
+	b, grav, fk, phi, invA := s.phys.Bottom, s.phys.G, s.fk, s.phi, s.invArea
 	for i := lo; i < hi; i++ {
-		var sd, sk float64
-		for k := start[i]; k < start[i+1]; k++ {
-			p := &s.fk[edges[k]]
-			sd += float64(sign[k]) * p[0]
-			sk += p[1]
-		}
-		inv := s.invArea[i]
+		k := 4 * (i - lo)
+		es, sg := (*[4]int32)(edges[k:k+4]), (*[4]int8)(sign[k:k+4])
+		p0, p1, p2, p3 := &fk[es[0]], &fk[es[1]], &fk[es[2]], &fk[es[3]]
+		sd := 0.0 + float64(sg[0])*p0[0] + float64(sg[1])*p1[0] + float64(sg[2])*p2[0] + float64(sg[3])*p3[0]
+		sk := 0.0 + p0[1] + p1[1] + p2[1] + p3[1]
+		inv := invA[i]
 		hb := h[i]
 		if b != nil {
 			hb += b[i]
 		}
-		s.phi[i] = 0.25*sk*inv + grav*hb
-		dh[i] = -(sd * inv)
+		phi[i] = 0.25*sk*inv + grav*hb
+		s.setDepth(h, dh, x0, i, -(sd * inv))
 	}
 }
 
+// momentumOut returns where the momentum pass of [lo, hi) puts its
+// result: ∂u/∂t in a tendency (du), or u's stage value in place (u, with
+// the stage's u0).
+func (s *square) momentumOut(lo, hi int) (u, du, u0 []float64) {
+	if s.dst != nil {
+		return nil, s.dst[s.nc+lo : s.nc+hi], nil
+	}
+	return s.x[s.nc+lo : s.nc+hi], nil, s.x0[s.nc+lo : s.nc+hi]
+}
+
 func (s *square) momentumAL81(lo, hi int) {
-	du := s.dst[s.nc:]
-	q, fk := s.q, s.fk
-	cells := s.g.EdgeCells
+	u, du, u0 := s.momentumOut(lo, hi)
+	q, fk, phi, edges := s.q, s.fk, s.phi, s.edges[lo:hi]
 	const w = 1.0 / 24
-	for e := lo; e < hi; e++ {
-		c := &s.corner[e]
+	for e := range edges {
+		se := &edges[e]
+		c := &se.corner
 		ne0, nw0, sw0, se0 := q[c[0]], q[c[1]], q[c[2]], q[c[3]]
 		ne1, nw1, sw1, se1 := q[c[4]], q[c[5]], q[c[6]], q[c[7]]
 		alpha := w * (2*ne1 + 2*sw1 + nw1 + se1)
@@ -148,32 +176,37 @@ func (s *square) momentumAL81(lo, hi int) {
 		delta := w * (2*nw1 + 2*se1 + ne1 + sw1)
 		eps0 := w * (ne0 + nw0 - sw0 - se0)
 		eps1 := w * (ne1 + nw1 - sw1 - se1)
-		nb, sg := &s.nb[e], &s.sg[e]
-		du[e] = alpha*sg[0]*fk[nb[0]][0] + beta*sg[1]*fk[nb[1]][0] + gamma*sg[2]*fk[nb[2]][0] + delta*sg[3]*fk[nb[3]][0] -
+		sg, nb := &se.coef, &se.nb
+		f := alpha*sg[0]*fk[nb[0]][0] + beta*sg[1]*fk[nb[1]][0] + gamma*sg[2]*fk[nb[2]][0] + delta*sg[3]*fk[nb[3]][0] -
 			eps1*sg[4]*fk[nb[4]][0] + eps0*sg[5]*fk[nb[5]][0] -
-			(s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
+			(phi[se.cells[1]]-phi[se.cells[0]])*se.inv
+		s.setVelocity(u, du, u0, e, f)
 	}
 }
 
-// northSouth returns q at the vertices at the north and south ends of
-// edge e (the north-east and south-east corners of c0).
-func (s *square) northSouth(e int) (qn, qs float64) {
-	c := &s.corner[e]
-	return s.q[c[0]], s.q[c[3]]
+// setVelocity stores the momentum pass's ∂u_e/∂t = f in a tendency (du),
+// or replaces u_e by its stage value.
+func (s *square) setVelocity(u, du, u0 []float64, e int, f float64) {
+	if du != nil {
+		du[e] = f
+		return
+	}
+	u[e] = stageValue(u[e], u0[e], f, s.stageA, s.stageB, s.stageDt)
 }
 
 // momentumSadourny is the momentum pass of both Sadourny schemes: the
-// energy one weights each end's pair of cross fluxes with that end's q,
-// the enstrophy one all four with their mean (the branch is the same for
-// every edge of a pass).
+// energy one weights each end's pair of cross fluxes with that end's q
+// (the north-east and south-east corners of c0 are the north and south
+// ends of the edge), the enstrophy one all four with their mean (the
+// branch is the same for every edge of a pass).
 func (s *square) momentumSadourny(lo, hi int) {
-	du := s.dst[s.nc:]
-	fk := s.fk
-	cells := s.g.EdgeCells
+	u, du, u0 := s.momentumOut(lo, hi)
+	q, fk, phi, edges := s.q, s.fk, s.phi, s.edges[lo:hi]
 	enstrophy := s.name == SadournyEnstrophy
-	for e := lo; e < hi; e++ {
-		qn, qs := s.northSouth(e)
-		nb, sg := &s.nb[e], &s.sg[e]
+	for e := range edges {
+		se := &edges[e]
+		qn, qs := q[se.corner[0]], q[se.corner[3]]
+		sg, nb := &se.coef, &se.nb
 		vne, vnw, vsw, vse := sg[0]*fk[nb[0]][0], sg[1]*fk[nb[1]][0], sg[2]*fk[nb[2]][0], sg[3]*fk[nb[3]][0]
 		var qv float64
 		if enstrophy {
@@ -181,6 +214,6 @@ func (s *square) momentumSadourny(lo, hi int) {
 		} else {
 			qv = 0.25 * (qn*(vne+vnw) + qs*(vsw+vse))
 		}
-		du[e] = qv - (s.phi[cells[2*e+1]]-s.phi[cells[2*e]])*s.invDual[e]
+		s.setVelocity(u, du, u0, e, qv-(phi[se.cells[1]]-phi[se.cells[0]])*se.inv)
 	}
 }

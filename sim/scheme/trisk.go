@@ -38,6 +38,22 @@ type core struct {
 	vh        []pair // edges: v_e = d_e u_e and ĥ_e v_e, only with hodge
 
 	phaseVertices, phaseEdges, phaseCirc, phaseHodge func(lo, hi int)
+
+	// Stage: x ← a x0 + b (x + Δt f(x)), for the step.Stager contract.
+	x0                      []float64
+	stageA, stageB, stageDt float64
+	// ahead is the state whose edge pass (or circulation pass) the last
+	// StageThen already did, nil when none.
+	ahead *float64
+	// Set by the scheme: phaseLast runs its passes after the vertex and
+	// edge passes up to the last one, phaseFinish, which finishes the
+	// stage for u. phaseFinishEdges (doFinishEdges) also runs the next
+	// stage's edge pass inside it; it stays nil where phaseFinish reads
+	// what the edge pass writes at other edges than its own (the square
+	// schemes' momentum pass reads the fluxes of the cross edges), and
+	// StageThen is then Stage.
+	phaseLast                     func()
+	phaseFinish, phaseFinishEdges func(lo, hi int)
 }
 
 func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
@@ -87,6 +103,45 @@ func (c *core) edgePasses() {
 	}
 	c.pool.For(c.ne, c.phaseCirc)
 	c.pool.For(c.ne, c.phaseHodge)
+}
+
+// Stage sets x ← a x0 + b (x + Δt f(x)) in place (the step.Stager
+// contract): the passes of Tendency, with the cell pass and the last pass
+// finishing the stage for h and u instead of storing f. After the vertex
+// and edge passes only the cell pass reads h, and only its own cell's,
+// just before replacing it; nothing reads u after them.
+func (c *core) Stage(x, x0 []float64, a, b, dt float64) { c.stage(x, x0, a, b, dt, false) }
+
+// StageThen is Stage, for a caller that promises to call Stage or
+// StageThen next on the same x, changed by nothing in between (the
+// step.ChainStager contract): the last pass then also does the next
+// stage's edge pass, block by block while the new u_e are in cache, and
+// the next stage skips it (where phaseFinishEdges is set: trisk). The edge pass reads h only at the two cells
+// of its edge, which the cell pass has finished, and u only at its own
+// edge, just written, so it computes the same values as in the next
+// stage.
+func (c *core) StageThen(x, x0 []float64, a, b, dt float64) { c.stage(x, x0, a, b, dt, true) }
+
+func (c *core) stage(x, x0 []float64, a, b, dt float64, then bool) {
+	c.x, c.x0 = x, x0
+	c.stageA, c.stageB, c.stageDt = a, b, dt
+	ahead := c.ahead == &x[0]
+	c.ahead = nil
+	c.pool.For(c.nv, c.phaseVertices)
+	switch {
+	case !ahead:
+		c.edgePasses()
+	case c.hodge != nil:
+		c.pool.For(c.ne, c.phaseHodge)
+	}
+	c.phaseLast()
+	if then && c.phaseFinishEdges != nil {
+		c.pool.For(c.ne, c.phaseFinishEdges)
+		c.ahead = &x[0]
+	} else {
+		c.pool.For(c.ne, c.phaseFinish)
+	}
+	c.x, c.x0 = nil, nil
 }
 
 // doCirculation sets v_e = d_e u_e and ĥ_e v_e.
@@ -270,14 +325,7 @@ type trisk struct {
 
 	runs []run // maximal ranges of cells with the same number of edges
 
-	phaseCells, phaseMomentum, phaseFinish, phaseFinishEdges func(lo, hi int)
-
-	// Stage: x ← a x0 + b (x + Δt f(x))
-	x0                      []float64
-	stageA, stageB, stageDt float64
-	// ahead is the state whose edge pass (or circulation pass) the last
-	// StageThen already did, nil when none.
-	ahead *float64
+	phaseCells, phaseMomentum func(lo, hi int)
 
 	// apvm only
 	apvm   float64 // c in q̂ = q − c Δt u·∇q
@@ -305,6 +353,7 @@ func newTRiSK(name string, g ops.Grid, phys Physics, pool *par.Pool, opt Options
 	s.phaseMomentum = s.doMomentum
 	s.phaseFinish = s.doFinish
 	s.phaseFinishEdges = s.doFinishEdges
+	s.phaseLast = s.lastPasses
 	if name == APVM {
 		s.apvm = opt.APVMFactor
 		s.qcell = make([]float64, g.NumCells)
@@ -324,45 +373,6 @@ func (s *trisk) Tendency(dst, x []float64) {
 	s.passes()
 	s.pool.For(s.ne, s.phaseMomentum)
 	s.x, s.dst, s.dh = nil, nil, nil
-}
-
-// Stage sets x ← a x0 + b (x + Δt f(x)) in place (the step.Stager
-// contract): the passes of Tendency, with the cell pass and the last pass
-// finishing the stage for h and u instead of storing f. After the vertex
-// and edge passes only the cell pass reads h, and only its own cell's,
-// just before replacing it; nothing reads u after them.
-func (s *trisk) Stage(x, x0 []float64, a, b, dt float64) { s.stage(x, x0, a, b, dt, false) }
-
-// StageThen is Stage, for a caller that promises to call Stage or
-// StageThen next on the same x, changed by nothing in between (the
-// step.ChainStager contract): the last pass then also does the next
-// stage's edge pass, block by block while the new u_e are in cache, and
-// the next stage skips it. The edge pass reads h only at the two cells
-// of its edge, which the cell pass has finished, and u only at its own
-// edge, just written, so it computes the same values as in the next
-// stage.
-func (s *trisk) StageThen(x, x0 []float64, a, b, dt float64) { s.stage(x, x0, a, b, dt, true) }
-
-func (s *trisk) stage(x, x0 []float64, a, b, dt float64, then bool) {
-	s.x, s.x0 = x, x0
-	s.stageA, s.stageB, s.stageDt = a, b, dt
-	ahead := s.ahead == &x[0]
-	s.ahead = nil
-	s.pool.For(s.nv, s.phaseVertices)
-	switch {
-	case !ahead:
-		s.edgePasses()
-	case s.hodge != nil:
-		s.pool.For(s.ne, s.phaseHodge)
-	}
-	s.lastPasses()
-	if then {
-		s.pool.For(s.ne, s.phaseFinishEdges)
-		s.ahead = &x[0]
-	} else {
-		s.pool.For(s.ne, s.phaseFinish)
-	}
-	s.x, s.x0 = nil, nil
 }
 
 // stageValue is one element of a stage: a x0 + b (x + Δt f), or x + Δt f
@@ -514,12 +524,12 @@ func (s *trisk) bernoulli(h, invA, b []float64, i int, ke float64) float64 {
 
 // setDepth stores the cell pass's ∂h_i/∂t = f in a tendency (dh), or
 // replaces h_i by its stage value.
-func (s *trisk) setDepth(h, dh, x0 []float64, i int, f float64) {
+func (c *core) setDepth(h, dh, x0 []float64, i int, f float64) {
 	if dh != nil {
 		dh[i] = f
 		return
 	}
-	h[i] = stageValue(h[i], x0[i], f, s.stageA, s.stageB, s.stageDt)
+	h[i] = stageValue(h[i], x0[i], f, c.stageA, c.stageB, c.stageDt)
 }
 
 // share is T^i_e for edge e of cell i from q_e, half the cell's sums
@@ -747,16 +757,17 @@ func (s *trisk) doFinish(lo, hi int) {
 // the first-level cache (16 KB of them).
 const finishBlock = 512
 
-// doFinishEdges is doFinish and then the next stage's edge pass (the
-// circulations, with a general Hodge star) on [lo, hi), block by block.
-func (s *trisk) doFinishEdges(lo, hi int) {
+// doFinishEdges is the scheme's finishing pass (phaseFinish) and then the
+// next stage's edge pass (the circulations, with a general Hodge star) on
+// [lo, hi), block by block.
+func (c *core) doFinishEdges(lo, hi int) {
 	for b := lo; b < hi; b += finishBlock {
 		e := min(b+finishBlock, hi)
-		s.doFinish(b, e)
-		if s.hodge == nil {
-			s.doEdges(b, e)
+		c.phaseFinish(b, e)
+		if c.hodge == nil {
+			c.doEdges(b, e)
 		} else {
-			s.doCirculation(b, e)
+			c.doCirculation(b, e)
 		}
 	}
 }
