@@ -22,16 +22,19 @@
  * (Shu & Osher 1988, J. Comput. Phys. 77, eq. 2.18), each stage finished
  * inside the cell and edge passes.
  *
- * Usage: hexstep N STEPS. Prints one line of JSON: the cell-steps per
- * second of the timed steps (after one untimed step), the fastest single
- * step, and the relative drifts of mass and energy as a check that the
- * operator is the conservative one (mass to round-off, energy to the
- * time-stepping error).
+ * Usage: hexstep N STEPS [phases]. Prints one line of JSON: the
+ * cell-steps per second of the timed steps (after one untimed step), the
+ * fastest single step, and the relative drifts of mass and energy as a
+ * check that the operator is the conservative one (mass to round-off,
+ * energy to the time-stepping error). With "phases" it first prints one
+ * more line: the fastest of 200 calls of each pass, in ns per cell, as
+ * `go test -bench Phases ./sim/scheme` reports gyrebench's.
  */
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 #include <time.h>
 
 typedef struct {
@@ -253,9 +256,41 @@ static double now(void) {
 	return t.tv_sec + 1e-9 * t.tv_nsec;
 }
 
+/* phases prints the fastest of 200 calls of each pass in ns per cell, on
+ * a copy of the state (the cell and finishing passes change what they
+ * finish), with a stage of Δt = 0 so that the state does not move. */
+static void phases(solver *s, const double *x) {
+	const mesh *m = &s->m;
+	size_t nx = (size_t)(m->nc + m->ne);
+	double *y = alloc(nx * sizeof(double)), *y0 = alloc(nx * sizeof(double));
+	for (size_t k = 0; k < nx; k++) y[k] = y0[k] = x[k];
+	double *h = y, *u = y + m->nc;
+	const char *names[4] = {"vertices", "edges", "cells", "finish"};
+	printf("{\"phases_ns_per_cell\":{");
+	for (int ph = 0; ph < 4; ph++) {
+		double best = 1e30;
+		for (int r = 0; r < 200; r++) {
+			double t = now();
+			switch (ph) {
+			case 0: vertices(s, h, u); break;
+			case 1: edges(s, h, u, 0, m->ne); break;
+			case 2: cells(s, h, y0, 0.75, 0.25, 0); break;
+			default: finish(s, u, y0 + m->nc, 0.75, 0.25, 0, 0, m->ne); break;
+			}
+			double el = now() - t;
+			if (el < best) best = el;
+		}
+		printf("%s\"%s\":%.2f", ph ? "," : "", names[ph], best * 1e9 / m->nc);
+	}
+	printf("}}\n");
+	free(y);
+	free(y0);
+}
+
 int main(int argc, char **argv) {
-	if (argc != 3) {
-		fprintf(stderr, "usage: hexstep N STEPS (N even, at least 4)\n");
+	int with_phases = argc == 4 && strcmp(argv[3], "phases") == 0;
+	if (argc != 3 && !with_phases) {
+		fprintf(stderr, "usage: hexstep N STEPS [phases] (N even, at least 4)\n");
 		return 2;
 	}
 	int n = atoi(argv[1]), steps = atoi(argv[2]);
@@ -298,6 +333,7 @@ int main(int argc, char **argv) {
 	double m0, e0, m1, e1, dt = 30;
 	invariants(&s, x, &m0, &e0);
 	step(&s, x, x0, dt); /* untimed: pages faulted in, caches warm */
+	if (with_phases) phases(&s, x);
 	double fastest = 1e30, t0 = now();
 	for (int k = 0; k < steps; k++) {
 		double t = now();
