@@ -97,9 +97,13 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 // hexagonal and icosahedral, the quadrilateral and cubed, and the
 // triangular grids) take straight-line paths with the same arithmetic.
 type PVStencil struct {
-	g  Grid
-	td []float64 // per vertex slot: t_{e,v} d_e
+	g    Grid
+	td   []float64 // per vertex slot: t_{e,v} d_e
+	runs []degreeRun
 }
+
+// degreeRun is a maximal range of vertices [lo, hi) of n edges each.
+type degreeRun struct{ lo, hi, n int32 }
 
 // NewPVStencil precomputes the signed dual lengths of g.
 func NewPVStencil(g Grid) *PVStencil {
@@ -107,62 +111,123 @@ func NewPVStencil(g Grid) *PVStencil {
 	for k, e := range g.VertexEdges {
 		s.td[k] = float64(g.VertexEdgeSign[k]) * g.DualLength[e]
 	}
+	for v := 0; v < g.NumVertices; v++ {
+		n := g.VertexEdgeStart[v+1] - g.VertexEdgeStart[v]
+		if last := len(s.runs) - 1; last >= 0 && s.runs[last].n == n {
+			s.runs[last].hi++
+		} else {
+			s.runs = append(s.runs, degreeRun{int32(v), int32(v + 1), n})
+		}
+	}
 	return s
 }
 
 // PotentialVorticity sets q[v-lo] = q_v for v in [lo, hi), with the
 // Coriolis parameter f, the velocity u and the depth h as whole fields.
+// Vertices come in runs of one degree (on most grids a run is the whole
+// mesh), and each run of three, four or six edges goes to its
+// straight-line loop.
 func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
-	start, edges, cells, kite, td := s.g.VertexEdgeStart, s.g.VertexEdges, s.g.VertexCells, s.g.VertexKiteArea, s.td
-	q, f, area := q[:hi-lo], f[lo:hi], s.g.VertexArea[lo:hi]
-	f, area = f[:len(q)], area[:len(q)]
-	k1 := int(start[lo])
-	for j := range q {
-		k0 := k1
-		k1 = int(start[lo+j+1])
-		var c, m float64
-		switch k1 - k0 {
-		case 3:
-			es, cs := (*[3]int32)(edges[k0:k1]), (*[3]int32)(cells[k0:k1])
-			ts, ks := (*[3]float64)(td[k0:k1]), (*[3]float64)(kite[k0:k1])
-			c += ts[0] * u[es[0]]
-			c += ts[1] * u[es[1]]
-			c += ts[2] * u[es[2]]
-			m += ks[0] * h[cs[0]]
-			m += ks[1] * h[cs[1]]
-			m += ks[2] * h[cs[2]]
-		case 4:
-			es, cs := (*[4]int32)(edges[k0:k1]), (*[4]int32)(cells[k0:k1])
-			ts, ks := (*[4]float64)(td[k0:k1]), (*[4]float64)(kite[k0:k1])
-			c += ts[0] * u[es[0]]
-			c += ts[1] * u[es[1]]
-			c += ts[2] * u[es[2]]
-			c += ts[3] * u[es[3]]
-			m += ks[0] * h[cs[0]]
-			m += ks[1] * h[cs[1]]
-			m += ks[2] * h[cs[2]]
-			m += ks[3] * h[cs[3]]
-		case 6:
-			es, cs := (*[6]int32)(edges[k0:k1]), (*[6]int32)(cells[k0:k1])
-			ts, ks := (*[6]float64)(td[k0:k1]), (*[6]float64)(kite[k0:k1])
-			c += ts[0] * u[es[0]]
-			c += ts[1] * u[es[1]]
-			c += ts[2] * u[es[2]]
-			c += ts[3] * u[es[3]]
-			c += ts[4] * u[es[4]]
-			c += ts[5] * u[es[5]]
-			m += ks[0] * h[cs[0]]
-			m += ks[1] * h[cs[1]]
-			m += ks[2] * h[cs[2]]
-			m += ks[3] * h[cs[3]]
-			m += ks[4] * h[cs[4]]
-			m += ks[5] * h[cs[5]]
-		default:
-			for k := k0; k < k1; k++ {
-				c += td[k] * u[edges[k]]
-				m += kite[k] * h[cells[k]]
-			}
+	for _, r := range s.runs {
+		a, b := max(lo, int(r.lo)), min(hi, int(r.hi))
+		if a >= b {
+			continue
 		}
+		qq := q[a-lo : b-lo]
+		switch r.n {
+		case 3:
+			s.pv3(qq, f, u, h, a)
+		case 4:
+			s.pv4(qq, f, u, h, a)
+		case 6:
+			s.pv6(qq, f, u, h, a)
+		default:
+			s.pvAny(qq, f, u, h, a)
+		}
+	}
+}
+
+// pvAny sets q[j] = q_{lo+j} for vertices of any degree.
+func (s *PVStencil) pvAny(q, f, u, h []float64, lo int) {
+	start, edges, cells, kite, td := s.g.VertexEdgeStart, s.g.VertexEdges, s.g.VertexCells, s.g.VertexKiteArea, s.td
+	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
+	for j := range q {
+		var c, m float64
+		for k := start[lo+j]; k < start[lo+j+1]; k++ {
+			c += td[k] * u[edges[k]]
+			m += kite[k] * h[cells[k]]
+		}
+		q[j] = (c + f[j]*area[j]) / m
+	}
+}
+
+// pv3 is pvAny for a run of vertices of three edges, written out.
+func (s *PVStencil) pv3(q, f, u, h []float64, lo int) {
+	k0 := int(s.g.VertexEdgeStart[lo])
+	n := 3 * len(q)
+	edges, cells, kite, td := s.g.VertexEdges[k0:k0+n], s.g.VertexCells[k0:k0+n], s.g.VertexKiteArea[k0:k0+n], s.td[k0:k0+n]
+	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
+	for j := range q {
+		k := 3 * j
+		es, cs := (*[3]int32)(edges[k:k+3]), (*[3]int32)(cells[k:k+3])
+		ts, ks := (*[3]float64)(td[k:k+3]), (*[3]float64)(kite[k:k+3])
+		var c, m float64
+		c += ts[0] * u[es[0]]
+		c += ts[1] * u[es[1]]
+		c += ts[2] * u[es[2]]
+		m += ks[0] * h[cs[0]]
+		m += ks[1] * h[cs[1]]
+		m += ks[2] * h[cs[2]]
+		q[j] = (c + f[j]*area[j]) / m
+	}
+}
+
+// pv4 is pvAny for a run of vertices of four edges, written out.
+func (s *PVStencil) pv4(q, f, u, h []float64, lo int) {
+	k0 := int(s.g.VertexEdgeStart[lo])
+	n := 4 * len(q)
+	edges, cells, kite, td := s.g.VertexEdges[k0:k0+n], s.g.VertexCells[k0:k0+n], s.g.VertexKiteArea[k0:k0+n], s.td[k0:k0+n]
+	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
+	for j := range q {
+		k := 4 * j
+		es, cs := (*[4]int32)(edges[k:k+4]), (*[4]int32)(cells[k:k+4])
+		ts, ks := (*[4]float64)(td[k:k+4]), (*[4]float64)(kite[k:k+4])
+		var c, m float64
+		c += ts[0] * u[es[0]]
+		c += ts[1] * u[es[1]]
+		c += ts[2] * u[es[2]]
+		c += ts[3] * u[es[3]]
+		m += ks[0] * h[cs[0]]
+		m += ks[1] * h[cs[1]]
+		m += ks[2] * h[cs[2]]
+		m += ks[3] * h[cs[3]]
+		q[j] = (c + f[j]*area[j]) / m
+	}
+}
+
+// pv6 is pvAny for a run of vertices of six edges, written out.
+func (s *PVStencil) pv6(q, f, u, h []float64, lo int) {
+	k0 := int(s.g.VertexEdgeStart[lo])
+	n := 6 * len(q)
+	edges, cells, kite, td := s.g.VertexEdges[k0:k0+n], s.g.VertexCells[k0:k0+n], s.g.VertexKiteArea[k0:k0+n], s.td[k0:k0+n]
+	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
+	for j := range q {
+		k := 6 * j
+		es, cs := (*[6]int32)(edges[k:k+6]), (*[6]int32)(cells[k:k+6])
+		ts, ks := (*[6]float64)(td[k:k+6]), (*[6]float64)(kite[k:k+6])
+		var c, m float64
+		c += ts[0] * u[es[0]]
+		c += ts[1] * u[es[1]]
+		c += ts[2] * u[es[2]]
+		c += ts[3] * u[es[3]]
+		c += ts[4] * u[es[4]]
+		c += ts[5] * u[es[5]]
+		m += ks[0] * h[cs[0]]
+		m += ks[1] * h[cs[1]]
+		m += ks[2] * h[cs[2]]
+		m += ks[3] * h[cs[3]]
+		m += ks[4] * h[cs[4]]
+		m += ks[5] * h[cs[5]]
 		q[j] = (c + f[j]*area[j]) / m
 	}
 }

@@ -52,7 +52,8 @@ func TestTRiSKRecurrenceMatchesWeights(t *testing.T) {
 // potential vorticity is, bit for bit, that of the formula summed in slot
 // order, q_v = (Σ t (d u) + f A_v) / Σ K h, on every grid family
 // (vertices of three, four and six edges take their own paths; no grid
-// of the package has vertices of another degree, for the general loop).
+// of the package has vertices of another degree, so the general loop is
+// checked by calling it on every vertex).
 func TestPVStencilMatchesGrid(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, spec := range []mesh.Spec{
@@ -89,9 +90,14 @@ func TestPVStencilMatchesGrid(t *testing.T) {
 		mid := m.NumVertices / 3
 		s.PotentialVorticity(got[:mid], f, u, h, 0, mid)
 		s.PotentialVorticity(got[mid:], f, u, h, mid, m.NumVertices)
+		general := make([]float64, m.NumVertices)
+		s.pvAny(general, f, u, h, 0)
 		for v := range want {
 			if math.Float64bits(got[v]) != math.Float64bits(want[v]) {
 				t.Fatalf("%s vertex %d: stencil %v, grid %v", spec.Kind, v, got[v], want[v])
+			}
+			if math.Float64bits(general[v]) != math.Float64bits(want[v]) {
+				t.Fatalf("%s vertex %d: general loop %v, grid %v", spec.Kind, v, general[v], want[v])
 			}
 		}
 	}
