@@ -161,6 +161,8 @@ func (s *square) momentumOut(lo, hi int) (u, du, u0 []float64) {
 	return s.x[s.nc+lo : s.nc+hi], nil, s.x0[s.nc+lo : s.nc+hi]
 }
 
+// momentumAL81 is al81's momentum pass (its coefficients in the comment
+// on square): ∂u_e/∂t in a tendency, u_e's stage value in a stage.
 func (s *square) momentumAL81(lo, hi int) {
 	u, du, u0 := s.momentumOut(lo, hi)
 	q, fk, phi, edges := s.q, s.fk, s.phi, s.edges[lo:hi]

@@ -116,10 +116,10 @@ func (c *core) Stage(x, x0 []float64, a, b, dt float64) { c.stage(x, x0, a, b, d
 // StageThen next on the same x, changed by nothing in between (the
 // step.ChainStager contract): the last pass then also does the next
 // stage's edge pass, block by block while the new u_e are in cache, and
-// the next stage skips it (where phaseFinishEdges is set: trisk). The edge pass reads h only at the two cells
-// of its edge, which the cell pass has finished, and u only at its own
-// edge, just written, so it computes the same values as in the next
-// stage.
+// the next stage skips it (where phaseFinishEdges is set: trisk). The
+// edge pass reads h only at the two cells of its edge, which the cell
+// pass has finished, and u only at its own edge, just written, so it
+// computes the same values as in the next stage.
 func (c *core) StageThen(x, x0 []float64, a, b, dt float64) { c.stage(x, x0, a, b, dt, true) }
 
 func (c *core) stage(x, x0 []float64, a, b, dt float64, then bool) {
