@@ -88,7 +88,12 @@ func (ps *pairs) create(w http.ResponseWriter, req *http.Request) {
 	}
 	var cfgs [2]sim.Config
 	for i, n := range sideNames {
-		c := session.Choices{Scheme: f.Get(n + ".scheme"), Integrator: f.Get(n + ".integrator"), Dt: f.Get(n + ".dt"), Grid: f.Get(n + ".grid"), N: f.Get(n + ".n"), Hodge: f.Get(n + ".hodge")}
+		c := session.Choices{
+			Scheme: f.Get(n + ".scheme"), Integrator: f.Get(n + ".integrator"), Dt: f.Get(n + ".dt"),
+			Grid: f.Get(n + ".grid"), N: f.Get(n + ".n"), Hodge: f.Get(n + ".hodge"),
+			Viscosity: f.Get(n + ".viscosity"), Hyperviscosity: f.Get(n + ".hyperviscosity"),
+			DivergenceDamping: f.Get(n + ".divergence_damping"),
+		}
 		cfgs[i] = cfg
 		cfgs[i].Initial.Params = cfg.Initial.Params // shared, read-only
 		if err := c.Apply(&cfgs[i]); err != nil {

@@ -23,6 +23,7 @@ import (
 	"gyrebench/sim/batch"
 	"gyrebench/sim/ncout"
 	"gyrebench/sim/scenario"
+	"gyrebench/sim/timeline"
 )
 
 // pairStatus is the pair's own status message.
@@ -423,6 +424,9 @@ func TestPairFormRefusals(t *testing.T) {
 		{url.Values{"base": {"run:1"}, "a.n": {"33"}}, []string{"A: ", "33"}},
 		{url.Values{"base": {"run:1"}, "a.n": {"5000"}}, []string{"A: ", "5000"}},
 		{url.Values{"base": {"nowhere"}}, []string{"base", "nowhere"}},
+		{url.Values{"base": {"run:1"}, "b.viscosity": {"-1"}}, []string{`B: scheme.viscosity = "-1"`, "≥ 0"}},
+		{url.Values{"base": {"run:1"}, "a.hyperviscosity": {"lots"}}, []string{`A: scheme.hyperviscosity = "lots"`, "m⁴ s⁻¹"}},
+		{url.Values{"base": {"run:1"}, "b.divergence_damping": {"Inf"}}, []string{`B: scheme.divergence_damping = "Inf"`, "finite"}},
 	}
 	for _, tc := range cases {
 		resp, err := http.PostForm(base+"/pairs", tc.form)
@@ -444,6 +448,27 @@ func TestPairFormRefusals(t *testing.T) {
 	}
 	if got := strings.TrimSpace(string(get(t, base+"/api/pairs"))); got != "[]" {
 		t.Errorf("refused forms started pairs: %s", got)
+	}
+}
+
+// TestPairDissipation: the new-pair form sets each side's explicit
+// dissipation; a side left blank keeps the base's, and each side's
+// recorded timeline starts from its own coefficients.
+func TestPairDissipation(t *testing.T) {
+	_, base := startServer(t, server.Options{Workers: 1, Scenario: writeScenario(t, "eddies", eddies)})
+	id := startPair(t, base, url.Values{"base": {"run:1"}, "b.hyperviscosity": {"2e14"}, "b.viscosity": {" 350 "}})
+	for _, c := range []struct {
+		side             string
+		viscosity, hyper float64
+	}{{"a", 0, 0}, {"b", 350, 2e14}} {
+		tl, err := timeline.Parse(get(t, base+"/pair/"+id+"/"+c.side+"/timeline.toml"), c.side+"/timeline.toml")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if s := tl.Config.Scheme; s.Viscosity != c.viscosity || s.Hyperviscosity != c.hyper || s.DivergenceDamping != 0 {
+			t.Errorf("side %s starts with ν₂ = %g, ν₄ = %g, divergence damping %g; want %g, %g, 0",
+				c.side, s.Viscosity, s.Hyperviscosity, s.DivergenceDamping, c.viscosity, c.hyper)
+		}
 	}
 }
 
