@@ -36,6 +36,8 @@ function sideEls(s) {
     canvas: q('field-canvas', s), time: q('sim-time', s), steps: q('steps', s), caption: q('caption', s),
     scheme: q('scheme-select', s), integrator: q('integrator-select', s), dt: q('dt-input', s),
     grid: q('grid-select', s), n: q('resolution-input', s), hint: q('grid-hint', s), summary: q('side-summary', s),
+    hodge: q('hodge-select', s), viscosity: q('viscosity-input', s), hyperviscosity: q('hyperviscosity-input', s),
+    divDamping: q('divergence-damping-input', s), dissipationHint: q('dissipation-hint', s),
   };
 }
 
@@ -250,10 +252,23 @@ function showConfig(s) {
   e.grid.value = c.grid.kind;
   if (document.activeElement !== e.dt) e.dt.value = String(c.dt);
   if (document.activeElement !== e.n) e.n.value = String(c.grid.n);
+  e.hodge.value = c.hodge || 'consistent';
+  const d = c.dissipation;
+  for (const [input, v] of [[e.viscosity, d.viscosity], [e.hyperviscosity, d.hyperviscosity], [e.divDamping, d.divergence_damping]]) {
+    if (document.activeElement !== input) input.value = String(v);
+  }
+  e.dissipationHint.textContent = d.hint;
   el.field.value = c.field;
   const nmax = c.limits.n_max[c.grid.kind];
   e.hint.textContent = `${c.grid.cells} cells · Δt ≤ ${fmtNum(c.limits.dt_max, 3)} s · n up to ${nmax}`;
-  const summary = `${c.grid.kind} n = ${c.grid.n} · ${c.scheme} · ${c.integrator} · Δt = ${fmtNum(c.dt, 4)} s`;
+  // The Hodge star where it matters and each dissipation term that is on,
+  // so that the captions tell A from B when only those differ.
+  const extra = [];
+  if (!c.grid.orthogonal) extra.push(`${c.hodge} H`);
+  for (const [v, name, unit] of [[d.viscosity, 'ν₂', 'm²/s'], [d.hyperviscosity, 'ν₄', 'm⁴/s'], [d.divergence_damping, 'ν_δ', 'm²/s']]) {
+    if (v > 0) extra.push(`${name} = ${fmtNum(v, 3)} ${unit}`);
+  }
+  const summary = [`${c.grid.kind} n = ${c.grid.n}`, c.scheme, c.integrator, `Δt = ${fmtNum(c.dt, 4)} s`, ...extra].join(' · ');
   e.summary.textContent = summary;
   e.caption.textContent = summary;
   e.canvas.dataset.grid = `${c.grid.kind} ${c.grid.n}`;
@@ -296,7 +311,11 @@ for (const name of SIDES) {
   const grid = () => send('set-grid', { kind: e.grid.value, n: numberOrText(e.n.value) }, name);
   e.grid.addEventListener('change', grid);
   e.n.addEventListener('change', grid);
-  commitOnEnter([e.dt, e.n]);
+  e.hodge.addEventListener('change', () => send('set-hodge', e.hodge.value, name));
+  for (const [input, key] of [[e.viscosity, 'viscosity'], [e.hyperviscosity, 'hyperviscosity'], [e.divDamping, 'divergence_damping']]) {
+    input.addEventListener('change', () => send('set-dissipation', { [key]: numberOrText(input.value) }, name));
+  }
+  commitOnEnter([e.dt, e.n, e.viscosity, e.hyperviscosity, e.divDamping]);
 }
 el.play.addEventListener('click', togglePlay);
 el.step.addEventListener('click', () => send('step'));

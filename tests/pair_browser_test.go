@@ -87,6 +87,24 @@ func TestPairBrowser(t *testing.T) {
 	t.Logf("paused at t = %s s, max |A − B| depth = %s m", ta, eval[string](t, ctx, role("diff-canvas")+`.dataset.maxAbs`))
 	screenshot(t, ctx, "", "pair-02-running.png")
 
+	// B's own Hodge star and dissipation, from its controls; A keeps its
+	// own, and a refused value changes nothing and says why.
+	cfgOf := func(side string) string { return `window.gyrebench.sides.` + side + `.config` }
+	chooseSide(t, ctx, "hyperviscosity-input", "b", "1e14")
+	poll(t, ctx, "B's hyperviscosity", cfgOf("b")+`.dissipation.hyperviscosity === 1e14 && `+cfgOf("a")+`.dissipation.hyperviscosity === 0 && `+
+		sideRole("dissipation-hint", "b")+`.textContent !== ''`, wait)
+	if a, b := eval[string](t, ctx, sideRole("caption", "a")+`.textContent`), eval[string](t, ctx, sideRole("caption", "b")+`.textContent`); strings.Contains(a, "ν₄") || !strings.Contains(b, "ν₄ = 1×10¹⁴") {
+		t.Errorf("captions after B's ν₄ = 1e14: A %q, B %q; want ν₄ named on B only", a, b)
+	}
+	chooseSide(t, ctx, "hodge-select", "b", "diagonal")
+	poll(t, ctx, "B's Hodge star", cfgOf("b")+`.hodge === 'diagonal' && `+cfgOf("a")+`.hodge === 'consistent' && `+sideRole("hodge-select", "a")+`.value === 'consistent'`, wait)
+	chooseSide(t, ctx, "viscosity-input", "a", "-1")
+	poll(t, ctx, "the refusal of ν₂ = -1 on A", role("message")+`.textContent.includes('scheme.viscosity')`, wait)
+	if v := eval[float64](t, ctx, cfgOf("a")+`.dissipation.viscosity`); v != 0 {
+		t.Errorf("after a refused ν₂ = -1, A's viscosity is %g, want 0", v)
+	}
+	screenshot(t, ctx, "", "pair-02b-dissipation.png")
+
 	// One action on one side: B to the quadrilateral grid.
 	chooseSide(t, ctx, "grid-select", "b", "quad")
 	poll(t, ctx, "B on the quadrilateral grid", sideRole("field-canvas", "b")+`.dataset.grid === 'quad 32' && !`+role("diff-note")+`.hidden`, wait)
