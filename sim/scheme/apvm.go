@@ -50,8 +50,8 @@ func (s *trisk) cellPVAny(lo, hi int) {
 		kt = kt[:len(sl)]
 		inv := invA[i]
 		m := 0.0
-		for k, c := range sl {
-			m += kt[k] * q[c.vert]
+		for k, sk := range sl {
+			m += kt[k] * q[sk.vert]
 		}
 		qc[i] = m * inv
 		var sumA, sumB, cm float64
