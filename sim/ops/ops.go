@@ -99,11 +99,35 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 type PVStencil struct {
 	g    Grid
 	td   []float64 // per vertex slot: t_{e,v} d_e
-	runs []degreeRun
+	runs []RowRun  // vertices by degree
 }
 
-// degreeRun is a maximal range of vertices [lo, hi) of n edges each.
-type degreeRun struct{ lo, hi, n int32 }
+// RowRun is a maximal range of rows [Lo, Hi) of a compressed sparse row
+// layout that all have N entries: cells of one number of edges, vertices
+// of one degree, rows of a Hodge star of one length. Kernels written out
+// for one N run over it.
+type RowRun struct{ Lo, Hi, N int32 }
+
+// RowRuns returns the maximal runs of rows of a compressed sparse row
+// layout in which row r holds the entries start[r] to start[r+1].
+func RowRuns(start []int32) []RowRun {
+	var rs []RowRun
+	for i := 0; i+1 < len(start); i++ {
+		if n := start[i+1] - start[i]; len(rs) > 0 && rs[len(rs)-1].N == n {
+			rs[len(rs)-1].Hi++
+		} else {
+			rs = append(rs, RowRun{int32(i), int32(i + 1), n})
+		}
+	}
+	return rs
+}
+
+// Clip returns the part [a, b) of the run inside [lo, hi); ok is false
+// where they do not overlap.
+func (r RowRun) Clip(lo, hi int) (a, b int, ok bool) {
+	a, b = max(lo, int(r.Lo)), min(hi, int(r.Hi))
+	return a, b, a < b
+}
 
 // NewPVStencil precomputes the signed dual lengths of g.
 func NewPVStencil(g Grid) *PVStencil {
@@ -111,14 +135,7 @@ func NewPVStencil(g Grid) *PVStencil {
 	for k, e := range g.VertexEdges {
 		s.td[k] = float64(g.VertexEdgeSign[k]) * g.DualLength[e]
 	}
-	for v := 0; v < g.NumVertices; v++ {
-		n := g.VertexEdgeStart[v+1] - g.VertexEdgeStart[v]
-		if last := len(s.runs) - 1; last >= 0 && s.runs[last].n == n {
-			s.runs[last].hi++
-		} else {
-			s.runs = append(s.runs, degreeRun{int32(v), int32(v + 1), n})
-		}
-	}
+	s.runs = RowRuns(g.VertexEdgeStart[:g.NumVertices+1])
 	return s
 }
 
@@ -129,12 +146,12 @@ func NewPVStencil(g Grid) *PVStencil {
 // straight-line loop.
 func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 	for _, r := range s.runs {
-		a, b := max(lo, int(r.lo)), min(hi, int(r.hi))
-		if a >= b {
+		a, b, ok := r.Clip(lo, hi)
+		if !ok {
 			continue
 		}
 		qq := q[a-lo : b-lo]
-		switch r.n {
+		switch r.N {
 		case 3:
 			s.pv3(qq, f, u, h, a)
 		case 4:

@@ -17,11 +17,11 @@ var unitSign = [2]float64{1, -1}
 // the same arithmetic in the same order.
 func (s *trisk) cellPV(lo, hi int) {
 	for _, r := range s.runs {
-		a, b := max(lo, int(r.lo)), min(hi, int(r.hi))
-		if a >= b {
+		a, b, ok := r.Clip(lo, hi)
+		if !ok {
 			continue
 		}
-		switch r.n {
+		switch r.N {
 		case 6:
 			s.cellPV6(a, b)
 		case 4:

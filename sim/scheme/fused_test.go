@@ -170,23 +170,23 @@ func TestHexagonKernelMatchesGeneral(t *testing.T) {
 			}
 			special := 0
 			for _, r := range s.runs {
-				kernel := map[int32]func(lo, hi int){6: s.cells6, 4: s.cells4, 3: s.cells3}[r.n]
+				kernel := map[int32]func(lo, hi int){6: s.cells6, 4: s.cells4, 3: s.cells3}[r.N]
 				if kernel == nil {
 					continue
 				}
-				special += int(r.hi - r.lo)
-				kernel(int(r.lo), int(r.hi))
-				dhK := append([]float64(nil), dx[r.lo:r.hi]...)
+				special += int(r.Hi - r.Lo)
+				kernel(int(r.Lo), int(r.Hi))
+				dhK := append([]float64(nil), dx[r.Lo:r.Hi]...)
 				ttK := append([]pair(nil), s.tt...)
-				s.cellsAny(int(r.lo), int(r.hi))
+				s.cellsAny(int(r.Lo), int(r.Hi))
 				for i, v := range dhK {
-					if math.Float64bits(v) != math.Float64bits(dx[int(r.lo)+i]) {
-						t.Fatalf("%s %s: cell %d: ∂h/∂t %g by the %d-edge kernel, %g by the general one", spec.Kind, name, int(r.lo)+i, v, r.n, dx[int(r.lo)+i])
+					if math.Float64bits(v) != math.Float64bits(dx[int(r.Lo)+i]) {
+						t.Fatalf("%s %s: cell %d: ∂h/∂t %g by the %d-edge kernel, %g by the general one", spec.Kind, name, int(r.Lo)+i, v, r.N, dx[int(r.Lo)+i])
 					}
 				}
 				for e := range ttK {
 					if ttK[e] != s.tt[e] {
-						t.Fatalf("%s %s: edge %d: shares %v by the %d-edge kernel, %v by the general one", spec.Kind, name, e, ttK[e], r.n, s.tt[e])
+						t.Fatalf("%s %s: edge %d: shares %v by the %d-edge kernel, %v by the general one", spec.Kind, name, e, ttK[e], r.N, s.tt[e])
 					}
 				}
 			}
@@ -224,22 +224,22 @@ func TestHodgeRowKernelsMatchGeneral(t *testing.T) {
 			s.pool.For(s.ne, s.phaseCirc)
 			special := 0
 			for _, r := range s.hodgeRuns {
-				kernel := map[int32]func(lo, hi int){5: s.hodgeRows5, 7: s.hodgeRows7, 11: s.hodgeRows11}[r.n]
+				kernel := map[int32]func(lo, hi int){5: s.hodgeRows5, 7: s.hodgeRows7, 11: s.hodgeRows11}[r.N]
 				if kernel == nil {
 					continue
 				}
-				seen[r.n] = true
-				special += int(r.hi - r.lo)
-				kernel(int(r.lo), int(r.hi))
+				seen[r.N] = true
+				special += int(r.Hi - r.Lo)
+				kernel(int(r.Lo), int(r.Hi))
 				fkK := append([]pair(nil), s.fk...)
 				luK := append([]float64(nil), s.lu...)
-				s.hodgeRows(int(r.lo), int(r.hi))
-				for e := r.lo; e < r.hi; e++ {
+				s.hodgeRows(int(r.Lo), int(r.Hi))
+				for e := r.Lo; e < r.Hi; e++ {
 					if math.Float64bits(fkK[e][0]) != math.Float64bits(s.fk[e][0]) || math.Float64bits(fkK[e][1]) != math.Float64bits(s.fk[e][1]) {
-						t.Fatalf("%s %s: edge %d: flux and share %v by the %d-entry row kernel, %v by the general one", spec.Kind, name, e, fkK[e], r.n, s.fk[e])
+						t.Fatalf("%s %s: edge %d: flux and share %v by the %d-entry row kernel, %v by the general one", spec.Kind, name, e, fkK[e], r.N, s.fk[e])
 					}
 					if s.lu != nil && math.Float64bits(luK[e]) != math.Float64bits(s.lu[e]) {
-						t.Fatalf("%s %s: edge %d: H v %g by the %d-entry row kernel, %g by the general one", spec.Kind, name, e, luK[e], r.n, s.lu[e])
+						t.Fatalf("%s %s: edge %d: H v %g by the %d-entry row kernel, %g by the general one", spec.Kind, name, e, luK[e], r.N, s.lu[e])
 					}
 				}
 			}

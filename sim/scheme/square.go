@@ -50,7 +50,9 @@ type square struct {
 
 // squareEdge is what the momentum pass reads for one edge e, in one
 // stream: the six neighbours' fluxes enter the local frame with the sign
-// of n_{e'} there and a division by d_e, which coef holds.
+// of n_{e'} there and a division by d_e, which coef holds. coef is ±inv
+// exactly, but forming it in the pass (a sign times inv) made al81's
+// arithmetic-bound pass slower than loading it.
 type squareEdge struct {
 	coef   [6]float64 // ±1/d_e of V_NE, V_NW, V_SW, V_SE, U_E, U_W
 	inv    float64    // 1/d_e

@@ -27,15 +27,9 @@ func BenchmarkPhases(b *testing.B) {
 		s := newTRiSK(TRiSKEnergy, f.g, f.phys, par.New(1), Options{})
 		dx := make([]float64, len(f.x))
 		s.x, s.dst, s.dh = f.x, dx, dx[:f.m.NumCells]
-		for _, ph := range []struct {
-			name string
-			n    int
-			fn   func(lo, hi int)
-		}{{"vertices", s.nv, s.phaseVertices}, {"edges", s.ne, s.phaseEdges}, {"cells", s.nc, s.phaseCells}, {"momentum", s.ne, s.phaseMomentum}} {
-			b.Run(fmt.Sprintf("%s-%d/%s", spec.Kind, spec.N, ph.name), func(b *testing.B) {
-				reportMinPerCell(b, f.m.NumCells, func() { ph.fn(0, ph.n) })
-			})
-		}
+		benchPasses(b, fmt.Sprintf("%s-%d", spec.Kind, spec.N), f.m.NumCells,
+			pass{"vertices", s.nv, s.phaseVertices}, pass{"edges", s.ne, s.phaseEdges},
+			pass{"cells", s.nc, s.phaseCells}, pass{"momentum", s.ne, s.phaseMomentum})
 	}
 }
 
@@ -69,6 +63,23 @@ func BenchmarkHodge(b *testing.B) {
 	}
 }
 
+// pass is one pass of a scheme over n cells, edges or vertices.
+type pass struct {
+	name string
+	n    int
+	fn   func(lo, hi int)
+}
+
+// benchPasses runs one sub-benchmark prefix/name per pass, each reporting
+// the fastest whole pass per cell of the mesh.
+func benchPasses(b *testing.B, prefix string, cells int, passes ...pass) {
+	for _, ph := range passes {
+		b.Run(prefix+"/"+ph.name, func(b *testing.B) {
+			reportMinPerCell(b, cells, func() { ph.fn(0, ph.n) })
+		})
+	}
+}
+
 // reportMinPerCell calls fn b.N times and reports the fastest call per
 // cell as min-ns/cell: on a shared machine the mean is noisy.
 func reportMinPerCell(b *testing.B, cells int, fn func()) {
@@ -98,15 +109,8 @@ func BenchmarkPhasesAPVM(b *testing.B) {
 		s.x, s.dst, s.dh = f.x, dx, dx[:f.m.NumCells]
 		s.phaseVertices(0, s.nv)
 		s.phaseEdges(0, s.ne)
-		for _, ph := range []struct {
-			name string
-			n    int
-			fn   func(lo, hi int)
-		}{{"cellpv", s.nc, s.phaseQ}, {"anticipate", s.ne, s.phaseA}, {"cells", s.nc, s.phaseCells}} {
-			b.Run(fmt.Sprintf("%s-%d/%s", spec.Kind, spec.N, ph.name), func(b *testing.B) {
-				reportMinPerCell(b, f.m.NumCells, func() { ph.fn(0, ph.n) })
-			})
-		}
+		benchPasses(b, fmt.Sprintf("%s-%d", spec.Kind, spec.N), f.m.NumCells,
+			pass{"cellpv", s.nc, s.phaseQ}, pass{"anticipate", s.ne, s.phaseA}, pass{"cells", s.nc, s.phaseCells})
 	}
 }
 
@@ -121,14 +125,6 @@ func BenchmarkPhasesSquare(b *testing.B) {
 		s.x, s.dst, s.dh = f.x, dx, dx[:f.m.NumCells]
 		s.phaseVertices(0, s.nv)
 		s.phaseEdges(0, s.ne)
-		for _, ph := range []struct {
-			name string
-			n    int
-			fn   func(lo, hi int)
-		}{{"cells", s.nc, s.phaseCells}, {"momentum", s.ne, s.phaseMomentum}} {
-			b.Run(fmt.Sprintf("%s/%s", name, ph.name), func(b *testing.B) {
-				reportMinPerCell(b, f.m.NumCells, func() { ph.fn(0, ph.n) })
-			})
-		}
+		benchPasses(b, name, f.m.NumCells, pass{"cells", s.nc, s.phaseCells}, pass{"momentum", s.ne, s.phaseMomentum})
 	}
 }

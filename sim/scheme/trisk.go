@@ -73,7 +73,7 @@ func newCore(g ops.Grid, phys Physics, pool *par.Pool) core {
 		c.hodge = g.Hodge
 		c.vh = make([]pair, g.NumEdges)
 		touch(c.vh)
-		c.hodgeRuns = rowRuns(g.Hodge.Start)
+		c.hodgeRuns = ops.RowRuns(g.Hodge.Start)
 	}
 	return c
 }
@@ -171,11 +171,11 @@ func (c *core) doCirculation(lo, hi int) {
 // row loop's counter and bounds checks were a fifth of the pass.
 func (c *core) doHodge(lo, hi int) {
 	for _, r := range c.hodgeRuns {
-		a, b := max(lo, int(r.lo)), min(hi, int(r.hi))
-		if a >= b {
+		a, b, ok := r.Clip(lo, hi)
+		if !ok {
 			continue
 		}
-		switch r.n {
+		switch r.N {
 		case 5:
 			c.hodgeRows5(a, b)
 		case 7:
@@ -424,16 +424,16 @@ func (s *trisk) lastPasses() {
 // roughly 160 floating-point operations of a hexagon and changes no bit.
 func (s *trisk) doCells(lo, hi int) {
 	for _, r := range s.runs {
-		a, b := max(lo, int(r.lo)), min(hi, int(r.hi))
-		if a >= b {
+		a, b, ok := r.Clip(lo, hi)
+		if !ok {
 			continue
 		}
 		switch {
-		case r.n == 6:
+		case r.N == 6:
 			s.cells6(a, b)
-		case r.n == 4:
+		case r.N == 4:
 			s.cells4(a, b)
-		case r.n == 3:
+		case r.N == 3:
 			s.cells3(a, b)
 		default:
 			s.cellsAny(a, b)
@@ -441,25 +441,11 @@ func (s *trisk) doCells(lo, hi int) {
 	}
 }
 
-// run is a range of cells [lo, hi) that all have n edges.
-type run struct{ lo, hi, n int32 }
+// run is a range of cells (or of rows of H) that all have the same
+// number of entries.
+type run = ops.RowRun
 
-func cellRuns(g ops.Grid) []run { return rowRuns(g.CellEdgeStart) }
-
-// rowRuns returns the maximal ranges of rows of a compressed sparse row
-// layout (row r holds the entries start[r] to start[r+1]) that have the
-// same number of entries.
-func rowRuns(start []int32) []run {
-	var rs []run
-	for i := 0; i+1 < len(start); i++ {
-		if n := start[i+1] - start[i]; len(rs) > 0 && rs[len(rs)-1].n == n {
-			rs[len(rs)-1].hi++
-		} else {
-			rs = append(rs, run{int32(i), int32(i + 1), n})
-		}
-	}
-	return rs
-}
+func cellRuns(g ops.Grid) []run { return ops.RowRuns(g.CellEdgeStart) }
 
 // cellSlot is one edge of a cell as the cell pass reads it, so that one
 // stream carries what the CSR arrays spread over four: r = K_{i,v}/A_i,
