@@ -538,6 +538,14 @@ func share(enst bool, qe, ga, gb, phi float64) float64 {
 // a and b are), ta, tb its B, ha, hb half of A, and ga_m, gb_m half the
 // cell's sums G_m.
 func (s *trisk) cells6(lo, hi int) {
+	if !s.cells6Packed(lo, hi) {
+		s.cells6Go(lo, hi)
+	}
+}
+
+// cells6Go is cells6 in Go, for every build; cells6Packed is the same
+// arithmetic on packed SSE2 pairs where the build has it.
+func (s *trisk) cells6Go(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:6*len(h)]
 	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy

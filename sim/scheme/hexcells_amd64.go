@@ -1,0 +1,67 @@
+//go:build amd64 && !purego
+
+package scheme
+
+import (
+	"math"
+	"unsafe"
+)
+
+// hexArgs is what hexCellsSSE2 reads, in the layout of its offsets
+// (hexcells_amd64.s): pointers to the first element of each range.
+type hexArgs struct {
+	h, invA, out, x0, bottom unsafe.Pointer
+	slots, q, fk, tt         unsafe.Pointer
+	n                        int
+	g, a, b, dt              float64
+	mode, enst               int // mode: 0 a tendency, 1 the stage h + Δt f, 2 a x0 + b (h + Δt f)
+	quarterSign              [2]float64
+	half, quarter            float64
+	sign                     uint64
+}
+
+// hexCellsSSE2 runs the hexagon kernel on a.n cells (hexcells_amd64.s).
+//
+//go:noescape
+func hexCellsSSE2(a *hexArgs)
+
+// hexKernelPacked reports whether cells6 has a packed kernel on this
+// build; the tests check that it gives cells6Go's bits.
+const hexKernelPacked = true
+
+// cells6Packed runs cells6 for [lo, hi) on the packed kernel and reports
+// true, or reports false where the kernel does not apply (apvm's
+// correction of q_e).
+func (s *trisk) cells6Packed(lo, hi int) bool {
+	if s.corr != nil {
+		return false
+	}
+	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
+	if len(h) == 0 {
+		return true
+	}
+	slots = slots[:6*len(h)]
+	a := hexArgs{
+		h: unsafe.Pointer(&h[0]), invA: unsafe.Pointer(&invA[0]),
+		slots: unsafe.Pointer(&slots[0]), q: unsafe.Pointer(&s.q[0]),
+		fk: unsafe.Pointer(&s.fk[0]), tt: unsafe.Pointer(&s.tt[0]),
+		n: len(h), g: s.phys.G, a: s.stageA, b: s.stageB, dt: s.stageDt,
+		quarterSign: quarterSign, half: 0.5, quarter: 0.25, sign: math.Float64bits(math.Copysign(0, -1)),
+	}
+	switch {
+	case dh != nil:
+		a.out = unsafe.Pointer(&dh[0])
+	case s.stageA == 0 && s.stageB == 1:
+		a.mode = 1
+	default:
+		a.mode, a.x0 = 2, unsafe.Pointer(&x0[0])
+	}
+	if b != nil {
+		a.bottom = unsafe.Pointer(&b[0])
+	}
+	if s.enstrophy {
+		a.enst = 1
+	}
+	hexCellsSSE2(&a)
+	return true
+}

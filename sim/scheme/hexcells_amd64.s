@@ -1,0 +1,228 @@
+//go:build amd64 && !purego
+
+#include "textflag.h"
+
+// hexCellsSSE2 is cells6 (trisk.go) for trisk-energy and
+// trisk-enstrophy, with each edge's pair (b_m, a_m) in the two lanes of
+// one SSE2 register: the sums A and B, the depth tendency and the
+// recurrence for G run once for both, as packed operations. Every
+// operation is the Go kernel's, in its order, on the same operands (SSE2
+// has no fused multiply-add, and packed and scalar IEEE operations round
+// alike), so the results are the same bits; the tests compare them.
+//
+// Frame: qe_0 … qe_5 at 0(SP) … 40(SP).
+//
+// Registers. DI: args; SI: the cell's six slots; CX: the cell's index;
+// R8: q; R9: fk; R10: tt; R11: h; R12: 1/A; R13: ∂h/∂t or x0.
+// X0–X5: P_m = (b_m, a_m); X6: S = (B-lane sum, A-lane sum), later G;
+// X7: T; X8: Σ l d u²; X9: the prefix sum C_m; X12, X13: q of the
+// previous and current vertex, later Φ and H = 2S.
+
+// args offsets (hexArgs in hexcells_amd64.go)
+#define A_H 0
+#define A_INVA 8
+#define A_OUT 16
+#define A_X0 24
+#define A_BOTTOM 32
+#define A_SLOTS 40
+#define A_Q 48
+#define A_FK 56
+#define A_TT 64
+#define A_N 72
+#define A_G 80
+#define A_A 88
+#define A_B 96
+#define A_DT 104
+#define A_MODE 112
+#define A_ENST 120
+#define A_QSIGN 128
+#define A_HALF 144
+#define A_QUARTER 152
+#define A_SIGN 160
+
+// EDGE loads edge m of the cell (its slot at off(SI)): qe_m =
+// ½(q_prev + q_m) to qe(SP), a_m = quarterSign·F, the kinetic-energy
+// share into X8, and P = (qe_m a_m, a_m), added to S.
+#define EDGE(off, qe, P, QPREV, QCUR) \
+	MOVL   off+12(SI), DX \
+	MOVSD  (R8)(DX*8), QCUR \
+	MOVAPD QPREV, X10 \
+	ADDSD  QCUR, X10 \
+	MULSD  A_HALF(DI), X10 \
+	MOVSD  X10, qe(SP) \
+	MOVL   off+8(SI), AX \
+	MOVL   AX, BX \
+	ANDL   $1, BX \
+	ANDL   $-2, AX \
+	MOVSD  (R9)(AX*8), P \
+	MULSD  A_QSIGN(DI)(BX*8), P \
+	ADDSD  8(R9)(AX*8), X8 \
+	UNPCKLPD P, P \
+	MULSD  X10, P \
+	ADDPD  P, X6
+
+// TERM adds C_m P_m to T, C_m in X9.
+#define TERM(P) \
+	MOVAPD   X9, X14 \
+	UNPCKLPD X14, X14 \
+	MULPD    P, X14 \
+	ADDPD    X14, X7
+
+// NEXTG steps G (X6) from edge m to m+1: G += r_m H − (P_m + P_{m+1}).
+#define NEXTG(roff, PM, PN) \
+	MOVSD    roff(SI), X10 \
+	UNPCKLPD X10, X10 \
+	MULPD    X13, X10 \
+	MOVAPD   PM, X11 \
+	ADDPD    PN, X11 \
+	SUBPD    X11, X10 \
+	ADDPD    X10, X6
+
+// SHAREE stores edge m's trisk-energy share (q_e G_a + G_b) + Φ.
+#define SHAREE(off, qe) \
+	MOVHLPS X6, X10 \
+	MULSD   qe(SP), X10 \
+	ADDSD   X6, X10 \
+	ADDSD   X12, X10 \
+	MOVL    off+8(SI), AX \
+	MOVSD   X10, (R10)(AX*8)
+
+// SHAREZ stores edge m's trisk-enstrophy share 2 q_e G_a + Φ.
+#define SHAREZ(off, qe) \
+	MOVHLPS X6, X10 \
+	MULSD   qe(SP), X10 \
+	ADDSD   X10, X10 \
+	ADDSD   X12, X10 \
+	MOVL    off+8(SI), AX \
+	MOVSD   X10, (R10)(AX*8)
+
+// func hexCellsSSE2(a *hexArgs)
+TEXT ·hexCellsSSE2(SB), NOSPLIT, $48-8
+	MOVQ a+0(FP), DI
+	MOVQ A_SLOTS(DI), SI
+	MOVQ A_Q(DI), R8
+	MOVQ A_FK(DI), R9
+	MOVQ A_TT(DI), R10
+	MOVQ A_H(DI), R11
+	MOVQ A_INVA(DI), R12
+	MOVQ A_OUT(DI), R13
+	CMPQ A_MODE(DI), $2
+	JNE  start
+	MOVQ A_X0(DI), R13
+
+start:
+	XORQ CX, CX
+
+cell:
+	// q of the vertex before edge 0: slot 5's.
+	MOVL  5*16+12(SI), DX
+	MOVSD (R8)(DX*8), X12
+	XORPD X6, X6
+	XORPD X8, X8
+	EDGE(0, 0, X0, X12, X13)
+	EDGE(16, 8, X1, X13, X12)
+	EDGE(32, 16, X2, X12, X13)
+	EDGE(48, 24, X3, X13, X12)
+	EDGE(64, 32, X4, X12, X13)
+	EDGE(80, 40, X5, X13, X12)
+
+	// T = C_1 P_1 + … + C_5 P_5, C_1 = r_0, C_{m+1} = C_m + r_m.
+	MOVSD    0(SI), X9
+	MOVAPD   X9, X7
+	UNPCKLPD X7, X7
+	MULPD    X1, X7
+	ADDSD    16(SI), X9
+	TERM(X2)
+	ADDSD    32(SI), X9
+	TERM(X3)
+	ADDSD    48(SI), X9
+	TERM(X4)
+	ADDSD    64(SI), X9
+	TERM(X5)
+
+	// Φ = (¼ Σ l d u²)(1/A) + g(h + b), in X12.
+	MOVSD (R11)(CX*8), X11
+	MOVQ  A_BOTTOM(DI), BX
+	TESTQ BX, BX
+	JZ    flat
+	ADDSD (BX)(CX*8), X11
+
+flat:
+	MULSD  A_G(DI), X11
+	MOVAPD X8, X12
+	MULSD  A_QUARTER(DI), X12
+	MULSD  (R12)(CX*8), X12
+	ADDSD  X11, X12
+
+	// H = S + S; f = −((H_a + H_a)/A).
+	MOVAPD  X6, X13
+	ADDPD   X6, X13
+	MOVHLPS X13, X11
+	ADDSD   X11, X11
+	MULSD   (R12)(CX*8), X11
+	MOVSD   A_SIGN(DI), X14
+	XORPD   X14, X11
+	MOVQ    A_MODE(DI), AX
+	CMPQ    AX, $1
+	JEQ     firststage
+	JGT     stage
+	MOVSD   X11, (R13)(CX*8)
+	JMP     depthdone
+
+firststage:
+	// h + Δt f
+	MULSD A_DT(DI), X11
+	ADDSD (R11)(CX*8), X11
+	MOVSD X11, (R11)(CX*8)
+	JMP   depthdone
+
+stage:
+	// a x0 + b (h + Δt f)
+	MULSD A_DT(DI), X11
+	ADDSD (R11)(CX*8), X11
+	MULSD A_B(DI), X11
+	MOVSD (R13)(CX*8), X14
+	MULSD A_A(DI), X14
+	ADDSD X11, X14
+	MOVSD X14, (R11)(CX*8)
+
+depthdone:
+	// G_0 = (S − P_0) − (T + T).
+	SUBPD X0, X6
+	ADDPD X7, X7
+	SUBPD X7, X6
+	CMPQ  A_ENST(DI), $0
+	JNE   enstrophy
+
+	SHAREE(0, 0)
+	NEXTG(0, X0, X1)
+	SHAREE(16, 8)
+	NEXTG(16, X1, X2)
+	SHAREE(32, 16)
+	NEXTG(32, X2, X3)
+	SHAREE(48, 24)
+	NEXTG(48, X3, X4)
+	SHAREE(64, 32)
+	NEXTG(64, X4, X5)
+	SHAREE(80, 40)
+	JMP next
+
+enstrophy:
+	SHAREZ(0, 0)
+	NEXTG(0, X0, X1)
+	SHAREZ(16, 8)
+	NEXTG(16, X1, X2)
+	SHAREZ(32, 16)
+	NEXTG(32, X2, X3)
+	SHAREZ(48, 24)
+	NEXTG(48, X3, X4)
+	SHAREZ(64, 32)
+	NEXTG(64, X4, X5)
+	SHAREZ(80, 40)
+
+next:
+	ADDQ $96, SI
+	INCQ CX
+	CMPQ CX, A_N(DI)
+	JLT  cell
+	RET

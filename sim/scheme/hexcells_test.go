@@ -1,0 +1,118 @@
+package scheme
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"testing"
+
+	"gyrebench/sim/mesh"
+	"gyrebench/sim/par"
+)
+
+// The packed hexagon kernel (hexcells_amd64.s, where the build has it) is
+// cells6Go on SSE2 pairs: for both schemes it serves, in a tendency and
+// in both kinds of stage, with a bottom and without, over whole runs and
+// over ranges that start and end inside one, it must give the same bits
+// for the depths (or ∂h/∂t) and for every share.
+func TestPackedHexagonKernelMatchesGo(t *testing.T) {
+	type mode struct {
+		name     string
+		tendency bool
+		a, b, dt float64
+	}
+	modes := []mode{
+		{"tendency", true, 0, 0, 0},
+		{"stage h+Δt f", false, 0, 1, 600},
+		{"stage a x0 + b(h+Δt f)", false, 0.75, 0.25, 150},
+	}
+	ran := 0
+	for _, spec := range []mesh.Spec{
+		{Kind: mesh.Hex, N: 16, Length: 2e6}, {Kind: mesh.Icosahedral, N: 3, Radius: 6.37122e6},
+	} {
+		f := randomFixtureOn(t, spec, 11)
+		for _, name := range []string{TRiSKEnergy, TRiSKEnstrophy} {
+			for _, flat := range []bool{false, true} {
+				phys := f.phys
+				if flat {
+					phys.Bottom = nil
+				}
+				s := newTRiSK(name, f.g, phys, par.New(1), Options{})
+				x := slices.Clone(f.x)
+				s.x = x
+				s.pool.For(s.nv, s.phaseVertices)
+				s.edgePasses()
+				x0 := slices.Clone(f.x)
+				for i := range x0[:s.nc] {
+					x0[i] *= 1.01
+				}
+				for _, r := range s.runs {
+					if r.N != 6 {
+						continue
+					}
+					lo, hi := int(r.Lo), int(r.Hi)
+					for _, span := range [][2]int{{lo, hi}, {lo + 3, lo + 3 + (hi-lo)/2}} {
+						for _, m := range modes {
+							goX, goTT, goDH := run6(s, x, x0, m.tendency, m.a, m.b, m.dt, span, s.cells6Go, nil)
+							var packed bool
+							asmX, asmTT, asmDH := run6(s, x, x0, m.tendency, m.a, m.b, m.dt, span, nil, &packed)
+							if packed != hexKernelPacked {
+								t.Fatalf("%s %s: the packed kernel ran: %v, want %v", spec.Kind, name, packed, hexKernelPacked)
+							}
+							where := fmt.Sprint(spec.Kind) + " " + name + " " + m.name
+							if flat {
+								where += " flat"
+							}
+							sameBits(t, where+": h", goX[:s.nc], asmX[:s.nc])
+							sameBits(t, where+": ∂h/∂t", goDH, asmDH)
+							for e := range goTT {
+								if math.Float64bits(goTT[e][0]) != math.Float64bits(asmTT[e][0]) || math.Float64bits(goTT[e][1]) != math.Float64bits(asmTT[e][1]) {
+									t.Fatalf("%s: edge %d: shares %v in Go, %v packed", where, e, goTT[e], asmTT[e])
+								}
+							}
+							ran++
+						}
+					}
+				}
+			}
+		}
+	}
+	if ran == 0 {
+		t.Fatal("no hexagon runs")
+	}
+}
+
+// run6 runs one hexagon kernel on a copy of x for the cells of span, as a
+// tendency or as a stage, from shares and depth tendencies set to NaN,
+// and returns the state, the shares and ∂h/∂t. With kernel nil it runs
+// cells6Packed and reports in packed whether that did the work.
+func run6(s *trisk, x, x0 []float64, tendency bool, a, b, dt float64, span [2]int, kernel func(lo, hi int), packed *bool) (xs []float64, tt []pair, dh []float64) {
+	xs = slices.Clone(x)
+	dh = make([]float64, s.nc)
+	for i := range dh {
+		dh[i] = math.NaN()
+	}
+	for e := range s.tt {
+		s.tt[e] = pair{math.NaN(), math.NaN()}
+	}
+	s.x, s.x0, s.dh = xs, x0, nil
+	s.stageA, s.stageB, s.stageDt = a, b, dt
+	if tendency {
+		s.dh = dh
+	}
+	if kernel != nil {
+		kernel(span[0], span[1])
+	} else if *packed = s.cells6Packed(span[0], span[1]); !*packed {
+		s.cells6Go(span[0], span[1])
+	}
+	return xs, slices.Clone(s.tt), dh
+}
+
+func sameBits(t *testing.T, what string, want, got []float64) {
+	t.Helper()
+	for i := range want {
+		if math.Float64bits(want[i]) != math.Float64bits(got[i]) {
+			t.Fatalf("%s: element %d: %v in Go, %v packed", what, i, want[i], got[i])
+		}
+	}
+}
