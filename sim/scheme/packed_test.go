@@ -3,6 +3,7 @@ package scheme
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"slices"
 	"testing"
 
@@ -10,7 +11,7 @@ import (
 	"gyrebench/sim/par"
 )
 
-// The packed hexagon kernel (hexcells_amd64.s, where the build has it) is
+// The packed hexagon kernel (packed_amd64.s, where the build has it) is
 // cells6Go on SSE2 pairs: for both schemes it serves, in a tendency and
 // in both kinds of stage, with a bottom and without, over whole runs and
 // over ranges that start and end inside one, it must give the same bits
@@ -113,6 +114,48 @@ func sameBits(t *testing.T, what string, want, got []float64) {
 	for i := range want {
 		if math.Float64bits(want[i]) != math.Float64bits(got[i]) {
 			t.Fatalf("%s: element %d: %v in Go, %v packed", what, i, want[i], got[i])
+		}
+	}
+}
+
+// finishPacked divides two edges at a time where the build has it; on
+// random shares and lengths, odd and even, each mode must give the bits
+// of the Go loops of doMomentum and doFinish on the edges it reports
+// done, and leave the others alone.
+func TestPackedFinishMatchesGo(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 9))
+	for _, n := range []int{1, 2, 7, 64, 513} {
+		tt := make([]pair, n)
+		d, x, x0 := make([]float64, n), make([]float64, n), make([]float64, n)
+		for e := range tt {
+			tt[e] = pair{1e4 * rng.NormFloat64(), 1e4 * rng.NormFloat64()}
+			d[e], x[e], x0[e] = 1e4*(1+rng.Float64()), 10*rng.NormFloat64(), 10*rng.NormFloat64()
+		}
+		a, b, dt := 0.75, 0.25, 300.0
+		for mode, want := range [3]func(e int) float64{
+			func(e int) float64 { return (tt[e][0] - tt[e][1]) / d[e] },
+			func(e int) float64 { return x[e] + dt*((tt[e][0]-tt[e][1])/d[e]) },
+			func(e int) float64 { return a*x0[e] + b*(x[e]+dt*((tt[e][0]-tt[e][1])/d[e])) },
+		} {
+			got := slices.Clone(x)
+			done := finishPacked(mode, got, x0, tt, d, a, b, dt)
+			if wantDone := 0; hexKernelPacked {
+				wantDone = n &^ 1
+				if done != wantDone {
+					t.Fatalf("n %d mode %d: %d edges done, want %d", n, mode, done, wantDone)
+				}
+			} else if done != wantDone {
+				t.Fatalf("n %d mode %d: %d edges done on a build without the packed pass", n, mode, done)
+			}
+			for e := range got {
+				w := x[e]
+				if e < done {
+					w = want(e)
+				}
+				if math.Float64bits(got[e]) != math.Float64bits(w) {
+					t.Fatalf("n %d mode %d: edge %d: %v, want %v", n, mode, e, got[e], w)
+				}
+			}
 		}
 	}
 }

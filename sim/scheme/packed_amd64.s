@@ -18,7 +18,7 @@
 // X7: T; X8: Σ l d u²; X9: the prefix sum C_m; X12, X13: q of the
 // previous and current vertex, later Φ and H = 2S.
 
-// args offsets (hexArgs in hexcells_amd64.go)
+// args offsets (hexArgs in packed_amd64.go)
 #define A_H 0
 #define A_INVA 8
 #define A_OUT 16
@@ -225,4 +225,104 @@ next:
 	INCQ CX
 	CMPQ CX, A_N(DI)
 	JLT  cell
+	RET
+
+// finishSSE2 is doMomentum and doFinish for an even number of edges, two
+// at a time: f_e = (T^{c0}_e − T^{c1}_e)/d_e by one packed division for
+// both, then, as mode says, stored (0), x + Δt f (1) or
+// a x0 + b (x + Δt f) (2), each the Go loop's operations in its order.
+//
+// Registers. DI: args; SI: tt; DX: d; R8: x (or ∂u/∂t in mode 0); R9: x0;
+// CX: the edge; BX: the number of edges; X12–X14: Δt, b, a in both lanes.
+
+// finishArgs offsets (finishArgs in packed_amd64.go)
+#define F_X 0
+#define F_X0 8
+#define F_TT 16
+#define F_D 24
+#define F_N 32
+#define F_A 40
+#define F_B 48
+#define F_DT 56
+#define F_MODE 64
+
+// func finishSSE2(a *finishArgs)
+TEXT ·finishSSE2(SB), NOSPLIT, $0-8
+	MOVQ     a+0(FP), DI
+	MOVQ     F_TT(DI), SI
+	MOVQ     F_D(DI), DX
+	MOVQ     F_X(DI), R8
+	MOVQ     F_X0(DI), R9
+	MOVQ     F_N(DI), BX
+	MOVSD    F_DT(DI), X12
+	UNPCKLPD X12, X12
+	MOVSD    F_B(DI), X13
+	UNPCKLPD X13, X13
+	MOVSD    F_A(DI), X14
+	UNPCKLPD X14, X14
+	XORQ     CX, CX
+	MOVQ     F_MODE(DI), AX
+	CMPQ     AX, $1
+	JEQ      first
+	JGT      general
+
+tendency:
+	CMPQ     CX, BX
+	JGE      done
+	MOVUPD   (SI), X0
+	MOVUPD   16(SI), X1
+	MOVAPD   X0, X2
+	UNPCKLPD X1, X2
+	UNPCKHPD X1, X0
+	SUBPD    X0, X2
+	MOVUPD   (DX)(CX*8), X3
+	DIVPD    X3, X2
+	MOVUPD   X2, (R8)(CX*8)
+	ADDQ     $32, SI
+	ADDQ     $2, CX
+	JMP      tendency
+
+first:
+	CMPQ     CX, BX
+	JGE      done
+	MOVUPD   (SI), X0
+	MOVUPD   16(SI), X1
+	MOVAPD   X0, X2
+	UNPCKLPD X1, X2
+	UNPCKHPD X1, X0
+	SUBPD    X0, X2
+	MOVUPD   (DX)(CX*8), X3
+	DIVPD    X3, X2
+	MULPD    X12, X2
+	MOVUPD   (R8)(CX*8), X4
+	ADDPD    X2, X4
+	MOVUPD   X4, (R8)(CX*8)
+	ADDQ     $32, SI
+	ADDQ     $2, CX
+	JMP      first
+
+general:
+	CMPQ     CX, BX
+	JGE      done
+	MOVUPD   (SI), X0
+	MOVUPD   16(SI), X1
+	MOVAPD   X0, X2
+	UNPCKLPD X1, X2
+	UNPCKHPD X1, X0
+	SUBPD    X0, X2
+	MOVUPD   (DX)(CX*8), X3
+	DIVPD    X3, X2
+	MULPD    X12, X2
+	MOVUPD   (R8)(CX*8), X4
+	ADDPD    X2, X4
+	MULPD    X13, X4
+	MOVUPD   (R9)(CX*8), X5
+	MULPD    X14, X5
+	ADDPD    X4, X5
+	MOVUPD   X5, (R8)(CX*8)
+	ADDQ     $32, SI
+	ADDQ     $2, CX
+	JMP      general
+
+done:
 	RET

@@ -8,7 +8,7 @@ import (
 )
 
 // hexArgs is what hexCellsSSE2 reads, in the layout of its offsets
-// (hexcells_amd64.s): pointers to the first element of each range.
+// (packed_amd64.s): pointers to the first element of each range.
 type hexArgs struct {
 	h, invA, out, x0, bottom unsafe.Pointer
 	slots, q, fk, tt         unsafe.Pointer
@@ -20,7 +20,7 @@ type hexArgs struct {
 	sign                     uint64
 }
 
-// hexCellsSSE2 runs the hexagon kernel on a.n cells (hexcells_amd64.s).
+// hexCellsSSE2 runs the hexagon kernel on a.n cells (packed_amd64.s).
 //
 //go:noescape
 func hexCellsSSE2(a *hexArgs)
@@ -64,4 +64,37 @@ func (s *trisk) cells6Packed(lo, hi int) bool {
 	}
 	hexCellsSSE2(&a)
 	return true
+}
+
+// finishArgs is what finishSSE2 reads, in the layout of its offsets
+// (packed_amd64.s).
+type finishArgs struct {
+	x, x0, tt, d unsafe.Pointer
+	n            int
+	a, b, dt     float64
+	mode         int // 0 ∂u/∂t to x, 1 x + Δt f, 2 a x0 + b (x + Δt f)
+}
+
+// finishSSE2 runs the finishing pass on a.n edges, a.n even
+// (packed_amd64.s).
+//
+//go:noescape
+func finishSSE2(a *finishArgs)
+
+// finishPacked runs the even part of the momentum pass (mode 0, into du)
+// or of a stage's finish for the edges of tt and d, and returns how many
+// edges it did; the caller's Go loop does the rest.
+func finishPacked(mode int, x, x0 []float64, tt []pair, d []float64, a, b, dt float64) int {
+	n := len(x) &^ 1
+	if n == 0 {
+		return 0
+	}
+	tt, d = tt[:n], d[:n]
+	fa := finishArgs{x: unsafe.Pointer(&x[0]), tt: unsafe.Pointer(&tt[0]), d: unsafe.Pointer(&d[0]), n: n, a: a, b: b, dt: dt, mode: mode}
+	if mode == 2 {
+		x0 = x0[:n]
+		fa.x0 = unsafe.Pointer(&x0[0])
+	}
+	finishSSE2(&fa)
+	return n
 }
