@@ -4,12 +4,13 @@ package scheme
 
 import (
 	"math"
+	"strconv"
 	"unsafe"
 )
 
-// hexArgs is what hexCellsSSE2 reads, in the layout of its offsets
-// (packed_amd64.s): pointers to the first element of each range.
-type hexArgs struct {
+// cellArgs is what the packed cell kernels read, in the layout of their
+// offsets (packed_amd64.s): pointers to the first element of each range.
+type cellArgs struct {
 	h, invA, out, x0, bottom unsafe.Pointer
 	slots, q, fk, tt         unsafe.Pointer
 	n                        int
@@ -20,19 +21,27 @@ type hexArgs struct {
 	sign                     uint64
 }
 
-// hexCellsSSE2 runs the hexagon kernel on a.n cells (packed_amd64.s).
+// hexCellsSSE2, quadCellsSSE2 and triCellsSSE2 run cells6, cells4 and
+// cells3 on a.n cells (packed_amd64.s).
 //
 //go:noescape
-func hexCellsSSE2(a *hexArgs)
+func hexCellsSSE2(a *cellArgs)
 
-// hexKernelPacked reports whether cells6 has a packed kernel on this
-// build; the tests check that it gives cells6Go's bits.
-const hexKernelPacked = true
+//go:noescape
+func quadCellsSSE2(a *cellArgs)
 
-// cells6Packed runs cells6 for [lo, hi) on the packed kernel and reports
-// true, or reports false where the kernel does not apply (apvm's
-// correction of q_e).
-func (s *trisk) cells6Packed(lo, hi int) bool {
+//go:noescape
+func triCellsSSE2(a *cellArgs)
+
+// cellKernelsPacked reports whether cells6, cells4 and cells3 have
+// packed kernels on this build; the tests check that they give the Go
+// kernels' bits.
+const cellKernelsPacked = true
+
+// cellsPacked runs the kernel for cells of n edges (6, 4 or 3) on
+// [lo, hi) packed and reports true, or reports false where no packed
+// kernel applies (apvm's correction of q_e).
+func (s *trisk) cellsPacked(n, lo, hi int) bool {
 	if s.corr != nil {
 		return false
 	}
@@ -40,8 +49,8 @@ func (s *trisk) cells6Packed(lo, hi int) bool {
 	if len(h) == 0 {
 		return true
 	}
-	slots = slots[:6*len(h)]
-	a := hexArgs{
+	slots = slots[:n*len(h)]
+	a := cellArgs{
 		h: unsafe.Pointer(&h[0]), invA: unsafe.Pointer(&invA[0]),
 		slots: unsafe.Pointer(&slots[0]), q: unsafe.Pointer(&s.q[0]),
 		fk: unsafe.Pointer(&s.fk[0]), tt: unsafe.Pointer(&s.tt[0]),
@@ -62,7 +71,16 @@ func (s *trisk) cells6Packed(lo, hi int) bool {
 	if s.enstrophy {
 		a.enst = 1
 	}
-	hexCellsSSE2(&a)
+	switch n {
+	case 6:
+		hexCellsSSE2(&a)
+	case 4:
+		quadCellsSSE2(&a)
+	case 3:
+		triCellsSSE2(&a)
+	default:
+		panic("scheme: no packed kernel for cells of " + strconv.Itoa(n) + " edges")
+	}
 	return true
 }
 

@@ -3,14 +3,15 @@
 #include "textflag.h"
 
 // hexCellsSSE2 is cells6 (trisk.go) for trisk-energy and
-// trisk-enstrophy, with each edge's pair (b_m, a_m) in the two lanes of
+// trisk-enstrophy (quadCellsSSE2 and triCellsSSE2 below are cells4 and
+// cells3), with each edge's pair (b_m, a_m) in the two lanes of
 // one SSE2 register: the sums A and B, the depth tendency and the
 // recurrence for G run once for both, as packed operations. Every
 // operation is the Go kernel's, in its order, on the same operands (SSE2
 // has no fused multiply-add, and packed and scalar IEEE operations round
 // alike), so the results are the same bits; the tests compare them.
 //
-// Frame: qe_0 … qe_5 at 0(SP) … 40(SP).
+// Frame: qe_0 … qe_5 (qe_3, qe_2) at 0(SP) … 40(SP).
 //
 // Registers. DI: args; SI: the cell's six slots; CX: the cell's index;
 // R8: q; R9: fk; R10: tt; R11: h; R12: 1/A; R13: ∂h/∂t or x0.
@@ -18,7 +19,7 @@
 // X7: T; X8: Σ l d u²; X9: the prefix sum C_m; X12, X13: q of the
 // previous and current vertex, later Φ and H = 2S.
 
-// args offsets (hexArgs in packed_amd64.go)
+// args offsets (cellArgs in packed_amd64.go)
 #define A_H 0
 #define A_INVA 8
 #define A_OUT 16
@@ -96,104 +97,119 @@
 	MOVL    off+8(SI), AX \
 	MOVSD   X10, (R10)(AX*8)
 
-// func hexCellsSSE2(a *hexArgs)
-TEXT ·hexCellsSSE2(SB), NOSPLIT, $48-8
-	MOVQ a+0(FP), DI
-	MOVQ A_SLOTS(DI), SI
-	MOVQ A_Q(DI), R8
-	MOVQ A_FK(DI), R9
-	MOVQ A_TT(DI), R10
-	MOVQ A_H(DI), R11
-	MOVQ A_INVA(DI), R12
-	MOVQ A_OUT(DI), R13
-	CMPQ A_MODE(DI), $2
-	JNE  start
-	MOVQ A_X0(DI), R13
-
-start:
+// SETUP loads the cell kernels' pointers from the args in DI.
+#define SETUP \
+	MOVQ a+0(FP), DI \
+	MOVQ A_SLOTS(DI), SI \
+	MOVQ A_Q(DI), R8 \
+	MOVQ A_FK(DI), R9 \
+	MOVQ A_TT(DI), R10 \
+	MOVQ A_H(DI), R11 \
+	MOVQ A_INVA(DI), R12 \
+	MOVQ A_OUT(DI), R13 \
+	CMPQ A_MODE(DI), $2 \
+	JNE  2(PC) \
+	MOVQ A_X0(DI), R13 \
 	XORQ CX, CX
 
-cell:
-	// q of the vertex before edge 0: slot 5's.
-	MOVL  5*16+12(SI), DX
-	MOVSD (R8)(DX*8), X12
-	XORPD X6, X6
+// FIRSTQ loads q of the vertex before edge 0 (the last slot's, at off)
+// into X12 and clears S and Σ l d u².
+#define FIRSTQ(off) \
+	MOVL  off+12(SI), DX \
+	MOVSD (R8)(DX*8), X12 \
+	XORPD X6, X6 \
 	XORPD X8, X8
+
+// T1 starts T = C_1 P_1 with C_1 = r_0; CNEXT(off) steps C_m to
+// C_{m+1} = C_m + r_m, r_m at off(SI).
+#define T1 \
+	MOVSD    0(SI), X9 \
+	MOVAPD   X9, X7 \
+	UNPCKLPD X7, X7 \
+	MULPD    X1, X7
+
+#define CNEXT(off) \
+	ADDSD off(SI), X9
+
+// MIDDLE computes Φ (into X12) and H = 2S (X13), stores the depth
+// tendency or the stage's depth as the mode says, and sets G_0 =
+// (S − P_0) − (T + T) in X6. Its label arguments name its branch
+// targets, local to each kernel.
+#define MIDDLE(flat, first, general, done) \
+	MOVSD   (R11)(CX*8), X11 \
+	MOVQ    A_BOTTOM(DI), BX \
+	TESTQ   BX, BX \
+	JZ      flat \
+	ADDSD   (BX)(CX*8), X11 \
+flat: \
+	MULSD   A_G(DI), X11 \
+	MOVAPD  X8, X12 \
+	MULSD   A_QUARTER(DI), X12 \
+	MULSD   (R12)(CX*8), X12 \
+	ADDSD   X11, X12 \
+	MOVAPD  X6, X13 \
+	ADDPD   X6, X13 \
+	MOVHLPS X13, X11 \
+	ADDSD   X11, X11 \
+	MULSD   (R12)(CX*8), X11 \
+	MOVSD   A_SIGN(DI), X14 \
+	XORPD   X14, X11 \
+	MOVQ    A_MODE(DI), AX \
+	CMPQ    AX, $1 \
+	JEQ     first \
+	JGT     general \
+	MOVSD   X11, (R13)(CX*8) \
+	JMP     done \
+first: \
+	MULSD   A_DT(DI), X11 \
+	ADDSD   (R11)(CX*8), X11 \
+	MOVSD   X11, (R11)(CX*8) \
+	JMP     done \
+general: \
+	MULSD   A_DT(DI), X11 \
+	ADDSD   (R11)(CX*8), X11 \
+	MULSD   A_B(DI), X11 \
+	MOVSD   (R13)(CX*8), X14 \
+	MULSD   A_A(DI), X14 \
+	ADDSD   X11, X14 \
+	MOVSD   X14, (R11)(CX*8) \
+done: \
+	SUBPD   X0, X6 \
+	ADDPD   X7, X7 \
+	SUBPD   X7, X6
+
+// NEXTCELL moves to the next cell, its slots stride bytes on, and
+// loops to label while cells are left.
+#define NEXTCELL(stride, label) \
+	ADDQ $stride, SI \
+	INCQ CX \
+	CMPQ CX, A_N(DI) \
+	JLT  label
+
+// func hexCellsSSE2(a *cellArgs)
+TEXT ·hexCellsSSE2(SB), NOSPLIT, $48-8
+	SETUP
+
+hex:
+	FIRSTQ(80)
 	EDGE(0, 0, X0, X12, X13)
 	EDGE(16, 8, X1, X13, X12)
 	EDGE(32, 16, X2, X12, X13)
 	EDGE(48, 24, X3, X13, X12)
 	EDGE(64, 32, X4, X12, X13)
 	EDGE(80, 40, X5, X13, X12)
-
-	// T = C_1 P_1 + … + C_5 P_5, C_1 = r_0, C_{m+1} = C_m + r_m.
-	MOVSD    0(SI), X9
-	MOVAPD   X9, X7
-	UNPCKLPD X7, X7
-	MULPD    X1, X7
-	ADDSD    16(SI), X9
+	T1
+	CNEXT(16)
 	TERM(X2)
-	ADDSD    32(SI), X9
+	CNEXT(32)
 	TERM(X3)
-	ADDSD    48(SI), X9
+	CNEXT(48)
 	TERM(X4)
-	ADDSD    64(SI), X9
+	CNEXT(64)
 	TERM(X5)
-
-	// Φ = (¼ Σ l d u²)(1/A) + g(h + b), in X12.
-	MOVSD (R11)(CX*8), X11
-	MOVQ  A_BOTTOM(DI), BX
-	TESTQ BX, BX
-	JZ    flat
-	ADDSD (BX)(CX*8), X11
-
-flat:
-	MULSD  A_G(DI), X11
-	MOVAPD X8, X12
-	MULSD  A_QUARTER(DI), X12
-	MULSD  (R12)(CX*8), X12
-	ADDSD  X11, X12
-
-	// H = S + S; f = −((H_a + H_a)/A).
-	MOVAPD  X6, X13
-	ADDPD   X6, X13
-	MOVHLPS X13, X11
-	ADDSD   X11, X11
-	MULSD   (R12)(CX*8), X11
-	MOVSD   A_SIGN(DI), X14
-	XORPD   X14, X11
-	MOVQ    A_MODE(DI), AX
-	CMPQ    AX, $1
-	JEQ     firststage
-	JGT     stage
-	MOVSD   X11, (R13)(CX*8)
-	JMP     depthdone
-
-firststage:
-	// h + Δt f
-	MULSD A_DT(DI), X11
-	ADDSD (R11)(CX*8), X11
-	MOVSD X11, (R11)(CX*8)
-	JMP   depthdone
-
-stage:
-	// a x0 + b (h + Δt f)
-	MULSD A_DT(DI), X11
-	ADDSD (R11)(CX*8), X11
-	MULSD A_B(DI), X11
-	MOVSD (R13)(CX*8), X14
-	MULSD A_A(DI), X14
-	ADDSD X11, X14
-	MOVSD X14, (R11)(CX*8)
-
-depthdone:
-	// G_0 = (S − P_0) − (T + T).
-	SUBPD X0, X6
-	ADDPD X7, X7
-	SUBPD X7, X6
-	CMPQ  A_ENST(DI), $0
-	JNE   enstrophy
-
+	MIDDLE(hexflat, hexfirst, hexgeneral, hexshares)
+	CMPQ A_ENST(DI), $0
+	JNE  hexenstrophy
 	SHAREE(0, 0)
 	NEXTG(0, X0, X1)
 	SHAREE(16, 8)
@@ -205,9 +221,9 @@ depthdone:
 	SHAREE(64, 32)
 	NEXTG(64, X4, X5)
 	SHAREE(80, 40)
-	JMP next
+	JMP  hexnext
 
-enstrophy:
+hexenstrophy:
 	SHAREZ(0, 0)
 	NEXTG(0, X0, X1)
 	SHAREZ(16, 8)
@@ -220,11 +236,81 @@ enstrophy:
 	NEXTG(64, X4, X5)
 	SHAREZ(80, 40)
 
-next:
-	ADDQ $96, SI
-	INCQ CX
-	CMPQ CX, A_N(DI)
-	JLT  cell
+hexnext:
+	NEXTCELL(96, hex)
+	RET
+
+// func quadCellsSSE2(a *cellArgs): cells4, as hexCellsSSE2 is cells6.
+TEXT ·quadCellsSSE2(SB), NOSPLIT, $32-8
+	SETUP
+
+quad:
+	FIRSTQ(48)
+	EDGE(0, 0, X0, X12, X13)
+	EDGE(16, 8, X1, X13, X12)
+	EDGE(32, 16, X2, X12, X13)
+	EDGE(48, 24, X3, X13, X12)
+	T1
+	CNEXT(16)
+	TERM(X2)
+	CNEXT(32)
+	TERM(X3)
+	MIDDLE(quadflat, quadfirst, quadgeneral, quadshares)
+	CMPQ A_ENST(DI), $0
+	JNE  quadenstrophy
+	SHAREE(0, 0)
+	NEXTG(0, X0, X1)
+	SHAREE(16, 8)
+	NEXTG(16, X1, X2)
+	SHAREE(32, 16)
+	NEXTG(32, X2, X3)
+	SHAREE(48, 24)
+	JMP  quadnext
+
+quadenstrophy:
+	SHAREZ(0, 0)
+	NEXTG(0, X0, X1)
+	SHAREZ(16, 8)
+	NEXTG(16, X1, X2)
+	SHAREZ(32, 16)
+	NEXTG(32, X2, X3)
+	SHAREZ(48, 24)
+
+quadnext:
+	NEXTCELL(64, quad)
+	RET
+
+// func triCellsSSE2(a *cellArgs): cells3, as hexCellsSSE2 is cells6.
+TEXT ·triCellsSSE2(SB), NOSPLIT, $24-8
+	SETUP
+
+tri:
+	FIRSTQ(32)
+	EDGE(0, 0, X0, X12, X13)
+	EDGE(16, 8, X1, X13, X12)
+	EDGE(32, 16, X2, X12, X13)
+	T1
+	CNEXT(16)
+	TERM(X2)
+	MIDDLE(triflat, trifirst, trigeneral, trishares)
+	CMPQ A_ENST(DI), $0
+	JNE  trienstrophy
+	SHAREE(0, 0)
+	NEXTG(0, X0, X1)
+	SHAREE(16, 8)
+	NEXTG(16, X1, X2)
+	SHAREE(32, 16)
+	JMP  trinext
+
+trienstrophy:
+	SHAREZ(0, 0)
+	NEXTG(0, X0, X1)
+	SHAREZ(16, 8)
+	NEXTG(16, X1, X2)
+	SHAREZ(32, 16)
+
+trinext:
+	NEXTCELL(48, tri)
 	RET
 
 // finishSSE2 is doMomentum and doFinish for an even number of edges, two

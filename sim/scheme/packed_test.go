@@ -11,12 +11,12 @@ import (
 	"gyrebench/sim/par"
 )
 
-// The packed hexagon kernel (packed_amd64.s, where the build has it) is
-// cells6Go on SSE2 pairs: for both schemes it serves, in a tendency and
+// The packed cell kernels (packed_amd64.s, where the build has them) are
+// cells6Go, cells4Go and cells3Go on SSE2 pairs: for both schemes it serves, in a tendency and
 // in both kinds of stage, with a bottom and without, over whole runs and
 // over ranges that start and end inside one, it must give the same bits
 // for the depths (or ∂h/∂t) and for every share.
-func TestPackedHexagonKernelMatchesGo(t *testing.T) {
+func TestPackedCellKernelsMatchGo(t *testing.T) {
 	type mode struct {
 		name     string
 		tendency bool
@@ -27,9 +27,11 @@ func TestPackedHexagonKernelMatchesGo(t *testing.T) {
 		{"stage h+Δt f", false, 0, 1, 600},
 		{"stage a x0 + b(h+Δt f)", false, 0.75, 0.25, 150},
 	}
-	ran := 0
+	ran := map[int32]int{}
 	for _, spec := range []mesh.Spec{
 		{Kind: mesh.Hex, N: 16, Length: 2e6}, {Kind: mesh.Icosahedral, N: 3, Radius: 6.37122e6},
+		{Kind: mesh.Quad, N: 16, Length: 2e6}, {Kind: mesh.Cubed, N: 6, Radius: 6.37122e6},
+		{Kind: mesh.Tri, N: 16, Length: 2e6},
 	} {
 		f := randomFixtureOn(t, spec, 11)
 		for _, name := range []string{TRiSKEnergy, TRiSKEnstrophy} {
@@ -48,17 +50,18 @@ func TestPackedHexagonKernelMatchesGo(t *testing.T) {
 					x0[i] *= 1.01
 				}
 				for _, r := range s.runs {
-					if r.N != 6 {
+					kernel := map[int32]func(lo, hi int){6: s.cells6Go, 4: s.cells4Go, 3: s.cells3Go}[r.N]
+					if kernel == nil {
 						continue
 					}
 					lo, hi := int(r.Lo), int(r.Hi)
 					for _, span := range [][2]int{{lo, hi}, {lo + 3, lo + 3 + (hi-lo)/2}} {
 						for _, m := range modes {
-							goX, goTT, goDH := run6(s, x, x0, m.tendency, m.a, m.b, m.dt, span, s.cells6Go, nil)
+							goX, goTT, goDH := runCells(s, x, x0, m.tendency, m.a, m.b, m.dt, span, int(r.N), kernel, nil)
 							var packed bool
-							asmX, asmTT, asmDH := run6(s, x, x0, m.tendency, m.a, m.b, m.dt, span, nil, &packed)
-							if packed != hexKernelPacked {
-								t.Fatalf("%s %s: the packed kernel ran: %v, want %v", spec.Kind, name, packed, hexKernelPacked)
+							asmX, asmTT, asmDH := runCells(s, x, x0, m.tendency, m.a, m.b, m.dt, span, int(r.N), nil, &packed)
+							if packed != cellKernelsPacked {
+								t.Fatalf("%s %s: the packed kernel ran: %v, want %v", spec.Kind, name, packed, cellKernelsPacked)
 							}
 							where := fmt.Sprint(spec.Kind) + " " + name + " " + m.name
 							if flat {
@@ -71,23 +74,26 @@ func TestPackedHexagonKernelMatchesGo(t *testing.T) {
 									t.Fatalf("%s: edge %d: shares %v in Go, %v packed", where, e, goTT[e], asmTT[e])
 								}
 							}
-							ran++
+							ran[r.N]++
 						}
 					}
 				}
 			}
 		}
 	}
-	if ran == 0 {
-		t.Fatal("no hexagon runs")
+	for _, n := range []int32{6, 4, 3} {
+		if ran[n] == 0 {
+			t.Errorf("no runs of cells of %d edges", n)
+		}
 	}
 }
 
-// run6 runs one hexagon kernel on a copy of x for the cells of span, as a
-// tendency or as a stage, from shares and depth tendencies set to NaN,
-// and returns the state, the shares and ∂h/∂t. With kernel nil it runs
-// cells6Packed and reports in packed whether that did the work.
-func run6(s *trisk, x, x0 []float64, tendency bool, a, b, dt float64, span [2]int, kernel func(lo, hi int), packed *bool) (xs []float64, tt []pair, dh []float64) {
+// runCells runs one kernel for cells of n edges on a copy of x for the
+// cells of span, as a tendency or as a stage, from shares and depth
+// tendencies set to NaN, and returns the state, the shares and ∂h/∂t.
+// With kernel nil it runs cellsPacked and reports in packed whether that
+// did the work.
+func runCells(s *trisk, x, x0 []float64, tendency bool, a, b, dt float64, span [2]int, n int, kernel func(lo, hi int), packed *bool) (xs []float64, tt []pair, dh []float64) {
 	xs = slices.Clone(x)
 	dh = make([]float64, s.nc)
 	for i := range dh {
@@ -103,8 +109,9 @@ func run6(s *trisk, x, x0 []float64, tendency bool, a, b, dt float64, span [2]in
 	}
 	if kernel != nil {
 		kernel(span[0], span[1])
-	} else if *packed = s.cells6Packed(span[0], span[1]); !*packed {
-		s.cells6Go(span[0], span[1])
+	} else if *packed = s.cellsPacked(n, span[0], span[1]); !*packed {
+		t := map[int]func(lo, hi int){6: s.cells6Go, 4: s.cells4Go, 3: s.cells3Go}[n]
+		t(span[0], span[1])
 	}
 	return xs, slices.Clone(s.tt), dh
 }
@@ -139,7 +146,7 @@ func TestPackedFinishMatchesGo(t *testing.T) {
 		} {
 			got := slices.Clone(x)
 			done := finishPacked(mode, got, x0, tt, d, a, b, dt)
-			if wantDone := 0; hexKernelPacked {
+			if wantDone := 0; cellKernelsPacked {
 				wantDone = n &^ 1
 				if done != wantDone {
 					t.Fatalf("n %d mode %d: %d edges done, want %d", n, mode, done, wantDone)

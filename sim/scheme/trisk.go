@@ -538,12 +538,12 @@ func share(enst bool, qe, ga, gb, phi float64) float64 {
 // a and b are), ta, tb its B, ha, hb half of A, and ga_m, gb_m half the
 // cell's sums G_m.
 func (s *trisk) cells6(lo, hi int) {
-	if !s.cells6Packed(lo, hi) {
+	if !s.cellsPacked(6, lo, hi) {
 		s.cells6Go(lo, hi)
 	}
 }
 
-// cells6Go is cells6 in Go, for every build; cells6Packed is the same
+// cells6Go is cells6 in Go, for every build; cellsPacked is the same
 // arithmetic on packed SSE2 pairs where the build has it.
 func (s *trisk) cells6Go(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
@@ -593,6 +593,13 @@ func (s *trisk) cells6Go(lo, hi int) {
 // sphere), written out like cells6 with the same arithmetic in the same
 // order.
 func (s *trisk) cells4(lo, hi int) {
+	if !s.cellsPacked(4, lo, hi) {
+		s.cells4Go(lo, hi)
+	}
+}
+
+// cells4Go is cells4 in Go (see cells6Go).
+func (s *trisk) cells4Go(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:4*len(h)]
 	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy
@@ -633,6 +640,13 @@ func (s *trisk) cells4(lo, hi int) {
 // cells3 is cellsAny for triangles (the triangular planes), written out
 // like cells6 with the same arithmetic in the same order.
 func (s *trisk) cells3(lo, hi int) {
+	if !s.cellsPacked(3, lo, hi) {
+		s.cells3Go(lo, hi)
+	}
+}
+
+// cells3Go is cells3 in Go (see cells6Go).
+func (s *trisk) cells3Go(lo, hi int) {
 	h, invA, dh, x0, b, slots := s.cellRange(lo, hi)
 	slots = slots[:3*len(h)]
 	q, fk, tt, corr, enst := s.q, s.fk, s.tt, s.corr, s.enstrophy
