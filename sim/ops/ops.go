@@ -91,15 +91,18 @@ func (g Grid) Vorticity(zeta, hv, u, h []float64, lo, hi int) {
 // PVStencil evaluates the potential vorticity q_v = (ζ_v + f_v)/h_v with ζ
 // and h_v as in Vorticity, in one pass: multiplying through by A_v,
 // q_v = (Σ_e t_{e,v} d_e u_e + f_v A_v) / Σ_i K_{i,v} h_i. It stores
-// t_{e,v} d_e per vertex slot, so that each edge costs one gather (u_e)
-// and no sign conversion; (t d) u equals t (d u) exactly, because t is
-// ±1. Vertices of three, four and six edges (the vertices of the
+// t_{e,v} d_e per vertex slot beside the slot's kite area K_{i,v}, so
+// that each edge costs one gather (u_e) and no sign conversion, and one
+// load brings both coefficients; (t d) u equals t (d u) exactly, because
+// t is ±1. Vertices of three, four and six edges (the vertices of the
 // hexagonal and icosahedral, the quadrilateral and cubed, and the
-// triangular grids) take straight-line paths with the same arithmetic.
+// triangular grids) take straight-line paths with the same arithmetic,
+// on amd64 two vertices at a time on packed SSE2 pairs (pvPacked).
 type PVStencil struct {
 	g    Grid
-	td   []float64 // per vertex slot: t_{e,v} d_e
-	runs []RowRun  // vertices by degree
+	tk   [][2]float64 // per vertex slot: t_{e,v} d_e and K_{i,v}
+	ec   [][2]int32   // per vertex slot: the edge and the cell, so that one load brings both
+	runs []RowRun     // vertices by degree
 }
 
 // RowRun is a maximal range of rows [Lo, Hi) of a compressed sparse row
@@ -131,9 +134,10 @@ func (r RowRun) Clip(lo, hi int) (a, b int, ok bool) {
 
 // NewPVStencil precomputes the signed dual lengths of g.
 func NewPVStencil(g Grid) *PVStencil {
-	s := &PVStencil{g: g, td: make([]float64, len(g.VertexEdges))}
+	s := &PVStencil{g: g, tk: make([][2]float64, len(g.VertexEdges)), ec: make([][2]int32, len(g.VertexEdges))}
 	for k, e := range g.VertexEdges {
-		s.td[k] = float64(g.VertexEdgeSign[k]) * g.DualLength[e]
+		s.tk[k] = [2]float64{float64(g.VertexEdgeSign[k]) * g.DualLength[e], g.VertexKiteArea[k]}
+		s.ec[k] = [2]int32{e, g.VertexCells[k]}
 	}
 	s.runs = RowRuns(g.VertexEdgeStart[:g.NumVertices+1])
 	return s
@@ -152,6 +156,13 @@ func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 		}
 		qq := q[a-lo : b-lo]
 		switch r.N {
+		case 3, 4, 6:
+			// The packed kernel does an even number of vertices, the
+			// written-out loop the rest.
+			done := s.pvPacked(int(r.N), qq, f, u, h, a)
+			qq, a = qq[done:], a+done
+		}
+		switch r.N {
 		case 3:
 			s.pv3(qq, f, u, h, a)
 		case 4:
@@ -166,13 +177,13 @@ func (s *PVStencil) PotentialVorticity(q, f, u, h []float64, lo, hi int) {
 
 // pvAny sets q[j] = q_{lo+j} for vertices of any degree.
 func (s *PVStencil) pvAny(q, f, u, h []float64, lo int) {
-	start, edges, cells, kite, td := s.g.VertexEdgeStart, s.g.VertexEdges, s.g.VertexCells, s.g.VertexKiteArea, s.td
+	start, ec, tk := s.g.VertexEdgeStart, s.ec, s.tk
 	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
 	for j := range q {
 		var c, m float64
 		for k := start[lo+j]; k < start[lo+j+1]; k++ {
-			c += td[k] * u[edges[k]]
-			m += kite[k] * h[cells[k]]
+			c += tk[k][0] * u[ec[k][0]]
+			m += tk[k][1] * h[ec[k][1]]
 		}
 		q[j] = (c + f[j]*area[j]) / m
 	}
@@ -182,19 +193,19 @@ func (s *PVStencil) pvAny(q, f, u, h []float64, lo int) {
 func (s *PVStencil) pv3(q, f, u, h []float64, lo int) {
 	k0 := int(s.g.VertexEdgeStart[lo])
 	n := 3 * len(q)
-	edges, cells, kite, td := s.g.VertexEdges[k0:k0+n], s.g.VertexCells[k0:k0+n], s.g.VertexKiteArea[k0:k0+n], s.td[k0:k0+n]
+	ec, tk := s.ec[k0:k0+n], s.tk[k0:k0+n]
 	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
 	for j := range q {
 		k := 3 * j
-		es, cs := (*[3]int32)(edges[k:k+3]), (*[3]int32)(cells[k:k+3])
-		ts, ks := (*[3]float64)(td[k:k+3]), (*[3]float64)(kite[k:k+3])
+		es := (*[3][2]int32)(ec[k : k+3])
+		p := (*[3][2]float64)(tk[k : k+3])
 		var c, m float64
-		c += ts[0] * u[es[0]]
-		c += ts[1] * u[es[1]]
-		c += ts[2] * u[es[2]]
-		m += ks[0] * h[cs[0]]
-		m += ks[1] * h[cs[1]]
-		m += ks[2] * h[cs[2]]
+		c += p[0][0] * u[es[0][0]]
+		c += p[1][0] * u[es[1][0]]
+		c += p[2][0] * u[es[2][0]]
+		m += p[0][1] * h[es[0][1]]
+		m += p[1][1] * h[es[1][1]]
+		m += p[2][1] * h[es[2][1]]
 		q[j] = (c + f[j]*area[j]) / m
 	}
 }
@@ -203,21 +214,21 @@ func (s *PVStencil) pv3(q, f, u, h []float64, lo int) {
 func (s *PVStencil) pv4(q, f, u, h []float64, lo int) {
 	k0 := int(s.g.VertexEdgeStart[lo])
 	n := 4 * len(q)
-	edges, cells, kite, td := s.g.VertexEdges[k0:k0+n], s.g.VertexCells[k0:k0+n], s.g.VertexKiteArea[k0:k0+n], s.td[k0:k0+n]
+	ec, tk := s.ec[k0:k0+n], s.tk[k0:k0+n]
 	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
 	for j := range q {
 		k := 4 * j
-		es, cs := (*[4]int32)(edges[k:k+4]), (*[4]int32)(cells[k:k+4])
-		ts, ks := (*[4]float64)(td[k:k+4]), (*[4]float64)(kite[k:k+4])
+		es := (*[4][2]int32)(ec[k : k+4])
+		p := (*[4][2]float64)(tk[k : k+4])
 		var c, m float64
-		c += ts[0] * u[es[0]]
-		c += ts[1] * u[es[1]]
-		c += ts[2] * u[es[2]]
-		c += ts[3] * u[es[3]]
-		m += ks[0] * h[cs[0]]
-		m += ks[1] * h[cs[1]]
-		m += ks[2] * h[cs[2]]
-		m += ks[3] * h[cs[3]]
+		c += p[0][0] * u[es[0][0]]
+		c += p[1][0] * u[es[1][0]]
+		c += p[2][0] * u[es[2][0]]
+		c += p[3][0] * u[es[3][0]]
+		m += p[0][1] * h[es[0][1]]
+		m += p[1][1] * h[es[1][1]]
+		m += p[2][1] * h[es[2][1]]
+		m += p[3][1] * h[es[3][1]]
 		q[j] = (c + f[j]*area[j]) / m
 	}
 }
@@ -226,25 +237,25 @@ func (s *PVStencil) pv4(q, f, u, h []float64, lo int) {
 func (s *PVStencil) pv6(q, f, u, h []float64, lo int) {
 	k0 := int(s.g.VertexEdgeStart[lo])
 	n := 6 * len(q)
-	edges, cells, kite, td := s.g.VertexEdges[k0:k0+n], s.g.VertexCells[k0:k0+n], s.g.VertexKiteArea[k0:k0+n], s.td[k0:k0+n]
+	ec, tk := s.ec[k0:k0+n], s.tk[k0:k0+n]
 	f, area := f[lo:lo+len(q)], s.g.VertexArea[lo:lo+len(q)]
 	for j := range q {
 		k := 6 * j
-		es, cs := (*[6]int32)(edges[k:k+6]), (*[6]int32)(cells[k:k+6])
-		ts, ks := (*[6]float64)(td[k:k+6]), (*[6]float64)(kite[k:k+6])
+		es := (*[6][2]int32)(ec[k : k+6])
+		p := (*[6][2]float64)(tk[k : k+6])
 		var c, m float64
-		c += ts[0] * u[es[0]]
-		c += ts[1] * u[es[1]]
-		c += ts[2] * u[es[2]]
-		c += ts[3] * u[es[3]]
-		c += ts[4] * u[es[4]]
-		c += ts[5] * u[es[5]]
-		m += ks[0] * h[cs[0]]
-		m += ks[1] * h[cs[1]]
-		m += ks[2] * h[cs[2]]
-		m += ks[3] * h[cs[3]]
-		m += ks[4] * h[cs[4]]
-		m += ks[5] * h[cs[5]]
+		c += p[0][0] * u[es[0][0]]
+		c += p[1][0] * u[es[1][0]]
+		c += p[2][0] * u[es[2][0]]
+		c += p[3][0] * u[es[3][0]]
+		c += p[4][0] * u[es[4][0]]
+		c += p[5][0] * u[es[5][0]]
+		m += p[0][1] * h[es[0][1]]
+		m += p[1][1] * h[es[1][1]]
+		m += p[2][1] * h[es[2][1]]
+		m += p[3][1] * h[es[3][1]]
+		m += p[4][1] * h[es[4][1]]
+		m += p[5][1] * h[es[5][1]]
 		q[j] = (c + f[j]*area[j]) / m
 	}
 }

@@ -51,9 +51,10 @@ func TestTRiSKRecurrenceMatchesWeights(t *testing.T) {
 // PVStencil stores t_{e,v} d_e per vertex slot; since t = ±1 its
 // potential vorticity is, bit for bit, that of the formula summed in slot
 // order, q_v = (Σ t (d u) + f A_v) / Σ K h, on every grid family
-// (vertices of three, four and six edges take their own paths; no grid
-// of the package has vertices of another degree, so the general loop is
-// checked by calling it on every vertex).
+// (vertices of three, four and six edges take their own paths, on amd64
+// the packed kernel for an even number of them and the written-out loop
+// for the rest; no grid of the package has vertices of another degree,
+// so the general loop is checked by calling it on every vertex).
 func TestPVStencilMatchesGrid(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, spec := range []mesh.Spec{
@@ -92,6 +93,16 @@ func TestPVStencilMatchesGrid(t *testing.T) {
 		s.PotentialVorticity(got[mid:], f, u, h, mid, m.NumVertices)
 		general := make([]float64, m.NumVertices)
 		s.pvAny(general, f, u, h, 0)
+		if r := s.runs[0]; r.N == 3 || r.N == 4 || r.N == 6 {
+			n := int(r.Hi-r.Lo) - 1 // odd, so that the Go loop does the last vertex
+			wantDone := 0
+			if pvKernelsPacked {
+				wantDone = n &^ 1
+			}
+			if done := s.pvPacked(int(r.N), make([]float64, n), f, u, h, int(r.Lo)); done != wantDone {
+				t.Fatalf("%s: the packed kernel did %d of %d vertices, want %d", spec.Kind, done, n, wantDone)
+			}
+		}
 		for v := range want {
 			if math.Float64bits(got[v]) != math.Float64bits(want[v]) {
 				t.Fatalf("%s vertex %d: stencil %v, grid %v", spec.Kind, v, got[v], want[v])
