@@ -33,10 +33,10 @@ func quadCellsSSE2(a *cellArgs)
 //go:noescape
 func triCellsSSE2(a *cellArgs)
 
-// cellKernelsPacked reports whether cells6, cells4 and cells3 have
-// packed kernels on this build; the tests check that they give the Go
-// kernels' bits.
-const cellKernelsPacked = true
+// packedKernels reports whether this build has the packed kernels (the
+// cell kernels cells6, cells4 and cells3, the edge pass and the
+// finishing pass); the tests check that they give the Go loops' bits.
+const packedKernels = true
 
 // cellsPacked runs the kernel for cells of n edges (6, 4 or 3) on
 // [lo, hi) packed and reports true, or reports false where no packed
@@ -114,5 +114,35 @@ func finishPacked(mode int, x, x0 []float64, tt []pair, d []float64, a, b, dt fl
 		fa.x0 = unsafe.Pointer(&x0[0])
 	}
 	finishSSE2(&fa)
+	return n
+}
+
+// edgeArgs is what edgesSSE2 reads, in the layout of its offsets
+// (packed_amd64.s).
+type edgeArgs struct {
+	h, u, l, d, cells, fk unsafe.Pointer
+	n                     int
+	half                  float64
+}
+
+// edgesSSE2 runs doEdges on a.n edges, a.n even (packed_amd64.s).
+//
+//go:noescape
+func edgesSSE2(a *edgeArgs)
+
+// edgesPacked sets fk for the largest even number of the edges of u (a
+// range of edges whose cells, lengths and fluxes are cells, l, d and fk)
+// and returns that number; doEdges's Go loop does the rest.
+func edgesPacked(h, u, l, d []float64, cells []int32, fk []pair) int {
+	n := len(u) &^ 1
+	if n == 0 {
+		return 0
+	}
+	l, d, cells, fk = l[:n], d[:n], cells[:2*n], fk[:n]
+	a := edgeArgs{
+		h: unsafe.Pointer(&h[0]), u: unsafe.Pointer(&u[0]), l: unsafe.Pointer(&l[0]), d: unsafe.Pointer(&d[0]),
+		cells: unsafe.Pointer(&cells[0]), fk: unsafe.Pointer(&fk[0]), n: n, half: 0.5,
+	}
+	edgesSSE2(&a)
 	return n
 }

@@ -412,3 +412,73 @@ general:
 
 done:
 	RET
+
+// edgesSSE2 is doEdges for an even number of edges, two at a time:
+// h_e = ½(h_{c0} + h_{c1}), F_e = (l_e h_e) u_e and ((l_e d_e) u_e) u_e
+// as packed pairs over the two edges, the Go loop's operations in its
+// order, stored as each edge's pair (F_e, l_e d_e u_e²).
+//
+// Registers. DI: args; SI: the edges' cells; R8: h; R9: u; R10: l;
+// R11: d; R12: fk; CX: the edge; BX: the number of edges; X8: ½ in both
+// lanes.
+
+// edgeArgs offsets (edgeArgs in packed_amd64.go)
+#define E_H 0
+#define E_U 8
+#define E_L 16
+#define E_D 24
+#define E_CELLS 32
+#define E_FK 40
+#define E_N 48
+#define E_HALF 56
+
+// func edgesSSE2(a *edgeArgs)
+TEXT ·edgesSSE2(SB), NOSPLIT, $0-8
+	MOVQ     a+0(FP), DI
+	MOVQ     E_H(DI), R8
+	MOVQ     E_U(DI), R9
+	MOVQ     E_L(DI), R10
+	MOVQ     E_D(DI), R11
+	MOVQ     E_CELLS(DI), SI
+	MOVQ     E_FK(DI), R12
+	MOVQ     E_N(DI), BX
+	MOVSD    E_HALF(DI), X8
+	UNPCKLPD X8, X8
+	XORQ     CX, CX
+
+edges:
+	CMPQ     CX, BX
+	JGE      edgesdone
+	// X0 = (h_{c0}, h_{c0'}), X1 = (h_{c1}, h_{c1'}) for edges e, e' = e+1.
+	MOVL     0(SI), AX
+	MOVL     4(SI), DX
+	MOVSD    (R8)(AX*8), X0
+	MOVSD    (R8)(DX*8), X1
+	MOVL     8(SI), AX
+	MOVL     12(SI), DX
+	MOVHPD   (R8)(AX*8), X0
+	MOVHPD   (R8)(DX*8), X1
+	ADDPD    X1, X0
+	MULPD    X8, X0
+	MOVUPD   (R10)(CX*8), X2
+	MOVUPD   (R9)(CX*8), X3
+	MOVUPD   (R11)(CX*8), X4
+	// F = (l h_e) u
+	MULPD    X2, X0
+	MULPD    X3, X0
+	// K = ((l d) u) u
+	MULPD    X4, X2
+	MULPD    X3, X2
+	MULPD    X3, X2
+	MOVAPD   X0, X5
+	UNPCKLPD X2, X5
+	UNPCKHPD X2, X0
+	MOVUPD   X5, (R12)
+	MOVUPD   X0, 16(R12)
+	ADDQ     $16, SI
+	ADDQ     $32, R12
+	ADDQ     $2, CX
+	JMP      edges
+
+edgesdone:
+	RET

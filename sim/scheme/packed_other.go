@@ -2,9 +2,9 @@
 
 package scheme
 
-// cellKernelsPacked reports whether cells6, cells4 and cells3 have
-// packed kernels on this build (packed_amd64.go).
-const cellKernelsPacked = false
+// packedKernels reports whether this build has the packed kernels
+// (packed_amd64.go).
+const packedKernels = false
 
 // cellsPacked reports false: this build has no packed kernels.
 func (s *trisk) cellsPacked(n, lo, hi int) bool { return false }
@@ -13,3 +13,6 @@ func (s *trisk) cellsPacked(n, lo, hi int) bool { return false }
 func finishPacked(mode int, x, x0 []float64, tt []pair, d []float64, a, b, dt float64) int {
 	return 0
 }
+
+// edgesPacked does nothing on this build and reports no edges done.
+func edgesPacked(h, u, l, d []float64, cells []int32, fk []pair) int { return 0 }

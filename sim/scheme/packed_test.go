@@ -60,8 +60,8 @@ func TestPackedCellKernelsMatchGo(t *testing.T) {
 							goX, goTT, goDH := runCells(s, x, x0, m.tendency, m.a, m.b, m.dt, span, int(r.N), kernel, nil)
 							var packed bool
 							asmX, asmTT, asmDH := runCells(s, x, x0, m.tendency, m.a, m.b, m.dt, span, int(r.N), nil, &packed)
-							if packed != cellKernelsPacked {
-								t.Fatalf("%s %s: the packed kernel ran: %v, want %v", spec.Kind, name, packed, cellKernelsPacked)
+							if packed != packedKernels {
+								t.Fatalf("%s %s: the packed kernel ran: %v, want %v", spec.Kind, name, packed, packedKernels)
 							}
 							where := fmt.Sprint(spec.Kind) + " " + name + " " + m.name
 							if flat {
@@ -146,7 +146,7 @@ func TestPackedFinishMatchesGo(t *testing.T) {
 		} {
 			got := slices.Clone(x)
 			done := finishPacked(mode, got, x0, tt, d, a, b, dt)
-			if wantDone := 0; cellKernelsPacked {
+			if wantDone := 0; packedKernels {
 				wantDone = n &^ 1
 				if done != wantDone {
 					t.Fatalf("n %d mode %d: %d edges done, want %d", n, mode, done, wantDone)
@@ -161,6 +161,50 @@ func TestPackedFinishMatchesGo(t *testing.T) {
 				}
 				if math.Float64bits(got[e]) != math.Float64bits(w) {
 					t.Fatalf("n %d mode %d: edge %d: %v, want %v", n, mode, e, got[e], w)
+				}
+			}
+		}
+	}
+}
+
+// edgesPacked does the edge pass two edges at a time where the build has
+// it; on random depths, velocities and lengths it must give, on the
+// edges it reports done, the bits of doEdges's Go loop, and leave the
+// others alone.
+func TestPackedEdgesMatchGo(t *testing.T) {
+	rng := rand.New(rand.NewPCG(6, 2))
+	h := make([]float64, 50)
+	for i := range h {
+		h[i] = 1000 * (1 + 0.1*rng.NormFloat64())
+	}
+	for _, n := range []int{1, 2, 7, 64, 513} {
+		u, l, d := make([]float64, n), make([]float64, n), make([]float64, n)
+		cells := make([]int32, 2*n)
+		for e := range u {
+			u[e], l[e], d[e] = 10*rng.NormFloat64(), 1e4*(1+rng.Float64()), 1e4*(1+rng.Float64())
+			cells[2*e], cells[2*e+1] = int32(rng.IntN(len(h))), int32(rng.IntN(len(h)))
+		}
+		fk := make([]pair, n)
+		for e := range fk {
+			fk[e] = pair{math.NaN(), math.NaN()}
+		}
+		done := edgesPacked(h, u, l, d, cells, fk)
+		wantDone := 0
+		if packedKernels {
+			wantDone = n &^ 1
+		}
+		if done != wantDone {
+			t.Fatalf("n %d: %d edges done, want %d", n, done, wantDone)
+		}
+		for e := range fk {
+			want := pair{math.NaN(), math.NaN()}
+			if e < done {
+				m := 0.5 * (h[cells[2*e]] + h[cells[2*e+1]])
+				want = pair{l[e] * m * u[e], l[e] * d[e] * u[e] * u[e]}
+			}
+			for j := range want {
+				if math.Float64bits(fk[e][j]) != math.Float64bits(want[j]) {
+					t.Fatalf("n %d: edge %d: %v, want %v", n, e, fk[e], want)
 				}
 			}
 		}

@@ -278,7 +278,7 @@ func (c *core) doEdges(lo, hi int) {
 	cells := c.g.EdgeCells[2*lo : 2*hi]
 	l, d := c.g.EdgeLength[lo:hi], c.g.DualLength[lo:hi]
 	u, l, d = u[:len(fk)], l[:len(fk)], d[:len(fk)]
-	for k := range fk {
+	for k := edgesPacked(h, u, l, d, cells, fk); k < len(fk); k++ {
 		ce := cells[2*k : 2*k+2 : 2*k+2]
 		uk, lk := u[k], l[k]
 		m := 0.5 * (h[ce[0]] + h[ce[1]])
