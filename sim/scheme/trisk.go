@@ -308,14 +308,12 @@ const maxCellEdges = 16
 // cell, so the passes split over workers without changing a bit.
 //
 // The cell pass is where the time goes (about half of it on hexagons):
-// it is bound by arithmetic, some 160 floating-point operations per
-// hexagon with a third as many loads and stores again for the values
-// that do not fit in the sixteen vector registers, while the vertex pass
-// (a quarter) is bound by its division and its gathers of u and h, and
-// the edge and momentum passes by memory traffic. The README's speed
-// section has the measurements. In a Runge–Kutta step (StageThen) the
-// momentum pass also does the next stage's edge pass, so that a stage
-// is three passes.
+// some 160 floating-point operations per hexagon, on amd64 on packed
+// SSE2 pairs (packed_amd64.s), while the vertex pass is bound by its
+// gathers of u and h and the edge and momentum passes by memory traffic.
+// The README's speed section has the measurements. In a Runge–Kutta
+// step (StageThen) the momentum pass also does the next stage's edge
+// pass, so that a stage is three passes.
 type trisk struct {
 	core
 	name      string
