@@ -201,7 +201,7 @@ func TestHexagonKernelMatchesGeneral(t *testing.T) {
 // distorted hexagons, seven on quadrilaterals and the cubed sphere,
 // eleven on distorted triangles) are the general row loop written out:
 // on their edges all must give the same bits, for the flux, the
-// kinetic-energy share and apvm's H v.
+// kinetic-energy share and apvm's H v, and so must their packed forms.
 func TestHodgeRowKernelsMatchGeneral(t *testing.T) {
 	seen := map[int32]bool{}
 	for _, spec := range []mesh.Spec{
@@ -240,6 +240,30 @@ func TestHodgeRowKernelsMatchGeneral(t *testing.T) {
 					}
 					if s.lu != nil && math.Float64bits(luK[e]) != math.Float64bits(s.lu[e]) {
 						t.Fatalf("%s %s: edge %d: H v %g by the %d-entry row kernel, %g by the general one", spec.Kind, name, e, luK[e], r.N, s.lu[e])
+					}
+				}
+				// The packed kernel (where the build has it), over the run and
+				// over a range inside it, from values set to NaN.
+				for _, span := range [][2]int{{int(r.Lo), int(r.Hi)}, {int(r.Lo) + 1, int(r.Lo+r.Hi) / 2}} {
+					for e := span[0]; e < span[1]; e++ {
+						s.fk[e] = pair{math.NaN(), math.NaN()}
+						if s.lu != nil {
+							s.lu[e] = math.NaN()
+						}
+					}
+					if got := s.hodgePacked(int(r.N), span[0], span[1]); got != packedKernels {
+						t.Fatalf("%s %s: the packed %d-entry row kernel ran: %v, want %v", spec.Kind, name, r.N, got, packedKernels)
+					}
+					if !packedKernels {
+						break
+					}
+					for e := span[0]; e < span[1]; e++ {
+						if math.Float64bits(fkK[e][0]) != math.Float64bits(s.fk[e][0]) || math.Float64bits(fkK[e][1]) != math.Float64bits(s.fk[e][1]) {
+							t.Fatalf("%s %s: edge %d: flux and share %v by the %d-entry row kernel, %v packed", spec.Kind, name, e, fkK[e], r.N, s.fk[e])
+						}
+						if s.lu != nil && math.Float64bits(luK[e]) != math.Float64bits(s.lu[e]) {
+							t.Fatalf("%s %s: edge %d: H v %g by the %d-entry row kernel, %g packed", spec.Kind, name, e, luK[e], r.N, s.lu[e])
+						}
 					}
 				}
 			}

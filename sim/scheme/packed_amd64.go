@@ -146,3 +146,57 @@ func edgesPacked(h, u, l, d []float64, cells []int32, fk []pair) int {
 	edgesSSE2(&a)
 	return n
 }
+
+// hodgeArgs is what the packed Hodge-row kernels read, in the layout of
+// their offsets (packed_amd64.s).
+type hodgeArgs struct {
+	col, val, vh, vhe, h, cells, fk, lu unsafe.Pointer
+	n                                   int
+	half                                float64
+}
+
+// hodge5SSE2, hodge7SSE2 and hodge11SSE2 run hodgeRows5, hodgeRows7 and
+// hodgeRows11 with hodgeFlux on a.n edges (packed_amd64.s).
+//
+//go:noescape
+func hodge5SSE2(a *hodgeArgs)
+
+//go:noescape
+func hodge7SSE2(a *hodgeArgs)
+
+//go:noescape
+func hodge11SSE2(a *hodgeArgs)
+
+// hodgePacked runs the rows of the general Hodge star for the edges
+// [lo, hi), all of n entries, packed, and reports true, or reports false
+// where no packed kernel has rows of n entries.
+func (c *core) hodgePacked(n, lo, hi int) bool {
+	if n != 5 && n != 7 && n != 11 {
+		return false
+	}
+	if lo >= hi {
+		return true
+	}
+	k := int(c.hodge.Start[lo])
+	m := n * (hi - lo)
+	col, val := c.hodge.Col[k:k+m], c.hodge.Val[k:k+m]
+	cells, fk, vhe := c.g.EdgeCells[2*lo:2*hi], c.fk[lo:hi], c.vh[lo:hi]
+	a := hodgeArgs{
+		col: unsafe.Pointer(&col[0]), val: unsafe.Pointer(&val[0]), vh: unsafe.Pointer(&c.vh[0]),
+		vhe: unsafe.Pointer(&vhe[0]), h: unsafe.Pointer(&c.x[0]), cells: unsafe.Pointer(&cells[0]),
+		fk: unsafe.Pointer(&fk[0]), n: hi - lo, half: 0.5,
+	}
+	if c.lu != nil {
+		lu := c.lu[lo:hi]
+		a.lu = unsafe.Pointer(&lu[0])
+	}
+	switch n {
+	case 5:
+		hodge5SSE2(&a)
+	case 7:
+		hodge7SSE2(&a)
+	default:
+		hodge11SSE2(&a)
+	}
+	return true
+}

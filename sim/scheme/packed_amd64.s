@@ -482,3 +482,142 @@ edges:
 
 edgesdone:
 	RET
+
+// hodge5SSE2, hodge7SSE2 and hodge11SSE2 are hodgeRows5, hodgeRows7 and
+// hodgeRows11 with hodgeFlux: each row's sums ((H v)_e, (H (ĥ∘v))_e) as
+// one packed sum of products H_{e,j} (v_j, ĥ_j v_j), then the flux
+// ½(h_e (H v)_e + (H(ĥ∘v))_e) and v_e (H v)_e, the Go code's operations
+// in its order.
+//
+// Registers. DI: args; SI: the rows' columns; R10: their entries; R8:
+// vh; R9: h; R11: the edges' cells; R12: fk; R13: l u or 0; CX: the
+// edge's place in the range; BX: the number of edges; X6: the sums.
+
+// hodgeArgs offsets (hodgeArgs in packed_amd64.go)
+#define H_COL 0
+#define H_VAL 8
+#define H_VH 16
+#define H_VHE 24
+#define H_H 32
+#define H_CELLS 40
+#define H_FK 48
+#define H_LU 56
+#define H_N 64
+#define H_HALF 72
+
+// ENTRY adds entry r of the row to X6.
+#define ENTRY(r) \
+	MOVL     (4*r)(SI), AX \
+	SHLQ     $4, AX \
+	MOVUPD   (R8)(AX*1), X0 \
+	MOVSD    (8*r)(R10), X1 \
+	UNPCKLPD X1, X1 \
+	MULPD    X1, X0 \
+	ADDPD    X0, X6
+
+#define HSETUP \
+	MOVQ a+0(FP), DI \
+	MOVQ H_COL(DI), SI \
+	MOVQ H_VAL(DI), R10 \
+	MOVQ H_VH(DI), R8 \
+	MOVQ H_H(DI), R9 \
+	MOVQ H_CELLS(DI), R11 \
+	MOVQ H_FK(DI), R12 \
+	MOVQ H_LU(DI), R13 \
+	MOVQ H_N(DI), BX \
+	XORQ CX, CX
+
+// HFLUX stores the edge's flux and kinetic-energy share from X6 (and
+// (H v)_e to l u when there is one), and moves on by one row of len
+// entries.
+#define HFLUX(len) \
+	MOVL     0(R11), AX \
+	MOVL     4(R11), DX \
+	MOVSD    (R9)(AX*8), X1 \
+	ADDSD    (R9)(DX*8), X1 \
+	MULSD    H_HALF(DI), X1 \
+	MOVAPD   X6, X2 \
+	MULSD    X1, X2 \
+	MOVHLPS  X6, X3 \
+	ADDSD    X3, X2 \
+	MULSD    H_HALF(DI), X2 \
+	MOVQ     H_VHE(DI), AX \
+	LEAQ     (CX)(CX*1), DX \
+	MOVSD    (AX)(DX*8), X4 \
+	MULSD    X6, X4 \
+	UNPCKLPD X4, X2 \
+	MOVUPD   X2, (R12) \
+	TESTQ    R13, R13 \
+	JZ       3(PC) \
+	MOVSD    X6, (R13) \
+	ADDQ     $8, R13 \
+	ADDQ     $(4*len), SI \
+	ADDQ     $(8*len), R10 \
+	ADDQ     $8, R11 \
+	ADDQ     $16, R12 \
+	INCQ     CX
+
+// func hodge5SSE2(a *hodgeArgs)
+TEXT ·hodge5SSE2(SB), NOSPLIT, $0-8
+	HSETUP
+
+h5:
+	CMPQ  CX, BX
+	JGE   h5done
+	XORPD X6, X6
+	ENTRY(0)
+	ENTRY(1)
+	ENTRY(2)
+	ENTRY(3)
+	ENTRY(4)
+	HFLUX(5)
+	JMP   h5
+
+h5done:
+	RET
+
+// func hodge7SSE2(a *hodgeArgs)
+TEXT ·hodge7SSE2(SB), NOSPLIT, $0-8
+	HSETUP
+
+h7:
+	CMPQ  CX, BX
+	JGE   h7done
+	XORPD X6, X6
+	ENTRY(0)
+	ENTRY(1)
+	ENTRY(2)
+	ENTRY(3)
+	ENTRY(4)
+	ENTRY(5)
+	ENTRY(6)
+	HFLUX(7)
+	JMP   h7
+
+h7done:
+	RET
+
+// func hodge11SSE2(a *hodgeArgs)
+TEXT ·hodge11SSE2(SB), NOSPLIT, $0-8
+	HSETUP
+
+h11:
+	CMPQ  CX, BX
+	JGE   h11done
+	XORPD X6, X6
+	ENTRY(0)
+	ENTRY(1)
+	ENTRY(2)
+	ENTRY(3)
+	ENTRY(4)
+	ENTRY(5)
+	ENTRY(6)
+	ENTRY(7)
+	ENTRY(8)
+	ENTRY(9)
+	ENTRY(10)
+	HFLUX(11)
+	JMP   h11
+
+h11done:
+	RET

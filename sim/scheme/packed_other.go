@@ -16,3 +16,6 @@ func finishPacked(mode int, x, x0 []float64, tt []pair, d []float64, a, b, dt fl
 
 // edgesPacked does nothing on this build and reports no edges done.
 func edgesPacked(h, u, l, d []float64, cells []int32, fk []pair) int { return 0 }
+
+// hodgePacked reports false: this build has no packed kernels.
+func (c *core) hodgePacked(n, lo, hi int) bool { return false }

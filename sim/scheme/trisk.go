@@ -172,7 +172,7 @@ func (c *core) doCirculation(lo, hi int) {
 func (c *core) doHodge(lo, hi int) {
 	for _, r := range c.hodgeRuns {
 		a, b, ok := r.Clip(lo, hi)
-		if !ok {
+		if !ok || c.hodgePacked(int(r.N), a, b) {
 			continue
 		}
 		switch r.N {
