@@ -34,8 +34,9 @@ func quadCellsSSE2(a *cellArgs)
 func triCellsSSE2(a *cellArgs)
 
 // packedKernels reports whether this build has the packed kernels (the
-// cell kernels cells6, cells4 and cells3, the edge pass and the
-// finishing pass); the tests check that they give the Go loops' bits.
+// cell kernels cells6, cells4 and cells3, the edge pass, the finishing
+// pass and the Hodge rows); the tests check that they give the Go loops'
+// bits.
 const packedKernels = true
 
 // cellsPacked runs the kernel for cells of n edges (6, 4 or 3) on
