@@ -132,7 +132,8 @@ func (r RowRun) Clip(lo, hi int) (a, b int, ok bool) {
 	return a, b, a < b
 }
 
-// NewPVStencil precomputes the signed dual lengths of g.
+// NewPVStencil precomputes, per vertex slot of g, the signed dual length
+// beside the kite area and the edge beside the cell.
 func NewPVStencil(g Grid) *PVStencil {
 	s := &PVStencil{g: g, tk: make([][2]float64, len(g.VertexEdges)), ec: make([][2]int32, len(g.VertexEdges))}
 	for k, e := range g.VertexEdges {

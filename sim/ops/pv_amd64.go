@@ -23,9 +23,9 @@ func pv4SSE2(a *pvArgs)
 //go:noescape
 func pv6SSE2(a *pvArgs)
 
-// pvKernelsPacked reports whether this build has the packed PV kernels;
+// packedKernels reports whether this build has the packed PV kernels;
 // the tests check that they give the Go loops' bits.
-const pvKernelsPacked = true
+const packedKernels = true
 
 // pvPacked sets q[j] = q_{lo+j} for the largest even number of the
 // vertices of q, all of deg edges (3, 4 or 6), and returns that number.

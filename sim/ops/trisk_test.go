@@ -96,7 +96,7 @@ func TestPVStencilMatchesGrid(t *testing.T) {
 		if r := s.runs[0]; r.N == 3 || r.N == 4 || r.N == 6 {
 			n := int(r.Hi-r.Lo) - 1 // odd, so that the Go loop does the last vertex
 			wantDone := 0
-			if pvKernelsPacked {
+			if packedKernels {
 				wantDone = n &^ 1
 			}
 			if done := s.pvPacked(int(r.N), make([]float64, n), f, u, h, int(r.Lo)); done != wantDone {

@@ -3,7 +3,6 @@
 package scheme
 
 import (
-	"math"
 	"strconv"
 	"unsafe"
 )
@@ -18,7 +17,7 @@ type cellArgs struct {
 	mode, enst               int // mode: 0 a tendency, 1 the stage h + Δt f, 2 a x0 + b (h + Δt f)
 	quarterSign              [2]float64
 	half, quarter            float64
-	sign                     uint64
+	sign                     uint64 // the sign bit, to negate by XOR
 }
 
 // hexCellsSSE2, quadCellsSSE2 and triCellsSSE2 run cells6, cells4 and
@@ -56,7 +55,7 @@ func (s *trisk) cellsPacked(n, lo, hi int) bool {
 		slots: unsafe.Pointer(&slots[0]), q: unsafe.Pointer(&s.q[0]),
 		fk: unsafe.Pointer(&s.fk[0]), tt: unsafe.Pointer(&s.tt[0]),
 		n: len(h), g: s.phys.G, a: s.stageA, b: s.stageB, dt: s.stageDt,
-		quarterSign: quarterSign, half: 0.5, quarter: 0.25, sign: math.Float64bits(math.Copysign(0, -1)),
+		quarterSign: quarterSign, half: 0.5, quarter: 0.25, sign: 1 << 63,
 	}
 	switch {
 	case dh != nil:
